@@ -60,10 +60,12 @@
 #![warn(missing_docs)]
 
 pub mod connectivity;
+pub mod engine;
 pub mod geometry;
 pub mod network;
 pub mod numeric;
 pub mod progress;
+pub mod study;
 pub mod validate;
 
 pub use network::{

@@ -1,0 +1,252 @@
+//! Drainage: the non-aqueous phase invades from the inlet face as the
+//! capillary pressure rises — invasion percolation (Wilkinson & Willemsen
+//! 1983, J. Phys. A 16:3365–3376) with the entry pressures of
+//! [`crate::capillary::drainage_entry_pc`].
+//!
+//! Rules:
+//! - an element can be invaded when it is an inlet pore (the non-aqueous
+//!   reservoir is at the inlet face) or touches an element whose
+//!   non-aqueous phase (bulk or layer) is connected to the inlet supply;
+//! - with [`OutletRule::SemiPermeable`] outlet pores are never invaded;
+//! - water leaves only through the outlet face. It stays connected through
+//!   bulk water and through the corner films of drained angular elements
+//!   (corners with θ < π/2 − β). Water that loses every such path to an
+//!   outlet pore is trapped and keeps its volume;
+//! - when the invading phase touches a trapped cluster of the non-aqueous
+//!   phase (secondary drainage), the cluster reconnects.
+
+use rayon::prelude::*;
+
+use super::queue::{EventKind, Order, ThresholdQueue};
+use super::{Engine, Mode};
+use crate::capillary;
+use crate::network::Boundary;
+use crate::study::OutletRule;
+
+impl Engine<'_> {
+    /// Starts a drainage from the current state.
+    pub fn begin_drainage(&mut self) {
+        self.mode = Mode::Drainage;
+        let n_e = self.volume.len();
+        let sigma = self.setup.sigma;
+        self.entry = (0..n_e)
+            .into_par_iter()
+            .map(|e| capillary::drainage_entry_pc(&self.section(e), self.angles.receding[e], sigma))
+            .collect();
+        let d = &mut self.dyn_;
+        d.queue = ThresholdQueue::new(n_e, Order::Ascending);
+        d.connected.iter_mut().for_each(|c| *c = false);
+        d.queued.iter_mut().for_each(|q| *q = false);
+        d.counts = Default::default();
+        d.events = 0;
+        d.breakthrough_pc = None;
+        // Oil connected to the inlet supply (secondary drainage: what
+        // imbibition left connected to inlet pores).
+        let mut stack: Vec<usize> = (0..self.n_p)
+            .filter(|&p| self.boundary(p) == Boundary::Inlet && self.dyn_.state.conducts_oil(p))
+            .collect();
+        for &p in &stack {
+            self.dyn_.connected[p] = true;
+        }
+        while let Some(x) = stack.pop() {
+            self.reconnect_from(x, &mut stack);
+        }
+        // Initial accessible elements.
+        for p in 0..self.n_p {
+            if self.boundary(p) == Boundary::Inlet {
+                self.push_drainage(p);
+            }
+        }
+        for e in 0..n_e {
+            if self.dyn_.connected[e] {
+                let mut nb = Vec::with_capacity(8);
+                self.for_each_neighbour(e, |n| nb.push(n));
+                for n in nb {
+                    self.push_drainage(n);
+                }
+            }
+        }
+    }
+
+    /// Marks the unconnected oil around `x` as connected, pushing onto
+    /// `stack`; a reconnected trapped element is released.
+    fn reconnect_from(&mut self, x: usize, stack: &mut Vec<usize>) {
+        let mut nb = [usize::MAX; 64];
+        let mut k = 0;
+        self.for_each_neighbour(x, |n| {
+            if k < nb.len() {
+                nb[k] = n;
+                k += 1;
+            }
+        });
+        if k == nb.len() {
+            // Very high coordination: fall back to a vector.
+            let mut v = Vec::new();
+            self.for_each_neighbour(x, |n| v.push(n));
+            for n in v {
+                self.reconnect_one(n, stack);
+            }
+            return;
+        }
+        for &n in &nb[..k] {
+            self.reconnect_one(n, stack);
+        }
+    }
+
+    fn reconnect_one(&mut self, n: usize, stack: &mut Vec<usize>) {
+        let s = &mut self.dyn_.state;
+        if s.conducts_oil(n) && !self.dyn_.connected[n] {
+            self.dyn_.connected[n] = true;
+            if s.oil_trapped[n] {
+                s.oil_trapped[n] = false;
+                s.frozen_pc[n] = f64::NAN;
+                s.ganglion[n] = super::state::NO_GANGLION;
+            }
+            stack.push(n);
+        }
+    }
+
+    /// Queues element `e` for invasion if it can be invaded.
+    fn push_drainage(&mut self, e: usize) {
+        let s = &self.dyn_.state;
+        if s.oil[e] || s.water_trapped[e] || self.dyn_.queued[e] {
+            return;
+        }
+        if self.setup.outlet == OutletRule::SemiPermeable && self.boundary(e) == Boundary::Outlet {
+            return;
+        }
+        self.dyn_.queued[e] = true;
+        self.dyn_.queue.set(e, self.entry[e], EventKind::Piston);
+    }
+
+    /// True when element `x` conducts water that is not trapped.
+    #[inline]
+    fn conducts_water(&self, x: usize) -> bool {
+        let s = &self.dyn_.state;
+        !s.water_trapped[x] && (!s.oil[x] || self.wet[x] != 0)
+    }
+
+    /// Fills element `e` with the non-aqueous phase at the current Pc.
+    pub(super) fn fill_oil(&mut self, e: usize) {
+        let pc = self.dyn_.state.pc;
+        {
+            let d = &mut self.dyn_;
+            let s = &mut d.state;
+            s.oil[e] = true;
+            s.layers[e] = 0;
+            s.contacted[e] = true;
+            s.pc_max[e] = pc;
+            s.oil_trapped[e] = false;
+            s.ganglion[e] = super::state::NO_GANGLION;
+            if !s.water_trapped[e] {
+                s.frozen_pc[e] = f64::NAN;
+            }
+            d.connected[e] = true;
+            d.bulk_oil_volume += self.volume[e];
+            d.events += 1;
+        }
+        if e < self.n_p {
+            self.dyn_.counts.drainage_pores += 1;
+        } else {
+            self.dyn_.counts.drainage_throats += 1;
+        }
+        if self.dyn_.breakthrough_pc.is_none() {
+            let reached = match self.setup.outlet {
+                OutletRule::Open => self.boundary(e) == Boundary::Outlet,
+                OutletRule::SemiPermeable => {
+                    let mut r = false;
+                    self.for_each_neighbour(e, |n| r |= self.boundary(n) == Boundary::Outlet);
+                    r && e >= self.n_p
+                }
+            };
+            if reached {
+                self.dyn_.breakthrough_pc = Some(pc);
+            }
+        }
+        // Reconnect unconnected non-aqueous clusters touched by e.
+        let mut stack = vec![e];
+        let mut reconnected = Vec::new();
+        while let Some(x) = stack.pop() {
+            let before = stack.len();
+            self.reconnect_from(x, &mut stack);
+            reconnected.extend_from_slice(&stack[before..]);
+        }
+        if !reconnected.is_empty() {
+            self.dyn_.counts.reconnections += 1;
+        }
+        // New accessible neighbours.
+        let mut nb = Vec::with_capacity(8);
+        self.for_each_neighbour(e, |n| nb.push(n));
+        for &n in &nb {
+            self.push_drainage(n);
+        }
+        for &x in &reconnected {
+            let mut nb2 = Vec::with_capacity(8);
+            self.for_each_neighbour(x, |n| nb2.push(n));
+            for n in nb2 {
+                self.push_drainage(n);
+            }
+        }
+        // Water trapping: e no longer passes water unless its corners do.
+        if self.wet[e] == 0 {
+            let seeds: Vec<usize> = nb.iter().copied().filter(|&n| self.conducts_water(n)).collect();
+            let one_must_escape = self.boundary(e) != Boundary::Outlet;
+            self.trap_water(&seeds, one_must_escape);
+        }
+    }
+
+    fn trap_water(&mut self, seeds: &[usize], one_must_escape: bool) {
+        if seeds.is_empty() {
+            return;
+        }
+        let mut pieces: Vec<Vec<u32>> = Vec::new();
+        let mut search = std::mem::replace(&mut self.search, super::trapping::SplitSearch::new(0));
+        search.run(
+            seeds,
+            |x| self.conducts_water(x),
+            |x| self.boundary(x) == Boundary::Outlet,
+            |x, f| self.for_each_neighbour(x, f),
+            one_must_escape,
+            |p| pieces.push(p.to_vec()),
+        );
+        self.search = search;
+        let pc = self.dyn_.state.pc;
+        for piece in pieces {
+            self.dyn_.counts.trapped_water_clusters += 1;
+            for &x in &piece {
+                let x = x as usize;
+                let s = &mut self.dyn_.state;
+                s.water_trapped[x] = true;
+                if s.frozen_pc[x].is_nan() {
+                    s.frozen_pc[x] = pc;
+                }
+                if !s.oil[x] {
+                    self.dyn_.queue.cancel(x);
+                }
+            }
+        }
+    }
+
+    /// Applies the next drainage event (already popped).
+    pub(super) fn apply_drainage_event(&mut self, e: usize) {
+        self.dyn_.queued[e] = false;
+        let s = &self.dyn_.state;
+        if s.oil[e] || s.water_trapped[e] {
+            return;
+        }
+        self.fill_oil(e);
+    }
+
+    /// Ends a drainage: every connected oil-filled element has seen the
+    /// final capillary pressure.
+    pub fn end_drainage(&mut self) {
+        let pc = self.dyn_.state.pc;
+        let d = &mut self.dyn_;
+        for e in 0..d.state.oil.len() {
+            if d.state.oil[e] && !d.state.oil_trapped[e] && d.state.pc_max[e] < pc {
+                d.state.pc_max[e] = pc;
+            }
+        }
+        self.mode = Mode::Idle;
+    }
+}

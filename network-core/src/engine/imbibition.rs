@@ -1,0 +1,445 @@
+//! Imbibition: water invades as the capillary pressure falls. Each
+//! oil-filled element carries one pending event, the highest of the
+//! mechanisms open to it:
+//! - piston-like advance from a water-filled neighbour
+//!   ([`crate::capillary::piston_imbibition_pc`], with the hinging corner
+//!   menisci of Ma, Mason & Morrow 1996);
+//! - cooperative pore filling `I_n` in water-wet pores with `n ≥ 2`
+//!   oil-filled throats (Lenormand, Zarcone & Sarr 1983; the parametric
+//!   model of Blunt 1998, see [`crate::capillary::cooperative_fill_pc`]);
+//! - snap-off by swelling corner water
+//!   ([`crate::capillary::snap_off_pc`]; Mason & Morrow 1991; Øren et al.
+//!   1998; Valvatne & Blunt 2004), which needs no water-filled neighbour.
+//!   Competing with piston-like advance through the thresholds, it is the
+//!   network form of Roof's (1970) criterion;
+//! - in water-filled elements with oil layers, layer collapse
+//!   ([`crate::capillary::layer_collapse_pc`]; Hui & Blunt 2000).
+//!
+//! Water enters through the inlet face (both faces with
+//! [`ImbibitionFaces::Both`]) and is taken as continuous through bulk water
+//! and corner films, except water trapped by drainage, which invades nothing
+//! until the invading water reaches it. The non-aqueous phase leaves through
+//! the outlet face (both faces with `Both`); a cluster of it (bulk and
+//! layers) with no path to such a face is trapped and frozen at the
+//! capillary pressure of trapping (common practice).
+
+use std::f64::consts::FRAC_PI_2;
+
+use rayon::prelude::*;
+
+use super::queue::{Event, EventKind, Order, ThresholdQueue};
+use super::{Engine, ImbibitionFaces, Mode};
+use crate::capillary;
+use crate::network::Boundary;
+use crate::numeric::unit_hash;
+
+const STREAM_COOPERATIVE: u64 = 0x636f_6f70;
+
+impl Engine<'_> {
+    /// True when the non-aqueous phase leaves the network at element `e`.
+    #[inline]
+    pub(super) fn is_oil_exit(&self, e: usize) -> bool {
+        match self.boundary(e) {
+            Boundary::Outlet => true,
+            Boundary::Inlet => self.setup.imbibition_faces == ImbibitionFaces::Both,
+            Boundary::Interior => false,
+        }
+    }
+
+    /// True when water enters the network at element `e`.
+    #[inline]
+    fn is_water_entry(&self, e: usize) -> bool {
+        match self.boundary(e) {
+            Boundary::Inlet => true,
+            Boundary::Outlet => self.setup.imbibition_faces == ImbibitionFaces::Both,
+            Boundary::Interior => false,
+        }
+    }
+
+    #[inline]
+    fn conducts_free_oil(&self, x: usize) -> bool {
+        let s = &self.dyn_.state;
+        s.conducts_oil(x) && !s.oil_trapped[x]
+    }
+
+    /// Starts an imbibition from the current state.
+    pub fn begin_imbibition(&mut self) {
+        self.mode = Mode::Imbibition;
+        let n_e = self.volume.len();
+        let sigma = self.setup.sigma;
+        let snap_allowed = self.setup.mechanisms.snap_off;
+        {
+            let s = &self.dyn_.state;
+            let a = &self.angles;
+            let wet = &self.wet;
+            self.piston = (0..n_e)
+                .into_par_iter()
+                .map(|e| {
+                    if s.oil[e] {
+                        capillary::piston_imbibition_pc(
+                            &self.section(e),
+                            a.pinned_receding[e],
+                            a.advancing[e],
+                            s.pc_max[e],
+                            sigma,
+                        )
+                    } else {
+                        f64::NAN
+                    }
+                })
+                .collect();
+            self.snap = (0..n_e)
+                .into_par_iter()
+                .map(|e| {
+                    if snap_allowed && s.oil[e] && wet[e] != 0 {
+                        capillary::snap_off_pc(
+                            &self.section(e),
+                            a.pinned_receding[e],
+                            a.advancing[e],
+                            s.pc_max[e],
+                            sigma,
+                        )
+                        .unwrap_or(f64::NAN)
+                    } else {
+                        f64::NAN
+                    }
+                })
+                .collect();
+        }
+        let d = &mut self.dyn_;
+        d.queue = ThresholdQueue::new(n_e, Order::Descending);
+        d.counts = Default::default();
+        d.events = 0;
+        d.breakthrough_pc = None;
+        // Non-aqueous phase with no path to an exit face is trapped from
+        // the start.
+        let mut reach = vec![false; n_e];
+        let mut stack: Vec<usize> = (0..self.n_p)
+            .filter(|&p| self.is_oil_exit(p) && self.conducts_free_oil(p))
+            .collect();
+        for &p in &stack {
+            reach[p] = true;
+        }
+        while let Some(x) = stack.pop() {
+            let mut nb = Vec::with_capacity(8);
+            self.for_each_neighbour(x, |n| nb.push(n));
+            for n in nb {
+                if !reach[n] && self.conducts_free_oil(n) {
+                    reach[n] = true;
+                    stack.push(n);
+                }
+            }
+        }
+        for e in 0..n_e {
+            if self.conducts_free_oil(e) && !reach[e] {
+                let mut piece = vec![e as u32];
+                reach[e] = true;
+                let mut k = 0;
+                while k < piece.len() {
+                    let x = piece[k] as usize;
+                    k += 1;
+                    let mut nb = Vec::with_capacity(8);
+                    self.for_each_neighbour(x, |n| nb.push(n));
+                    for n in nb {
+                        if !reach[n] && self.conducts_free_oil(n) {
+                            reach[n] = true;
+                            piece.push(n as u32);
+                        }
+                    }
+                }
+                self.mark_oil_trapped(&piece);
+            }
+        }
+        for e in 0..n_e {
+            let s = &self.dyn_.state;
+            if s.oil[e] && !s.oil_trapped[e] {
+                self.update_imbibition(e);
+            } else if !s.oil[e] && s.layers[e] != 0 && !s.oil_trapped[e] {
+                self.queue_layer_collapse(e);
+            }
+        }
+    }
+
+    fn mark_oil_trapped(&mut self, piece: &[u32]) {
+        let id = self.new_ganglion();
+        let pc = self.dyn_.state.pc;
+        self.dyn_.counts.trapped_oil_clusters += 1;
+        for &x in piece {
+            let x = x as usize;
+            let s = &mut self.dyn_.state;
+            s.oil_trapped[x] = true;
+            s.ganglion[x] = id;
+            if s.frozen_pc[x].is_nan() {
+                s.frozen_pc[x] = pc;
+            }
+            self.dyn_.queue.cancel(x);
+        }
+    }
+
+    /// Recomputes the pending event of oil-filled element `e`.
+    fn update_imbibition(&mut self, e: usize) {
+        let s = &self.dyn_.state;
+        if !s.oil[e] || s.oil_trapped[e] {
+            self.dyn_.queue.cancel(e);
+            return;
+        }
+        let mut access = self.is_water_entry(e);
+        let mut n_oil_throats = 0usize;
+        let mut n_throats = 0usize;
+        self.for_each_neighbour(e, |n| {
+            if !s.oil[n] && !s.water_trapped[n] {
+                access = true;
+            }
+            n_throats += 1;
+            if s.oil[n] {
+                n_oil_throats += 1;
+            }
+        });
+        let mut best = f64::NEG_INFINITY;
+        let mut kind = EventKind::Piston;
+        if access {
+            let theta_a = self.angles.advancing[e];
+            if e < self.n_p && theta_a < FRAC_PI_2 && n_oil_throats >= 2 {
+                best = self.cooperative_pc(e, n_oil_throats, n_throats);
+                kind = EventKind::Cooperative;
+            } else {
+                best = self.piston[e];
+            }
+        }
+        let snap = self.snap[e];
+        if snap.is_finite() && !s.water_trapped[e] && snap > best {
+            best = snap;
+            kind = EventKind::SnapOff;
+        }
+        if best.is_finite() {
+            self.dyn_.queue.set(e, best, kind);
+        } else {
+            self.dyn_.queue.cancel(e);
+        }
+    }
+
+    fn cooperative_pc(&self, p: usize, n_oil: usize, n_throats: usize) -> f64 {
+        let w = &self.setup.mechanisms.cooperative_weights;
+        let mut weights = [0.0f64; 32];
+        let mut draws = [0.0f64; 32];
+        let n = n_oil.min(32);
+        for i in 0..n {
+            weights[i] = w[i.min(w.len() - 1)] * self.coop_scale;
+            draws[i] = unit_hash(self.setup.seed, STREAM_COOPERATIVE, (p as u64) << 5 | i as u64);
+        }
+        capillary::cooperative_fill_pc(
+            self.setup.geometry.radius[p],
+            self.angles.advancing[p],
+            self.setup.sigma,
+            n_oil,
+            n_throats,
+            &weights[..n],
+            &draws[..n],
+        )
+        .min(self.piston[p])
+    }
+
+    fn layer_collapse(&self, e: usize, corner: usize) -> f64 {
+        let beta = self.section(e).corners[corner];
+        capillary::layer_collapse_pc(
+            self.angles.pinned_receding[e],
+            self.angles.advancing[e],
+            beta,
+            self.dyn_.state.pc_max[e],
+            self.setup.sigma,
+        )
+        .unwrap_or(f64::INFINITY)
+    }
+
+    fn queue_layer_collapse(&mut self, e: usize) {
+        let mask = self.dyn_.state.layers[e];
+        let mut best = f64::NEG_INFINITY;
+        for i in 0..8 {
+            if mask & (1 << i) != 0 {
+                best = best.max(self.layer_collapse(e, i));
+            }
+        }
+        if best.is_finite() {
+            self.dyn_.queue.set(e, best, EventKind::LayerCollapse);
+        } else {
+            // A layer that is unstable at once collapses now.
+            let pc = self.dyn_.state.pc;
+            self.dyn_.queue.set(e, pc, EventKind::LayerCollapse);
+        }
+    }
+
+    /// Applies a popped imbibition event.
+    pub(super) fn apply_imbibition_event(&mut self, ev: Event) {
+        let e = ev.element;
+        match ev.kind {
+            EventKind::LayerCollapse => {
+                if self.dyn_.state.layers[e] != 0 && !self.dyn_.state.oil_trapped[e] {
+                    self.collapse_layer(e);
+                }
+            }
+            kind => {
+                let s = &self.dyn_.state;
+                if s.oil[e] && !s.oil_trapped[e] {
+                    self.fill_water(e, kind);
+                }
+            }
+        }
+    }
+
+    fn fill_water(&mut self, e: usize, kind: EventKind) {
+        let pc = self.dyn_.state.pc;
+        let is_pore = e < self.n_p;
+        let mut n_oil_throats = 0usize;
+        if kind == EventKind::Cooperative {
+            let s = &self.dyn_.state;
+            self.for_each_neighbour(e, |n| n_oil_throats += s.oil[n] as usize);
+        }
+        {
+            let d = &mut self.dyn_;
+            d.state.oil[e] = false;
+            d.bulk_oil_volume -= self.volume[e];
+            d.events += 1;
+            let c = &mut d.counts;
+            match (kind, is_pore) {
+                (EventKind::SnapOff, true) => c.snap_off_pores += 1,
+                (EventKind::SnapOff, false) => c.snap_off_throats += 1,
+                (EventKind::Cooperative, _) => {
+                    if c.cooperative.len() <= n_oil_throats {
+                        c.cooperative.resize(n_oil_throats + 1, 0);
+                    }
+                    c.cooperative[n_oil_throats] += 1;
+                }
+                (_, true) => c.piston_pores += 1,
+                (_, false) => c.piston_throats += 1,
+            }
+            if d.breakthrough_pc.is_none() && self.boundary(e) == Boundary::Outlet {
+                d.breakthrough_pc = Some(pc);
+            }
+        }
+        // Oil layers in corners whose water stays and whose wall is oil-wet
+        // enough (θa > π/2 + β; Hui & Blunt 2000).
+        if self.setup.mechanisms.oil_layers && self.wet[e] != 0 {
+            let theta_a = self.angles.advancing[e];
+            let corners = self.section(e).corners.len();
+            let mut mask = 0u8;
+            for i in 0..corners {
+                if self.wet[e] & (1 << i) != 0 {
+                    let beta = self.section(e).corners[i];
+                    if capillary::layer_can_form(theta_a, beta) && self.layer_collapse(e, i) < pc {
+                        mask |= 1 << i;
+                    }
+                }
+            }
+            if mask != 0 {
+                self.dyn_.state.layers[e] = mask;
+                self.dyn_.counts.layers_formed += mask.count_ones() as u64;
+                self.queue_layer_collapse(e);
+            }
+        }
+        let mut nb = Vec::with_capacity(8);
+        self.for_each_neighbour(e, |n| nb.push(n));
+        self.release_water(&nb);
+        if !self.dyn_.state.conducts_oil(e) {
+            let seeds: Vec<usize> = nb.iter().copied().filter(|&n| self.conducts_free_oil(n)).collect();
+            self.trap_oil(&seeds, !self.is_oil_exit(e));
+        }
+        for &n in &nb {
+            if self.dyn_.state.oil[n] {
+                self.update_imbibition(n);
+            }
+        }
+    }
+
+    fn collapse_layer(&mut self, e: usize) {
+        let mask = self.dyn_.state.layers[e];
+        let mut best = (f64::NEG_INFINITY, 0usize);
+        for i in 0..8 {
+            if mask & (1 << i) != 0 {
+                let c = self.layer_collapse(e, i);
+                if c > best.0 || best.0 == f64::NEG_INFINITY {
+                    best = (c, i);
+                }
+            }
+        }
+        self.dyn_.state.layers[e] = mask & !(1 << best.1);
+        self.dyn_.counts.layer_collapses += 1;
+        self.dyn_.events += 1;
+        if self.dyn_.state.layers[e] != 0 {
+            self.queue_layer_collapse(e);
+            return;
+        }
+        let mut nb = Vec::with_capacity(8);
+        self.for_each_neighbour(e, |n| nb.push(n));
+        let seeds: Vec<usize> = nb.iter().copied().filter(|&n| self.conducts_free_oil(n)).collect();
+        self.trap_oil(&seeds, !self.is_oil_exit(e));
+    }
+
+    fn trap_oil(&mut self, seeds: &[usize], one_must_escape: bool) {
+        if seeds.is_empty() {
+            return;
+        }
+        let mut pieces: Vec<Vec<u32>> = Vec::new();
+        let mut search = std::mem::replace(&mut self.search, super::trapping::SplitSearch::new(0));
+        search.run(
+            seeds,
+            |x| self.conducts_free_oil(x),
+            |x| self.is_oil_exit(x),
+            |x, f| self.for_each_neighbour(x, f),
+            one_must_escape,
+            |p| pieces.push(p.to_vec()),
+        );
+        self.search = search;
+        for piece in pieces {
+            self.mark_oil_trapped(&piece);
+        }
+    }
+
+    /// Water trapped by drainage next to the invading water reconnects.
+    fn release_water(&mut self, around: &[usize]) {
+        let mut stack: Vec<usize> = Vec::new();
+        for &n in around {
+            let s = &mut self.dyn_.state;
+            if s.water_trapped[n] {
+                s.water_trapped[n] = false;
+                if !s.oil_trapped[n] {
+                    s.frozen_pc[n] = f64::NAN;
+                }
+                stack.push(n);
+            }
+        }
+        if stack.is_empty() {
+            return;
+        }
+        self.dyn_.counts.reconnections += 1;
+        let mut released = stack.clone();
+        while let Some(x) = stack.pop() {
+            let mut nb = Vec::with_capacity(8);
+            self.for_each_neighbour(x, |n| nb.push(n));
+            for n in nb {
+                let s = &mut self.dyn_.state;
+                if s.water_trapped[n] {
+                    s.water_trapped[n] = false;
+                    if !s.oil_trapped[n] {
+                        s.frozen_pc[n] = f64::NAN;
+                    }
+                    stack.push(n);
+                    released.push(n);
+                }
+            }
+        }
+        for x in released {
+            let mut nb = vec![x];
+            self.for_each_neighbour(x, |n| nb.push(n));
+            for n in nb {
+                if self.dyn_.state.oil[n] {
+                    self.update_imbibition(n);
+                }
+            }
+        }
+    }
+
+    /// Ends an imbibition.
+    pub fn end_imbibition(&mut self) {
+        self.mode = Mode::Idle;
+    }
+}

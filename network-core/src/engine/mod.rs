@@ -1,0 +1,339 @@
+//! The displacement engine: one event queue, one state array and one
+//! trapping search serve every process (drainage, imbibition, secondary
+//! drainage) over the shared element index space (pores first, then
+//! throats).
+//!
+//! - [`queue`]: thresholds ordered by capillary pressure, lazy deletion.
+//! - [`state`]: occupancy columns.
+//! - [`trapping`]: bounded interleaved split searches.
+//! - [`drainage`] and [`imbibition`]: event thresholds and their effects,
+//!   calling the single-element physics of [`crate::capillary`].
+//! - [`saturation`]: phase volumes at a recorded point (parallel).
+//! - [`process`]: pressure steps, recorded points and stopping rules.
+//!
+//! The event loop is sequential and deterministic; only the per-element
+//! kernels (thresholds, saturations) run in parallel, with fixed grouping.
+
+pub mod drainage;
+pub mod imbibition;
+pub mod process;
+pub mod queue;
+pub mod saturation;
+pub mod state;
+pub mod trapping;
+
+use serde::{Deserialize, Serialize};
+
+use crate::capillary::Section;
+use crate::geometry::Geometry;
+use crate::network::{Boundary, Network};
+use crate::study::{MechanismOptions, OutletRule};
+use crate::wettability::ContactAngles;
+
+use queue::{Order, ThresholdQueue};
+use state::State;
+use trapping::SplitSearch;
+
+/// Faces through which the displaced non-aqueous phase may leave during
+/// imbibition (and through which water enters).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "kebab-case")]
+pub enum ImbibitionFaces {
+    /// Water enters at the inlet face; the non-aqueous phase leaves at the
+    /// outlet face (a waterflood).
+    #[default]
+    Outlet,
+    /// Both faces are in contact with water and let the non-aqueous phase
+    /// out (a sample surrounded by water).
+    Both,
+}
+
+/// Fixed inputs of the engine.
+#[derive(Clone, Debug)]
+pub struct Setup<'a> {
+    /// The network.
+    pub network: &'a Network,
+    /// Its derived geometry.
+    pub geometry: &'a Geometry,
+    /// Interfacial tension, N/m.
+    pub sigma: f64,
+    /// What the outlet lets through in drainage.
+    pub outlet: OutletRule,
+    /// Faces open to the displaced phase in imbibition.
+    pub imbibition_faces: ImbibitionFaces,
+    /// Mechanism switches and cooperative-filling weights.
+    pub mechanisms: MechanismOptions,
+    /// Seed of the per-element random draws of the mechanisms.
+    pub seed: u64,
+}
+
+/// Which process the engine is running.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
+pub enum Mode {
+    /// No process yet.
+    Idle,
+    /// Drainage: the non-aqueous phase invades from the inlet.
+    Drainage,
+    /// Imbibition: water invades.
+    Imbibition,
+}
+
+/// Counts of events by mechanism.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct EventCounts {
+    /// Pores invaded by the non-aqueous phase (drainage).
+    pub drainage_pores: u64,
+    /// Throats invaded by the non-aqueous phase (drainage).
+    pub drainage_throats: u64,
+    /// Piston-like water filling of pores (`I_1`, or any `I_n` in oil-wet
+    /// pores).
+    pub piston_pores: u64,
+    /// Piston-like water filling of throats.
+    pub piston_throats: u64,
+    /// Snap-off in pores.
+    pub snap_off_pores: u64,
+    /// Snap-off in throats.
+    pub snap_off_throats: u64,
+    /// Cooperative pore filling by `n`, index `n` (n ≥ 2 oil-filled
+    /// throats left).
+    pub cooperative: Vec<u64>,
+    /// Oil layers formed.
+    pub layers_formed: u64,
+    /// Oil-layer collapses.
+    pub layer_collapses: u64,
+    /// Clusters of the non-aqueous phase that became trapped.
+    pub trapped_oil_clusters: u64,
+    /// Water clusters that became trapped.
+    pub trapped_water_clusters: u64,
+    /// Trapped clusters reconnected by the invading phase.
+    pub reconnections: u64,
+}
+
+/// Dynamic part of the engine (what a snapshot saves).
+#[derive(Clone, Debug)]
+pub struct Dynamic {
+    /// Occupancy.
+    pub state: State,
+    queue: ThresholdQueue,
+    /// Oil-conducting elements connected to the inlet supply (drainage).
+    connected: Vec<bool>,
+    /// Drainage: element is in the queue already.
+    queued: Vec<bool>,
+    /// Event counts of the current process.
+    pub counts: EventCounts,
+    /// Events applied in the current process.
+    pub events: u64,
+    /// Resolved volume of oil-filled centres (incremental), m³.
+    pub bulk_oil_volume: f64,
+    /// Capillary pressure of breakthrough in the current process.
+    pub breakthrough_pc: Option<f64>,
+    next_ganglion: u32,
+}
+
+/// The displacement engine.
+#[derive(Clone, Debug)]
+pub struct Engine<'a> {
+    setup: Setup<'a>,
+    n_p: usize,
+    /// Resolved volume per element, m³.
+    volume: Vec<f64>,
+    /// Clay volume per element, m³.
+    clay: Vec<f64>,
+    /// Bit `i`: corner `i` keeps water once the centre is drained (intrinsic
+    /// angle below π/2 − βᵢ; Concus & Finn 1969).
+    wet: Vec<u8>,
+    /// Contact angles (altered between drainage and imbibition).
+    pub angles: ContactAngles,
+    /// Dynamic state.
+    pub dyn_: Dynamic,
+    mode: Mode,
+    search: SplitSearch,
+    /// Drainage entry thresholds of the current drainage, Pa.
+    entry: Vec<f64>,
+    /// Piston-like imbibition thresholds of the current imbibition, Pa.
+    piston: Vec<f64>,
+    /// Snap-off thresholds of the current imbibition, Pa (NaN if none).
+    snap: Vec<f64>,
+    /// Cooperative filling scale `1/r̄_t`, 1/m.
+    coop_scale: f64,
+    pore_volume: f64,
+}
+
+impl<'a> Engine<'a> {
+    /// A fully water-saturated engine.
+    pub fn new(setup: Setup<'a>, angles: ContactAngles) -> Engine<'a> {
+        let net = setup.network;
+        let n_p = net.n_pores();
+        let n_e = net.n_elements();
+        let mut volume = Vec::with_capacity(n_e);
+        volume.extend_from_slice(&net.pores().volume);
+        volume.extend_from_slice(&net.throats().volume);
+        let mut clay = Vec::with_capacity(n_e);
+        clay.extend_from_slice(&net.pores().clay_volume);
+        clay.extend_from_slice(&net.throats().clay_volume);
+        let g = setup.geometry;
+        let wet: Vec<u8> = (0..n_e)
+            .map(|e| {
+                let mut m = 0u8;
+                for (i, &b) in g.corners(e).as_slice().iter().enumerate() {
+                    if angles.pinned_receding[e] < std::f64::consts::FRAC_PI_2 - b {
+                        m |= 1 << i;
+                    }
+                }
+                m
+            })
+            .collect();
+        let rt = &net.throats().radius;
+        let mean_rt = if rt.is_empty() {
+            1.0
+        } else {
+            rt.iter().sum::<f64>() / rt.len() as f64
+        };
+        let pore_volume = net.pore_volume();
+        Engine {
+            n_p,
+            volume,
+            clay,
+            wet,
+            angles,
+            dyn_: Dynamic {
+                state: State::water_filled(n_e),
+                queue: ThresholdQueue::new(n_e, Order::Ascending),
+                connected: vec![false; n_e],
+                queued: vec![false; n_e],
+                counts: EventCounts::default(),
+                events: 0,
+                bulk_oil_volume: 0.0,
+                breakthrough_pc: None,
+                next_ganglion: 0,
+            },
+            mode: Mode::Idle,
+            search: SplitSearch::new(n_e),
+            entry: Vec::new(),
+            piston: Vec::new(),
+            snap: Vec::new(),
+            coop_scale: 1.0 / mean_rt,
+            pore_volume,
+            setup,
+        }
+    }
+
+    /// The fixed inputs.
+    pub fn setup(&self) -> &Setup<'a> {
+        &self.setup
+    }
+
+    /// The occupancy state.
+    pub fn state(&self) -> &State {
+        &self.dyn_.state
+    }
+
+    /// The process being run.
+    pub fn mode(&self) -> Mode {
+        self.mode
+    }
+
+    /// Total pore volume (clay included), m³.
+    pub fn pore_volume(&self) -> f64 {
+        self.pore_volume
+    }
+
+    /// Resolved volume of each element, m³.
+    pub fn volumes(&self) -> &[f64] {
+        &self.volume
+    }
+
+    /// Clay volume of each element, m³.
+    pub fn clay_volumes(&self) -> &[f64] {
+        &self.clay
+    }
+
+    /// Wet-corner mask of each element.
+    pub fn wet_corners(&self) -> &[u8] {
+        &self.wet
+    }
+
+    /// Number of pores (the first element indices).
+    pub fn n_pores(&self) -> usize {
+        self.n_p
+    }
+
+    /// Elements visited by trapping searches and searches run.
+    pub fn trapping_cost(&self) -> (u64, u64) {
+        (self.search.visited_total, self.search.searches)
+    }
+
+    /// Saves the dynamic state (for bisection on a stopping rule).
+    pub fn snapshot(&self) -> Dynamic {
+        self.dyn_.clone()
+    }
+
+    /// Restores a snapshot taken during the current process.
+    pub fn restore(&mut self, d: Dynamic) {
+        self.dyn_ = d;
+    }
+
+    /// Cross-section of element `e`.
+    #[inline]
+    pub fn section(&self, e: usize) -> Section<'_> {
+        let g = self.setup.geometry;
+        let n = g.shape[e].n_corners();
+        let corners: &[f64] = if n == 4 {
+            &SQUARE_CORNERS
+        } else {
+            &g.half_angles[e][..n]
+        };
+        Section {
+            radius: g.radius[e],
+            shape_factor: g.shape_factor[e],
+            corners,
+        }
+    }
+
+    /// Calls `f` on every neighbour of element `e` (a pore's throats, a
+    /// throat's two pores).
+    #[inline]
+    pub fn for_each_neighbour(&self, e: usize, mut f: impl FnMut(usize)) {
+        let n_p = self.n_p;
+        if e < n_p {
+            for &t in self.setup.network.adjacency().throats_of(e) {
+                f(n_p + t as usize);
+            }
+        } else {
+            let [a, b] = self.setup.network.throats().pores[e - n_p];
+            f(a as usize);
+            f(b as usize);
+        }
+    }
+
+    /// The pore's face tag (throats are interior).
+    #[inline]
+    pub fn boundary(&self, e: usize) -> Boundary {
+        if e < self.n_p {
+            self.setup.network.pores().boundary[e]
+        } else {
+            Boundary::Interior
+        }
+    }
+
+    /// Applies the wettability alteration after primary drainage (see
+    /// [`ContactAngles::alter`]).
+    pub fn alter_wettability(&mut self, spec: &crate::study::WettabilitySpec) {
+        let g = self.setup.geometry;
+        self.angles.alter(
+            spec,
+            &self.dyn_.state.contacted,
+            self.n_p,
+            &g.radius,
+            self.setup.seed,
+        );
+    }
+
+    fn new_ganglion(&mut self) -> u32 {
+        let g = self.dyn_.next_ganglion;
+        self.dyn_.next_ganglion += 1;
+        g
+    }
+}
+
+const SQUARE_CORNERS: [f64; 4] = [std::f64::consts::FRAC_PI_4; 4];

@@ -1,0 +1,168 @@
+//! Phase volumes at a recorded point.
+//!
+//! Bulk occupancy is exact; corner water depends on the capillary pressure
+//! of every element, so it is computed here, in parallel with fixed
+//! grouping ([`crate::numeric::CHUNK`]), only when a point is recorded.
+//!
+//! Water in element `e` = clay volume + resolved volume × water area
+//! fraction of the cross-section (prism model: the fraction of area is the
+//! fraction of volume). For an oil-filled element the water area is its
+//! corner water: at a capillary pressure at or above the element's highest
+//! drainage pressure the receding menisci of [`capillary::drainage_corner_water_area`];
+//! below it the hinging menisci pinned by drainage of
+//! [`capillary::imbibition_corner_water_area`]. Trapped phases keep the
+//! capillary pressure at which they were trapped. For a water-filled element
+//! with oil layers the oil area is that of the layers.
+
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+use super::{Engine, Mode};
+use crate::capillary;
+use crate::numeric::CHUNK;
+
+/// Saturations and volumes at one state.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct Saturation {
+    /// Water saturation (fraction of pore volume, clay included).
+    pub sw: f64,
+    /// Non-aqueous saturation, `1 − sw`.
+    pub sn: f64,
+    /// Trapped non-aqueous saturation.
+    pub sn_trapped: f64,
+    /// Trapped (bulk and film) water saturation.
+    pub sw_trapped: f64,
+    /// Water in corners and films of oil-filled elements, fraction of pore
+    /// volume.
+    pub sw_corners: f64,
+    /// Non-aqueous phase in layers, fraction of pore volume.
+    pub sn_layers: f64,
+}
+
+#[derive(Clone, Copy, Default)]
+struct Sums {
+    water: f64,
+    oil: f64,
+    oil_trapped: f64,
+    water_trapped: f64,
+    corners: f64,
+    layers: f64,
+}
+
+impl Sums {
+    fn add(mut self, o: Sums) -> Sums {
+        self.water += o.water;
+        self.oil += o.oil;
+        self.oil_trapped += o.oil_trapped;
+        self.water_trapped += o.water_trapped;
+        self.corners += o.corners;
+        self.layers += o.layers;
+        self
+    }
+}
+
+impl Engine<'_> {
+    /// Water area of element `e` at the current state, m² (capped at the
+    /// cross-section), and the oil-layer area.
+    pub fn element_areas(&self, e: usize) -> (f64, f64) {
+        let s = &self.dyn_.state;
+        let sec = self.section(e);
+        let area = crate::geometry::area(sec.radius, sec.shape_factor);
+        let sigma = self.setup.sigma;
+        let pc = if s.frozen_pc[e].is_finite() {
+            s.frozen_pc[e]
+        } else {
+            s.pc
+        };
+        let theta_pin = self.angles.pinned_receding[e];
+        let mut pc_max = s.pc_max[e];
+        if s.oil[e] {
+            if self.wet[e] == 0 {
+                return (0.0, 0.0);
+            }
+            if self.mode == Mode::Drainage && !s.oil_trapped[e] && self.dyn_.connected[e] {
+                pc_max = pc_max.max(s.pc);
+            }
+            let a = if pc >= pc_max {
+                capillary::drainage_corner_water_area(&sec, theta_pin, sigma, pc)
+            } else {
+                capillary::imbibition_corner_water_area(
+                    &sec,
+                    theta_pin,
+                    self.angles.advancing[e],
+                    pc_max,
+                    sigma,
+                    pc,
+                )
+            };
+            (a.clamp(0.0, area), 0.0)
+        } else if s.layers[e] != 0 {
+            let mut oil = 0.0;
+            for (i, &beta) in sec.corners.iter().enumerate() {
+                if s.layers[e] & (1 << i) != 0 {
+                    oil += capillary::layer_area(
+                        theta_pin,
+                        self.angles.advancing[e],
+                        beta,
+                        pc_max,
+                        sigma,
+                        pc,
+                    );
+                }
+            }
+            let oil = oil.clamp(0.0, area);
+            (area - oil, oil)
+        } else {
+            (area, 0.0)
+        }
+    }
+
+    /// Saturations of the current state (parallel, deterministic).
+    pub fn saturation(&self) -> Saturation {
+        let n = self.volume.len();
+        let n_chunks = n.div_ceil(CHUNK);
+        let parts: Vec<Sums> = (0..n_chunks)
+            .into_par_iter()
+            .map(|c| {
+                let mut acc = Sums::default();
+                for e in c * CHUNK..((c + 1) * CHUNK).min(n) {
+                    let s = &self.dyn_.state;
+                    let v = self.volume[e];
+                    let (aw, ao_layer) = self.element_areas(e);
+                    let area = self.setup.geometry.area(e);
+                    let w = self.clay[e] + v * aw / area;
+                    let o = v - v * aw / area;
+                    acc.water += w;
+                    acc.oil += o;
+                    if s.oil_trapped[e] {
+                        acc.oil_trapped += o;
+                    }
+                    if s.water_trapped[e] {
+                        acc.water_trapped += w;
+                    }
+                    if s.oil[e] {
+                        acc.corners += v * aw / area;
+                    }
+                    acc.layers += v * ao_layer / area;
+                }
+                acc
+            })
+            .collect();
+        let t = parts.into_iter().fold(Sums::default(), Sums::add);
+        let pv = t.water + t.oil;
+        Saturation {
+            sw: t.water / pv,
+            sn: t.oil / pv,
+            sn_trapped: t.oil_trapped / pv,
+            sw_trapped: t.water_trapped / pv,
+            sw_corners: t.corners / pv,
+            sn_layers: t.layers / pv,
+        }
+    }
+
+    /// Bulk (centre) oil saturation from the incremental volume, a cheap
+    /// trigger for recording points.
+    pub fn bulk_oil_fraction(&self) -> f64 {
+        self.dyn_.bulk_oil_volume / self.pore_volume
+    }
+}

@@ -1,0 +1,361 @@
+//! A whole study run: geometry, wettability, every process in order, and the
+//! results as plain data (serde). No file access: the CLI reads the inputs
+//! and [`crate::io`] writes the outputs.
+
+use serde::{Deserialize, Serialize};
+
+use crate::engine::process::{ProcessOutcome, run_process};
+use crate::engine::state::NO_GANGLION;
+use crate::engine::{Engine, Setup};
+use crate::geometry::Geometry;
+use crate::indices::{self, WettabilityIndices};
+use crate::network::Network;
+use crate::progress::Progress;
+use crate::study::{ProcessKind, Study};
+use crate::wettability::ContactAngles;
+
+/// The program that made a result.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ProgramInfo {
+    /// Program name.
+    pub name: String,
+    /// Library version.
+    pub version: String,
+}
+
+impl Default for ProgramInfo {
+    fn default() -> Self {
+        ProgramInfo {
+            name: "ganglion".into(),
+            version: env!("CARGO_PKG_VERSION").into(),
+        }
+    }
+}
+
+/// Network facts echoed in results.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct NetworkSummary {
+    /// Name from `network.toml`.
+    pub name: String,
+    /// Content hash (filled in by the caller that read the file).
+    pub hash: String,
+    /// Number of pores.
+    pub pores: usize,
+    /// Number of throats.
+    pub throats: usize,
+    /// Total pore volume, clay included, m³.
+    pub pore_volume_m3: f64,
+    /// Porosity.
+    pub porosity: f64,
+}
+
+/// One trapped ganglion at the end of a process.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Ganglion {
+    /// Id, numbered by lowest element index.
+    pub id: usize,
+    /// Volume of the non-aqueous phase, m³.
+    pub volume_m3: f64,
+    /// Pores holding it.
+    pub pores: usize,
+    /// Throats holding it.
+    pub throats: usize,
+    /// Bounding box of the centres of its pores (and throat midpoints):
+    /// `[x_min, y_min, z_min, x_max, y_max, z_max]`, m.
+    pub bbox_m: [f64; 6],
+}
+
+/// Size statistics of the trapped ganglia.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct GanglionStats {
+    /// Number of ganglia.
+    pub count: usize,
+    /// Total trapped volume, m³.
+    pub total_volume_m3: f64,
+    /// Mean volume, m³.
+    pub mean_volume_m3: f64,
+    /// Largest volume, m³.
+    pub max_volume_m3: f64,
+    /// Histogram of the number of pores per ganglion: `counts[k]` ganglia
+    /// have between `2^k` and `2^(k+1) − 1` pores (`k = 0` includes ganglia
+    /// held in throats only).
+    pub pores_histogram: Vec<usize>,
+}
+
+/// Summary of one process.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ProcessSummary {
+    /// Process kind.
+    pub kind: ProcessKind,
+    /// Capillary pressure at the end, Pa.
+    pub final_pc_pa: f64,
+    /// Water saturation at the end.
+    pub final_sw: f64,
+    /// Trapped non-aqueous saturation at the end.
+    pub final_sn_trapped: f64,
+    /// Breakthrough capillary pressure, Pa.
+    pub breakthrough_pc_pa: Option<f64>,
+    /// Event counts by mechanism.
+    pub events: crate::engine::EventCounts,
+    /// The saturation target could not be reached.
+    pub target_unreached: bool,
+    /// Number of recorded points.
+    pub points: usize,
+}
+
+/// Occupancy at the end of a process (for 3-D export and later analysis).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct EndState {
+    /// Centre holds the non-aqueous phase.
+    pub oil: Vec<bool>,
+    /// Oil-layer corner masks.
+    pub layers: Vec<u8>,
+    /// Trapped-ganglion id per element (`u32::MAX`: none).
+    pub ganglion: Vec<u32>,
+    /// Water trapped here.
+    pub water_trapped: Vec<bool>,
+}
+
+/// Everything a run produces.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct RunResults {
+    /// The program.
+    pub program: ProgramInfo,
+    /// The network.
+    pub network: NetworkSummary,
+    /// The study, echoed.
+    pub study: Study,
+    /// Total pore volume, m³.
+    pub pore_volume_m3: f64,
+    /// Initial non-aqueous saturation: at the end of primary drainage.
+    pub sni: Option<f64>,
+    /// Residual (trapped) non-aqueous saturation at the end of the first
+    /// imbibition.
+    pub snr: Option<f64>,
+    /// Non-aqueous saturation left at the end of the first imbibition,
+    /// trapped or still connected.
+    pub sn_end_imbibition: Option<f64>,
+    /// Per-process summaries.
+    pub processes: Vec<ProcessSummary>,
+    /// Ganglion statistics at the end of the first imbibition.
+    pub ganglion_stats: Option<GanglionStats>,
+    /// Wettability indices (when imbibition is followed by drainage).
+    pub wettability_indices: Option<WettabilityIndices>,
+    /// Warnings for the reader.
+    pub warnings: Vec<String>,
+    /// Recorded curves, per process.
+    #[serde(skip)]
+    pub outcomes: Vec<ProcessOutcome>,
+    /// Trapped ganglia at the end of the first imbibition.
+    #[serde(skip)]
+    pub ganglia: Vec<Ganglion>,
+    /// Occupancy at the end of each process.
+    #[serde(skip)]
+    pub end_states: Vec<EndState>,
+    /// Contact angles after the run (receding, advancing; radians).
+    #[serde(skip)]
+    pub angles: Option<ContactAngles>,
+}
+
+/// Runs every process of a study on a network.
+pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> RunResults {
+    let geometry = Geometry::new(network, study.seed);
+    let angles = ContactAngles::intrinsic(&study.wettability, network.n_elements(), study.seed);
+    let setup = Setup {
+        network,
+        geometry: &geometry,
+        sigma: study.fluids.interfacial_tension_n_per_m,
+        outlet: study.outlet,
+        imbibition_faces: study.imbibition_faces,
+        mechanisms: study.mechanisms.clone(),
+        seed: study.seed,
+    };
+    let mut engine = Engine::new(setup, angles);
+    let mut outcomes = Vec::new();
+    let mut end_states = Vec::new();
+    let mut warnings = Vec::new();
+    let mut sni = None;
+    let mut snr = None;
+    let mut sn_end = None;
+    let mut ganglia = None;
+    for (i, p) in study.processes.iter().enumerate() {
+        if p.kind == ProcessKind::Imbibition && i == 1 {
+            engine.alter_wettability(&study.wettability);
+        }
+        let out = run_process(&mut engine, p.kind, p.stop, p.pc_steps, progress);
+        if out.target_unreached {
+            warnings.push(format!(
+                "process {} ({}): the saturation target was not reached; it ended at Sw = {:.4}",
+                i + 1,
+                p.kind.as_str(),
+                out.final_saturation.sw
+            ));
+        }
+        if i == 0 {
+            sni = Some(out.final_saturation.sn);
+        }
+        if i == 1 {
+            snr = Some(out.final_saturation.sn_trapped);
+            sn_end = Some(out.final_saturation.sn);
+            ganglia = Some(collect_ganglia(&engine));
+        }
+        let s = engine.state();
+        end_states.push(EndState {
+            oil: s.oil.clone(),
+            layers: s.layers.clone(),
+            ganglion: s.ganglion.clone(),
+            water_trapped: s.water_trapped.clone(),
+        });
+        outcomes.push(out);
+    }
+    let wettability_indices = if outcomes.len() >= 3 {
+        let (ip, is) = curve(&outcomes[1]);
+        let (dp, ds) = curve(&outcomes[2]);
+        let iw = indices::amott_water(&ip, &is);
+        let io = indices::amott_oil(&dp, &ds);
+        Some(WettabilityIndices {
+            amott_water: iw,
+            amott_oil: io,
+            amott_harvey: iw - io,
+            usbm: indices::usbm(&ip, &is, &dp, &ds),
+        })
+    } else if outcomes.len() == 2 {
+        let (ip, is) = curve(&outcomes[1]);
+        let iw = indices::amott_water(&ip, &is);
+        Some(WettabilityIndices {
+            amott_water: iw,
+            amott_oil: f64::NAN,
+            amott_harvey: f64::NAN,
+            usbm: f64::NAN,
+        })
+    } else {
+        None
+    };
+    let processes = outcomes
+        .iter()
+        .map(|o| ProcessSummary {
+            kind: o.kind,
+            final_pc_pa: o.final_pc_pa,
+            final_sw: o.final_saturation.sw,
+            final_sn_trapped: o.final_saturation.sn_trapped,
+            breakthrough_pc_pa: o.breakthrough_pc_pa,
+            events: o.counts.clone(),
+            target_unreached: o.target_unreached,
+            points: o.points.len(),
+        })
+        .collect();
+    let ganglia = ganglia.unwrap_or_default();
+    let ganglion_stats = snr.map(|_| ganglion_stats(&ganglia));
+    RunResults {
+        program: ProgramInfo::default(),
+        network: NetworkSummary {
+            name: network.info().name.clone(),
+            hash: String::new(),
+            pores: network.n_pores(),
+            throats: network.n_throats(),
+            pore_volume_m3: network.pore_volume(),
+            porosity: network.porosity(),
+        },
+        study: study.clone(),
+        pore_volume_m3: network.pore_volume(),
+        sni,
+        snr,
+        sn_end_imbibition: sn_end,
+        processes,
+        ganglion_stats,
+        wettability_indices,
+        warnings,
+        outcomes,
+        ganglia,
+        end_states,
+        angles: Some(engine.angles.clone()),
+    }
+}
+
+fn curve(o: &ProcessOutcome) -> (Vec<f64>, Vec<f64>) {
+    (
+        o.points.iter().map(|p| p.pc_pa).collect(),
+        o.points.iter().map(|p| p.saturation.sw).collect(),
+    )
+}
+
+/// The trapped ganglia of the engine's current state.
+pub fn collect_ganglia(engine: &Engine<'_>) -> Vec<Ganglion> {
+    let s = engine.state();
+    let net = engine.setup().network;
+    let n_p = net.n_pores();
+    let mut map: std::collections::HashMap<u32, usize> = std::collections::HashMap::new();
+    let mut out: Vec<Ganglion> = Vec::new();
+    let geometry = engine.setup().geometry;
+    let vol = engine.volumes();
+    for e in 0..s.len() {
+        let g = s.ganglion[e];
+        if g == NO_GANGLION || !s.oil_trapped[e] {
+            continue;
+        }
+        let k = *map.entry(g).or_insert_with(|| {
+            out.push(Ganglion {
+                id: out.len(),
+                volume_m3: 0.0,
+                pores: 0,
+                throats: 0,
+                bbox_m: [
+                    f64::INFINITY,
+                    f64::INFINITY,
+                    f64::INFINITY,
+                    f64::NEG_INFINITY,
+                    f64::NEG_INFINITY,
+                    f64::NEG_INFINITY,
+                ],
+            });
+            out.len() - 1
+        });
+        let (aw, _) = engine.element_areas(e);
+        let oil = vol[e] * (1.0 - aw / geometry.area(e));
+        let c = if e < n_p {
+            net.pores().centre(e)
+        } else {
+            let [a, b] = net.throats().pores[e - n_p];
+            let (pa, pb) = (net.pores().centre(a as usize), net.pores().centre(b as usize));
+            [0.5 * (pa[0] + pb[0]), 0.5 * (pa[1] + pb[1]), 0.5 * (pa[2] + pb[2])]
+        };
+        let gl = &mut out[k];
+        gl.volume_m3 += oil;
+        if e < n_p {
+            gl.pores += 1;
+        } else {
+            gl.throats += 1;
+        }
+        for d in 0..3 {
+            gl.bbox_m[d] = gl.bbox_m[d].min(c[d]);
+            gl.bbox_m[d + 3] = gl.bbox_m[d + 3].max(c[d]);
+        }
+    }
+    out
+}
+
+/// Size statistics of a list of ganglia.
+pub fn ganglion_stats(ganglia: &[Ganglion]) -> GanglionStats {
+    let count = ganglia.len();
+    let total: f64 = ganglia.iter().map(|g| g.volume_m3).sum();
+    let max = ganglia.iter().map(|g| g.volume_m3).fold(0.0, f64::max);
+    let mut hist = Vec::new();
+    for g in ganglia {
+        let k = if g.pores <= 1 {
+            0
+        } else {
+            (usize::BITS - 1 - g.pores.leading_zeros()) as usize
+        };
+        if hist.len() <= k {
+            hist.resize(k + 1, 0);
+        }
+        hist[k] += 1;
+    }
+    GanglionStats {
+        count,
+        total_volume_m3: total,
+        mean_volume_m3: if count > 0 { total / count as f64 } else { 0.0 },
+        max_volume_m3: max,
+        pores_histogram: hist,
+    }
+}

@@ -1,0 +1,733 @@
+//! Study files: what to run on a network, parsed from TOML and validated.
+//!
+//! A study names the network, the fluids, the wettability, the boundary
+//! rule and an ordered list of displacement processes. Parsing refuses
+//! unknown keys and out-of-range values with the key's name and line.
+//! This module parses text; reading the file is the caller's job.
+//!
+//! ```toml
+//! network = "../sample-networks/tiny-lattice"   # CSV folder or binary file, relative to this file
+//! seed = 1
+//! [fluids]
+//! interfacial_tension_n_per_m = 0.030
+//! water_viscosity_pa_s = 1.0e-3
+//! nonaqueous_viscosity_pa_s = 2.0e-3
+//! nonaqueous_label = "oil"
+//! [wettability]
+//! receding_contact_angle_deg = [0.0, 20.0]
+//! advancing_contact_angle_deg = [30.0, 50.0]
+//! [[process]]
+//! kind = "drainage"
+//! until_pc_pa = 2.0e4
+//! pc_steps = 40
+//! [[process]]
+//! kind = "imbibition"
+//! until_pc_pa = -2.0e4
+//! ```
+
+use std::fmt;
+use std::ops::Range;
+
+use serde::{Deserialize, Serialize};
+use toml::Spanned;
+
+/// A study-file error: the key path, the 1-based line and what is wrong.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct StudyError {
+    /// Dotted key path (`fluids.interfacial_tension_n_per_m`,
+    /// `process[2].until_sw`), empty for syntax errors.
+    pub key: String,
+    /// 1-based line of the key, when known.
+    pub line: Option<usize>,
+    /// What is wrong.
+    pub message: String,
+}
+
+impl fmt::Display for StudyError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match (self.line, self.key.is_empty()) {
+            (Some(l), false) => write!(f, "line {l}: key `{}`: {}", self.key, self.message),
+            (Some(l), true) => write!(f, "line {l}: {}", self.message),
+            (None, false) => write!(f, "key `{}`: {}", self.key, self.message),
+            (None, true) => write!(f, "{}", self.message),
+        }
+    }
+}
+
+/// All errors of one study file.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct StudyErrors(pub Vec<StudyError>);
+
+impl fmt::Display for StudyErrors {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        for (i, e) in self.0.iter().enumerate() {
+            if i > 0 {
+                writeln!(f)?;
+            }
+            write!(f, "{e}")?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for StudyErrors {}
+
+/// The fluids of the study.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Fluids {
+    /// Water–non-aqueous interfacial tension σ, N/m (default 0.030).
+    pub interfacial_tension_n_per_m: f64,
+    /// Water viscosity, Pa·s (default 1.0e-3).
+    pub water_viscosity_pa_s: f64,
+    /// Non-aqueous-phase viscosity, Pa·s (default 1.0e-3).
+    pub nonaqueous_viscosity_pa_s: f64,
+    /// Name of the non-aqueous phase in outputs (`oil`, `gas`, `CO2`, …;
+    /// default `oil`).
+    pub nonaqueous_label: String,
+    /// Electrical conductivity of the water (brine), S/m (default 5.0);
+    /// sets absolute resistivities, not the formation factor or RI.
+    pub water_conductivity_s_per_m: f64,
+}
+
+impl Default for Fluids {
+    fn default() -> Self {
+        Fluids {
+            interfacial_tension_n_per_m: 0.030,
+            water_viscosity_pa_s: 1.0e-3,
+            nonaqueous_viscosity_pa_s: 1.0e-3,
+            nonaqueous_label: "oil".into(),
+            water_conductivity_s_per_m: 5.0,
+        }
+    }
+}
+
+/// How the oil-wet part of the contacted pores is chosen.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "lowercase")]
+pub enum OilWetSelection {
+    /// A random subset.
+    #[default]
+    Random,
+    /// The largest elements first (oil-wet large pores, water-wet small
+    /// ones).
+    Largest,
+    /// The smallest elements first.
+    Smallest,
+}
+
+/// Contact angles and wettability alteration. Angles in degrees, measured
+/// through water.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct WettabilitySpec {
+    /// Intrinsic (receding) angle range, drawn uniformly per element
+    /// (default `[0, 0]`).
+    pub receding_contact_angle_deg: [f64; 2],
+    /// Advancing angle range of water-wet elements after drainage
+    /// (default: the receding range).
+    pub advancing_contact_angle_deg: [f64; 2],
+    /// Fraction of the oil-contacted pores (and, separately, throats) that
+    /// become oil-wet after drainage (default 0).
+    pub oil_wet_fraction: f64,
+    /// Which contacted elements become oil-wet (default `random`).
+    pub oil_wet_selection: OilWetSelection,
+    /// Advancing angle range of oil-wet elements (default `[100, 160]`).
+    pub oil_wet_advancing_contact_angle_deg: [f64; 2],
+    /// Receding angle range of oil-wet elements, used by a later drainage
+    /// (default: the oil-wet advancing range).
+    pub oil_wet_receding_contact_angle_deg: [f64; 2],
+}
+
+impl Default for WettabilitySpec {
+    fn default() -> Self {
+        WettabilitySpec {
+            receding_contact_angle_deg: [0.0, 0.0],
+            advancing_contact_angle_deg: [0.0, 0.0],
+            oil_wet_fraction: 0.0,
+            oil_wet_selection: OilWetSelection::Random,
+            oil_wet_advancing_contact_angle_deg: [100.0, 160.0],
+            oil_wet_receding_contact_angle_deg: [100.0, 160.0],
+        }
+    }
+}
+
+/// What the outlet face lets through.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "kebab-case")]
+pub enum OutletRule {
+    /// Both phases may leave; outlet pores can be invaded.
+    #[default]
+    Open,
+    /// A water-wet plate: water leaves, the non-aqueous phase is held back
+    /// (outlet pores are never invaded in drainage).
+    SemiPermeable,
+}
+
+/// Options of the imbibition mechanisms.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct MechanismOptions {
+    /// Allow snap-off (default true).
+    pub snap_off: bool,
+    /// Allow oil layers in oil-wet corners (default true).
+    pub oil_layers: bool,
+    /// Cooperative-filling weights `a_i` for `i = 1, 2, …` oil-filled
+    /// throats, dimensionless; the model uses `A_i = a_i / r̄_t` with `r̄_t`
+    /// the mean throat radius (Blunt 1998). The last weight repeats for
+    /// larger `i`. Default `[0, 0.5, 1, 2, 5, 10]` (weights of this order
+    /// were used by Blunt 1998; values from memory).
+    pub cooperative_weights: Vec<f64>,
+}
+
+impl Default for MechanismOptions {
+    fn default() -> Self {
+        MechanismOptions {
+            snap_off: true,
+            oil_layers: true,
+            cooperative_weights: vec![0.0, 0.5, 1.0, 2.0, 5.0, 10.0],
+        }
+    }
+}
+
+/// A displacement process kind.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ProcessKind {
+    /// The non-aqueous phase invades from the inlet as Pc rises (primary
+    /// drainage when first, secondary drainage after an imbibition).
+    Drainage,
+    /// Water invades from the inlet as Pc falls.
+    Imbibition,
+}
+
+impl ProcessKind {
+    /// The kind as written in study files.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            ProcessKind::Drainage => "drainage",
+            ProcessKind::Imbibition => "imbibition",
+        }
+    }
+}
+
+/// Where a process stops.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum StopAt {
+    /// At this capillary pressure, Pa.
+    Pc(f64),
+    /// At this water saturation (bisection to the element).
+    Sw(f64),
+}
+
+/// One process of the study.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Process {
+    /// What happens.
+    pub kind: ProcessKind,
+    /// Where it stops.
+    pub stop: StopAt,
+    /// Number of pressure steps recorded on the curve (default 40).
+    pub pc_steps: usize,
+    /// Number of relative-permeability points, spaced in saturation
+    /// (default 20).
+    pub kr_points: usize,
+}
+
+/// A validated study.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Study {
+    /// Network path as written (relative to the study file).
+    pub network: String,
+    /// Seed of every random draw of the run (default 1).
+    pub seed: u64,
+    /// Optional title for reports.
+    pub title: Option<String>,
+    /// Fluids.
+    pub fluids: Fluids,
+    /// Wettability.
+    pub wettability: WettabilitySpec,
+    /// Outlet rule (key `boundary.outlet`).
+    pub outlet: OutletRule,
+    /// Faces open to the displaced phase in imbibition (key
+    /// `boundary.imbibition_faces`: `outlet` or `both`; default `outlet`).
+    pub imbibition_faces: crate::engine::ImbibitionFaces,
+    /// Mechanism options (table `[mechanisms]`).
+    pub mechanisms: MechanismOptions,
+    /// The processes, in order.
+    pub processes: Vec<Process>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawStudy {
+    network: Option<Spanned<String>>,
+    seed: Option<Spanned<i64>>,
+    title: Option<String>,
+    fluids: Option<RawFluids>,
+    wettability: Option<RawWettability>,
+    boundary: Option<RawBoundary>,
+    mechanisms: Option<RawMechanisms>,
+    process: Option<Vec<Spanned<RawProcess>>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawFluids {
+    interfacial_tension_n_per_m: Option<Spanned<f64>>,
+    water_viscosity_pa_s: Option<Spanned<f64>>,
+    nonaqueous_viscosity_pa_s: Option<Spanned<f64>>,
+    nonaqueous_label: Option<Spanned<String>>,
+    water_conductivity_s_per_m: Option<Spanned<f64>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawWettability {
+    receding_contact_angle_deg: Option<Spanned<Vec<f64>>>,
+    advancing_contact_angle_deg: Option<Spanned<Vec<f64>>>,
+    oil_wet_fraction: Option<Spanned<f64>>,
+    oil_wet_selection: Option<OilWetSelection>,
+    oil_wet_advancing_contact_angle_deg: Option<Spanned<Vec<f64>>>,
+    oil_wet_receding_contact_angle_deg: Option<Spanned<Vec<f64>>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawBoundary {
+    outlet: Option<OutletRule>,
+    imbibition_faces: Option<crate::engine::ImbibitionFaces>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawMechanisms {
+    snap_off: Option<bool>,
+    oil_layers: Option<bool>,
+    cooperative_weights: Option<Spanned<Vec<f64>>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawProcess {
+    kind: Spanned<ProcessKind>,
+    until_pc_pa: Option<Spanned<f64>>,
+    until_sw: Option<Spanned<f64>>,
+    pc_steps: Option<Spanned<i64>>,
+    kr_points: Option<Spanned<i64>>,
+}
+
+/// Turns a byte span into a 1-based line.
+fn line_of(text: &str, span: Range<usize>) -> usize {
+    let end = span.start.min(text.len());
+    text.as_bytes()[..end].iter().filter(|&&b| b == b'\n').count() + 1
+}
+
+struct Checker<'a> {
+    text: &'a str,
+    errors: Vec<StudyError>,
+}
+
+impl Checker<'_> {
+    fn fail(&mut self, key: &str, span: Option<Range<usize>>, message: impl Into<String>) {
+        let line = span.map(|s| line_of(self.text, s));
+        self.errors.push(StudyError {
+            key: key.into(),
+            line,
+            message: message.into(),
+        });
+    }
+
+    fn number(
+        &mut self,
+        key: &str,
+        v: Option<Spanned<f64>>,
+        default: f64,
+        ok: impl Fn(f64) -> bool,
+        rule: &str,
+    ) -> f64 {
+        match v {
+            None => default,
+            Some(s) => {
+                let x = *s.get_ref();
+                if !(x.is_finite() && ok(x)) {
+                    self.fail(key, Some(s.span()), format!("value {x} must be {rule}"));
+                    default
+                } else {
+                    x
+                }
+            }
+        }
+    }
+
+    fn angle_range(&mut self, key: &str, v: Option<Spanned<Vec<f64>>>, default: [f64; 2]) -> [f64; 2] {
+        match v {
+            None => default,
+            Some(s) => {
+                let span = s.span();
+                let r = s.into_inner();
+                if r.len() != 2 {
+                    self.fail(key, Some(span), format!("expected [min, max], got {} values", r.len()));
+                    return default;
+                }
+                let (a, b) = (r[0], r[1]);
+                if !(a.is_finite() && b.is_finite() && (0.0..=180.0).contains(&a) && (0.0..=180.0).contains(&b)) {
+                    self.fail(key, Some(span), format!("angles [{a}, {b}] must lie in [0, 180] degrees"));
+                    return default;
+                }
+                if a > b {
+                    self.fail(key, Some(span), format!("range [{a}, {b}] has min > max"));
+                    return default;
+                }
+                [a, b]
+            }
+        }
+    }
+
+    fn count(&mut self, key: &str, v: Option<Spanned<i64>>, default: usize, max: i64) -> usize {
+        match v {
+            None => default,
+            Some(s) => {
+                let x = *s.get_ref();
+                if !(1..=max).contains(&x) {
+                    self.fail(key, Some(s.span()), format!("value {x} must be an integer in [1, {max}]"));
+                    default
+                } else {
+                    x as usize
+                }
+            }
+        }
+    }
+}
+
+impl Study {
+    /// Parses and validates a study from TOML text, reporting every error
+    /// found with its key and line.
+    pub fn parse(text: &str) -> Result<Study, StudyErrors> {
+        let raw: RawStudy = match toml::from_str(text) {
+            Ok(r) => r,
+            Err(e) => {
+                let line = e.span().map(|s| line_of(text, s));
+                let message = e.message().trim().to_string();
+                return Err(StudyErrors(vec![StudyError {
+                    key: String::new(),
+                    line,
+                    message,
+                }]));
+            }
+        };
+        let mut c = Checker {
+            text,
+            errors: Vec::new(),
+        };
+        let network = match raw.network {
+            Some(s) if !s.get_ref().trim().is_empty() => s.into_inner(),
+            Some(s) => {
+                c.fail("network", Some(s.span()), "must name a CSV folder or a binary network file");
+                String::new()
+            }
+            None => {
+                c.fail("network", None, "is required (path to a CSV folder or binary network file)");
+                String::new()
+            }
+        };
+        let seed = match raw.seed {
+            None => 1,
+            Some(s) if *s.get_ref() >= 0 => *s.get_ref() as u64,
+            Some(s) => {
+                c.fail("seed", Some(s.span()), "must be a non-negative integer");
+                1
+            }
+        };
+        let fluids = {
+            let d = Fluids::default();
+            match raw.fluids {
+                None => d,
+                Some(f) => Fluids {
+                    interfacial_tension_n_per_m: c.number(
+                        "fluids.interfacial_tension_n_per_m",
+                        f.interfacial_tension_n_per_m,
+                        d.interfacial_tension_n_per_m,
+                        |x| x > 0.0 && x < 1.0,
+                        "a positive tension below 1 N/m",
+                    ),
+                    water_viscosity_pa_s: c.number(
+                        "fluids.water_viscosity_pa_s",
+                        f.water_viscosity_pa_s,
+                        d.water_viscosity_pa_s,
+                        |x| x > 0.0,
+                        "positive",
+                    ),
+                    nonaqueous_viscosity_pa_s: c.number(
+                        "fluids.nonaqueous_viscosity_pa_s",
+                        f.nonaqueous_viscosity_pa_s,
+                        d.nonaqueous_viscosity_pa_s,
+                        |x| x > 0.0,
+                        "positive",
+                    ),
+                    nonaqueous_label: match f.nonaqueous_label {
+                        None => d.nonaqueous_label,
+                        Some(s) if !s.get_ref().trim().is_empty() && s.get_ref().len() <= 40 => {
+                            s.into_inner()
+                        }
+                        Some(s) => {
+                            c.fail(
+                                "fluids.nonaqueous_label",
+                                Some(s.span()),
+                                "must be a short non-empty name such as \"oil\", \"gas\" or \"CO2\"",
+                            );
+                            d.nonaqueous_label
+                        }
+                    },
+                    water_conductivity_s_per_m: c.number(
+                        "fluids.water_conductivity_s_per_m",
+                        f.water_conductivity_s_per_m,
+                        d.water_conductivity_s_per_m,
+                        |x| x > 0.0,
+                        "positive",
+                    ),
+                },
+            }
+        };
+        let wettability = {
+            let d = WettabilitySpec::default();
+            match raw.wettability {
+                None => d,
+                Some(w) => {
+                    let rec = c.angle_range(
+                        "wettability.receding_contact_angle_deg",
+                        w.receding_contact_angle_deg,
+                        d.receding_contact_angle_deg,
+                    );
+                    let adv = c.angle_range(
+                        "wettability.advancing_contact_angle_deg",
+                        w.advancing_contact_angle_deg,
+                        rec,
+                    );
+                    let ow_adv = c.angle_range(
+                        "wettability.oil_wet_advancing_contact_angle_deg",
+                        w.oil_wet_advancing_contact_angle_deg,
+                        d.oil_wet_advancing_contact_angle_deg,
+                    );
+                    let ow_rec = c.angle_range(
+                        "wettability.oil_wet_receding_contact_angle_deg",
+                        w.oil_wet_receding_contact_angle_deg,
+                        ow_adv,
+                    );
+                    WettabilitySpec {
+                        receding_contact_angle_deg: rec,
+                        advancing_contact_angle_deg: adv,
+                        oil_wet_fraction: c.number(
+                            "wettability.oil_wet_fraction",
+                            w.oil_wet_fraction,
+                            0.0,
+                            |x| (0.0..=1.0).contains(&x),
+                            "a fraction in [0, 1]",
+                        ),
+                        oil_wet_selection: w.oil_wet_selection.unwrap_or_default(),
+                        oil_wet_advancing_contact_angle_deg: ow_adv,
+                        oil_wet_receding_contact_angle_deg: ow_rec,
+                    }
+                }
+            }
+        };
+        let (outlet, imbibition_faces) = match raw.boundary {
+            Some(b) => (b.outlet.unwrap_or_default(), b.imbibition_faces.unwrap_or_default()),
+            None => Default::default(),
+        };
+        let mechanisms = {
+            let d = MechanismOptions::default();
+            match raw.mechanisms {
+                None => d,
+                Some(m) => MechanismOptions {
+                    snap_off: m.snap_off.unwrap_or(d.snap_off),
+                    oil_layers: m.oil_layers.unwrap_or(d.oil_layers),
+                    cooperative_weights: match m.cooperative_weights {
+                        None => d.cooperative_weights,
+                        Some(s) => {
+                            let span = s.span();
+                            let v = s.into_inner();
+                            if v.is_empty() || v.iter().any(|x| !(x.is_finite() && *x >= 0.0)) {
+                                c.fail(
+                                    "mechanisms.cooperative_weights",
+                                    Some(span),
+                                    "must be a non-empty list of non-negative numbers",
+                                );
+                                d.cooperative_weights
+                            } else {
+                                v
+                            }
+                        }
+                    },
+                },
+            }
+        };
+        let mut processes = Vec::new();
+        let raw_processes = raw.process.unwrap_or_default();
+        if raw_processes.is_empty() {
+            c.fail("process", None, "at least one [[process]] is required");
+        }
+        for (i, p) in raw_processes.into_iter().enumerate() {
+            let pspan = p.span();
+            let p = p.into_inner();
+            let key = |k: &str| format!("process[{}].{k}", i + 1);
+            let kind = *p.kind.get_ref();
+            let expected = if i % 2 == 0 {
+                ProcessKind::Drainage
+            } else {
+                ProcessKind::Imbibition
+            };
+            if kind != expected {
+                c.fail(
+                    &key("kind"),
+                    Some(p.kind.span()),
+                    format!(
+                        "process {} must be `{}`: processes alternate, starting with drainage",
+                        i + 1,
+                        expected.as_str()
+                    ),
+                );
+            }
+            let stop = match (p.until_pc_pa, p.until_sw) {
+                (Some(pc), None) => {
+                    let x = *pc.get_ref();
+                    let ok = x.is_finite()
+                        && match kind {
+                            ProcessKind::Drainage => x > 0.0 || i > 0,
+                            ProcessKind::Imbibition => true,
+                        };
+                    if !ok {
+                        c.fail(
+                            &key("until_pc_pa"),
+                            Some(pc.span()),
+                            format!("value {x} must be a finite pressure (positive for primary drainage)"),
+                        );
+                    }
+                    StopAt::Pc(x)
+                }
+                (None, Some(sw)) => {
+                    let x = *sw.get_ref();
+                    if !(x > 0.0 && x < 1.0) {
+                        c.fail(&key("until_sw"), Some(sw.span()), format!("value {x} must lie in (0, 1)"));
+                    }
+                    StopAt::Sw(x)
+                }
+                (Some(pc), Some(_)) => {
+                    c.fail(&key("until_sw"), Some(pc.span()), "give either until_pc_pa or until_sw, not both");
+                    StopAt::Pc(*pc.get_ref())
+                }
+                (None, None) => {
+                    c.fail(&key("until_pc_pa"), Some(pspan), "one of until_pc_pa or until_sw is required");
+                    StopAt::Pc(0.0)
+                }
+            };
+            let pc_steps = c.count(&key("pc_steps"), p.pc_steps, 40, 100_000);
+            let kr_points = c.count(&key("kr_points"), p.kr_points, 20, 10_000);
+            processes.push(Process {
+                kind,
+                stop,
+                pc_steps,
+                kr_points,
+            });
+        }
+        if c.errors.is_empty() {
+            Ok(Study {
+                network,
+                seed,
+                title: raw.title,
+                fluids,
+                wettability,
+                outlet,
+                imbibition_faces,
+                mechanisms,
+                processes,
+            })
+        } else {
+            Err(StudyErrors(c.errors))
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const GOOD: &str = r#"
+network = "net"
+seed = 7
+[fluids]
+interfacial_tension_n_per_m = 0.030
+water_viscosity_pa_s = 1.0e-3
+nonaqueous_viscosity_pa_s = 2.0e-3
+nonaqueous_label = "oil"
+[wettability]
+receding_contact_angle_deg = [0.0, 20.0]
+advancing_contact_angle_deg = [30.0, 50.0]
+[[process]]
+kind = "drainage"
+until_pc_pa = 2.0e4
+pc_steps = 40
+[[process]]
+kind = "imbibition"
+until_sw = 0.9
+"#;
+
+    #[test]
+    fn good_study_parses_with_defaults() {
+        let s = Study::parse(GOOD).unwrap();
+        assert_eq!(s.seed, 7);
+        assert_eq!(s.processes.len(), 2);
+        assert_eq!(s.processes[0].stop, StopAt::Pc(2.0e4));
+        assert_eq!(s.processes[1].stop, StopAt::Sw(0.9));
+        assert_eq!(s.processes[1].pc_steps, 40);
+        assert_eq!(s.wettability.advancing_contact_angle_deg, [30.0, 50.0]);
+        assert_eq!(s.outlet, OutletRule::Open);
+    }
+
+    fn first_error(text: &str) -> StudyError {
+        Study::parse(text).unwrap_err().0.remove(0)
+    }
+
+    #[test]
+    fn negative_tension_is_refused_with_key_and_line() {
+        let e = first_error(&GOOD.replace("0.030", "-0.03"));
+        assert_eq!(e.key, "fluids.interfacial_tension_n_per_m");
+        assert_eq!(e.line, Some(5));
+    }
+
+    #[test]
+    fn angle_outside_range_is_refused() {
+        let e = first_error(&GOOD.replace("[30.0, 50.0]", "[30.0, 190.0]"));
+        assert_eq!(e.key, "wettability.advancing_contact_angle_deg");
+        assert_eq!(e.line, Some(11));
+        assert!(e.message.contains("[0, 180]"), "{e}");
+    }
+
+    #[test]
+    fn sw_target_outside_unit_interval_is_refused() {
+        let e = first_error(&GOOD.replace("until_sw = 0.9", "until_sw = 1.5"));
+        assert_eq!(e.key, "process[2].until_sw");
+        assert_eq!(e.line, Some(18));
+    }
+
+    #[test]
+    fn unknown_key_is_refused_with_its_name_and_line() {
+        let e = first_error(&GOOD.replace("seed = 7", "seed = 7\ncolour = \"red\""));
+        assert!(e.message.contains("colour"), "{e}");
+        assert_eq!(e.line, Some(4));
+    }
+
+    #[test]
+    fn processes_must_alternate_from_drainage() {
+        let e = first_error(&GOOD.replace("kind = \"drainage\"", "kind = \"imbibition\""));
+        assert_eq!(e.key, "process[1].kind");
+    }
+
+    #[test]
+    fn all_errors_are_reported_at_once() {
+        let bad = GOOD
+            .replace("0.030", "-1")
+            .replace("until_sw = 0.9", "until_sw = 0.0")
+            .replace("2.0e-3", "0.0");
+        let errs = Study::parse(&bad).unwrap_err().0;
+        assert_eq!(errs.len(), 3, "{errs:?}");
+    }
+}
