@@ -13,6 +13,7 @@
 //! - [`geometry`]: shape classes, corner half-angles (Patzek 2001), areas.
 //! - [`connectivity`]: components, the spanning cluster, face masks.
 //! - [`progress`]: the callback through which long calls report progress.
+//! - [`generate`]: seeded statistical lattice networks ([`generate::generate`]).
 //!
 //! Pores and throats are both *elements* of a displacement: one index space,
 //! pores first (`0..n_pores`), then throats (`n_pores..n_pores + n_throats`);
@@ -60,6 +61,7 @@
 #![warn(missing_docs)]
 
 pub mod connectivity;
+pub mod generate;
 pub mod geometry;
 pub mod network;
 pub mod numeric;
