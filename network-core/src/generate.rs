@@ -38,10 +38,12 @@
 //! and after them only the bonds that join two still separate clusters, the
 //! fewest needed to connect every pore into one cluster. Every pore is
 //! therefore connected to every other one (the network spans, no isolated
-//! pores, no dead clusters), and well above the bond percolation threshold
-//! (0.2488 on the simple-cubic lattice, Lorenz & Ziff 1998, Phys. Rev. E
-//! 57:230–236, i.e. `z ≳ 1.5`) the result is close to a uniform random
-//! dilution. Targets below `2 (1 − 1/N)` (a spanning tree) or above `2M/N`
+//! pores, no dead clusters). When `m/M` is well above the bond percolation
+//! threshold (0.2488 on the simple-cubic lattice, Lorenz & Ziff 1998, Phys.
+//! Rev. E 57:230–236; `z_c = 6 p_c ≈ 1.5`), e.g. for targets of 3 and more,
+//! few bonds are added after the first `m` and the result is close to a
+//! uniform random dilution; near the lower bound `z ≈ 2` it is close to a
+//! random spanning tree instead. Targets below `2 (1 − 1/N)` (a spanning tree) or above `2M/N`
 //! (every bond; slightly below 6 because of the faces) are rejected with
 //! [`GenerateError::CoordinationOutOfRange`].
 //!
