@@ -13,6 +13,7 @@
 //! - [`geometry`]: shape classes, corner half-angles (Patzek 2001), areas.
 //! - [`connectivity`]: components, the spanning cluster, face masks.
 //! - [`progress`]: the callback through which long calls report progress.
+//! - [`generate`]: seeded statistical lattice networks ([`generate::generate`]).
 //!
 //! Pores and throats are both *elements* of a displacement: one index space,
 //! pores first (`0..n_pores`), then throats (`n_pores..n_pores + n_throats`);
@@ -61,12 +62,16 @@
 
 pub mod connectivity;
 pub mod engine;
+pub mod generate;
 pub mod geometry;
+pub mod indices;
 pub mod network;
 pub mod numeric;
 pub mod progress;
+pub mod simulation;
 pub mod study;
 pub mod validate;
+pub mod wettability;
 
 pub use network::{
     Adjacency, Axis, Boundary, InvalidNetwork, Network, NetworkInfo, PoreId, Pores, ThroatId,
