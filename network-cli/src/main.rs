@@ -1,1 +1,65 @@
-fn main() {}
+//! `ganglion`: quasi-static two-phase displacement on pore networks.
+//!
+//! Exit codes: 0 success; 1 bad input (a file, a study or a value was
+//! refused; the message names it); 2 usage error (unknown command or
+//! option, printed by the argument parser).
+
+mod commands;
+mod progress;
+
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+/// Quasi-static drainage and imbibition on pore networks: capillary
+/// pressure, trapping, relative permeability and resistivity.
+#[derive(Parser, Debug)]
+#[command(name = "ganglion", version, about, long_about = None, propagate_version = true)]
+pub struct Cli {
+    /// No progress bars; only results and errors are printed.
+    #[arg(long, short, global = true)]
+    pub quiet: bool,
+    /// Number of worker threads (default: all cores). Results do not depend
+    /// on it.
+    #[arg(long, global = true, value_name = "N")]
+    pub threads: Option<usize>,
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    Generate(commands::generate::Args),
+    Inspect(commands::inspect::Args),
+    Convert(commands::convert::Args),
+    Perm(commands::perm::Args),
+    Run(commands::run::Args),
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    if let Some(n) = cli.threads
+        && let Err(e) = rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build_global()
+    {
+        eprintln!("error: could not start {n} threads: {e}");
+        return ExitCode::from(1);
+    }
+    let progress = progress::Bars::new(cli.quiet);
+    let result = match &cli.command {
+        Command::Generate(a) => commands::generate::run(a, &progress),
+        Command::Inspect(a) => commands::inspect::run(a, &progress),
+        Command::Convert(a) => commands::convert::run(a, &progress),
+        Command::Perm(a) => commands::perm::run(a, &progress),
+        Command::Run(a) => commands::run::run(a, &progress),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("error: {e}");
+            for cause in e.chain().skip(1) {
+                eprintln!("  caused by: {cause}");
+            }
+            ExitCode::from(1)
+        }
+    }
+}

@@ -69,6 +69,7 @@ pub mod network;
 pub mod numeric;
 pub mod progress;
 pub mod simulation;
+pub mod stats;
 pub mod study;
 pub mod validate;
 pub mod wettability;
