@@ -59,6 +59,7 @@
 
 #![warn(missing_docs)]
 
+pub mod capillary;
 pub mod connectivity;
 pub mod geometry;
 pub mod network;

@@ -1,0 +1,1 @@
+//! Conductances of corner films and of the bulk phase in the centre.
