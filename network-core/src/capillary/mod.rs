@@ -65,6 +65,9 @@ pub use corner::{
     CornerMeniscus, corner_arc_length_b, corner_area, corner_area_b, drainage_corner_water_area,
     hinged_corner, imbibition_corner_water_area, pinned_distance,
 };
+pub use corner_flow::{
+    bulk_conductance, corner_conductance, corner_conductance_b, electrical_conductance,
+};
 pub use drainage::drainage_entry_pc;
 pub use layers::{
     LayerAreas, LayerState, element_layer_areas, layer_area, layer_can_form, layer_collapse_pc,
