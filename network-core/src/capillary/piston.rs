@@ -97,7 +97,8 @@ fn balance(
 /// then bracketed and bisected. Configurations in which adjacent arcs
 /// overlap or no oil is left are treated as "water wins" (`F < 0`); if the
 /// balance has no root before that, the result is that limit
-/// (`limited_by_corners`). Tolerance `10⁻¹³ max(|Pc|, σ/R)`.
+/// (`limited_by_corners`). Stops when the step is below
+/// `10⁻¹³ max(|Pc|, σ/R)` or `|F| ≤ 10⁻¹⁴ σ P` (round-off level).
 ///
 /// Without hysteresis (`θa = θr`, `pc_max` = drainage entry) the result is
 /// the MS-P entry pressure at `θa` (Ma et al. 1996).
@@ -147,6 +148,8 @@ pub fn piston_imbibition(
         };
     }
 
+    // F is a difference of terms of order σP: accept |F| at round-off level.
+    let f_tol = 1e-14 * sigma * s.perimeter();
     let mut lo = f64::NEG_INFINITY; // F(lo) < 0 or invalid, when finite
     let mut lo_invalid = false;
     let mut bisect_next = false;
@@ -175,7 +178,7 @@ pub fn piston_imbibition(
             hi = x;
             bh = bx;
             bisect_next = false;
-        } else if bx.valid && bx.f == 0.0 {
+        } else if bx.valid && bx.f.abs() <= f_tol {
             return PistonThreshold {
                 pc: x,
                 iterations,
@@ -346,7 +349,7 @@ mod tests {
             let p = piston_imbibition(&s, theta_r, theta_a, pc_max, sigma);
             let geo = geometric_piston_pc(radius, betas, theta_r, theta_a, pc_max, sigma);
             assert!(p.converged && !p.limited_by_corners);
-            assert!(p.iterations <= 20, "{} iterations", p.iterations);
+            assert!(p.iterations <= 12, "{} iterations", p.iterations);
             let rel = (p.pc - geo).abs() / (sigma / radius);
             assert!(
                 rel < 1e-6,
@@ -397,5 +400,45 @@ mod tests {
             last = p.pc;
         }
         assert!(last < 0.0);
+    }
+
+    #[test]
+    fn piston_threshold_lies_between_msp_at_theta_a_and_pc_max() {
+        // Analytic bounds (virtual work, see piston_imbibition): per corner
+        // φ(b) = −Pc A_c − σ L_arc + 2σ b cos θa is largest at the contact
+        // angle θa (or at b = 0 when no θa arc exists), so F ≤ F_MS-P(θa)
+        // and the root is ≥ the MS-P entry at θa (Ma et al. 1996 note that
+        // hinging raises the imbibition threshold); F(pc_max) ≥ 0 for θa ≥ θr
+        // puts it ≤ pc_max. Seeded random sections and angles.
+        use crate::numeric::unit_hash;
+        let sigma = 0.03;
+        let mut max_iter = 0;
+        for k in 0..3000u64 {
+            let u = |m: u64| unit_hash(17, m, k);
+            let tri = triangle_half_angles(0.005 + 0.043 * u(1), u(2));
+            let sq = [FRAC_PI_4; 4];
+            let betas: &[f64] = if u(3) < 0.25 { &sq } else { &tri };
+            let s = section(betas, 1e-6 + 5e-5 * u(4));
+            let theta_r = 1.5 * u(5);
+            let theta_a = theta_r + (PI - 1e-3 - theta_r) * u(6);
+            let pc_max = drainage_entry_pc(&s, theta_r, sigma) * (1.0 + 4.0 * u(7));
+            let p = piston_imbibition(&s, theta_r, theta_a, pc_max, sigma);
+            let scale = sigma / s.radius;
+            assert!(p.converged && p.pc.is_finite(), "case {k}");
+            let lower = drainage_entry_pc(&s, theta_a, sigma);
+            assert!(
+                p.pc >= lower - 1e-9 * scale,
+                "case {k}: {} < MS-P(θa) {lower}",
+                p.pc
+            );
+            assert!(
+                p.pc <= pc_max + 1e-9 * scale,
+                "case {k}: {} > pc_max {pc_max}",
+                p.pc
+            );
+            max_iter = max_iter.max(p.iterations);
+        }
+        // Measured: 2–7 steps over these cases (mostly 3–4).
+        assert!(max_iter <= 12, "max iterations {max_iter}");
     }
 }
