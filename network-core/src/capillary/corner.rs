@@ -41,7 +41,7 @@ pub fn corner_area(r: f64, theta: f64, beta: f64) -> f64 {
 /// `(2x − sin 2x)/(2 sin² x)`, with its series `(2x/3)(1 + 2x²/15 + 2x⁴/105)`
 /// for `|x| < 10⁻²` (avoids the cancellation near the flat meniscus).
 #[inline]
-fn segment_factor(x: f64) -> f64 {
+pub(crate) fn segment_factor(x: f64) -> f64 {
     if x.abs() < 1e-2 {
         let x2 = x * x;
         (2.0 * x / 3.0) * (1.0 + x2 * (2.0 / 15.0 + x2 * (2.0 / 105.0)))
@@ -53,12 +53,32 @@ fn segment_factor(x: f64) -> f64 {
 
 /// `x / sin x`, with its series for `|x| < 10⁻²`.
 #[inline]
-fn x_over_sin(x: f64) -> f64 {
+pub(crate) fn x_over_sin(x: f64) -> f64 {
     if x.abs() < 1e-2 {
         let x2 = x * x;
         1.0 + x2 * (1.0 / 6.0 + x2 * (7.0 / 360.0))
     } else {
         x / x.sin()
+    }
+}
+
+/// [`segment_factor`] given `sin x` and `cos x`: `(x − sin x cos x)/sin² x`.
+#[inline]
+pub(crate) fn segment_factor_sc(x: f64, sin_x: f64, cos_x: f64) -> f64 {
+    if x.abs() < 1e-2 {
+        segment_factor(x)
+    } else {
+        (x - sin_x * cos_x) / (sin_x * sin_x)
+    }
+}
+
+/// [`x_over_sin`] given `sin x`.
+#[inline]
+pub(crate) fn x_over_sin_s(x: f64, sin_x: f64) -> f64 {
+    if x.abs() < 1e-2 {
+        x_over_sin(x)
+    } else {
+        x / sin_x
     }
 }
 

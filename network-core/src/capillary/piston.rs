@@ -1,7 +1,12 @@
 //! Piston-like imbibition threshold with hinged corner menisci.
 
-use super::corner::hinged_corner;
+use std::f64::consts::{FRAC_PI_2, PI};
+
+use super::corner::{segment_factor, segment_factor_sc, x_over_sin, x_over_sin_s};
 use super::section::{MAX_CORNERS, Section};
+
+#[cfg(doc)]
+use super::corner::hinged_corner;
 
 /// Result of the piston-like threshold solve ([`piston_imbibition`]).
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -31,43 +36,139 @@ struct Balance {
     valid: bool,
 }
 
-/// Evaluates the energy balance with the corner states at `pc`.
-#[inline]
-fn balance(
-    s: &Section,
-    theta_r: f64,
-    theta_a: f64,
-    cos_a: f64,
-    pc_max: f64,
+/// Per-corner constants of the hinging rule, so that one evaluation of the
+/// balance costs one `asin` per pinned corner.
+#[derive(Clone, Copy, Default)]
+struct CornerConsts {
+    wet: bool,
+    sb: f64,
+    cb: f64,
+    /// `cos(θr + β)`.
+    cr: f64,
+    /// `b_pd`, m.
+    b_pd: f64,
+    /// `cos(θa + β)`, or −1 when `θa + β ≥ π` (never advances).
+    c_adv: f64,
+    /// Segment and length factors of the receding (`θr`) and advancing
+    /// (`θa`) arcs, whose shape does not change with `Pc`.
+    f_r: f64,
+    g_r: f64,
+    f_a: f64,
+    g_a: f64,
+}
+
+/// The section and angles prepared for repeated balance evaluations.
+struct Prepared {
+    n: usize,
+    corner: [CornerConsts; MAX_CORNERS],
+    side: [f64; MAX_CORNERS],
+    area: f64,
+    perimeter: f64,
     sigma: f64,
-    pc: f64,
-) -> Balance {
-    let corners = s.corner_slice();
-    let mut b = [0.0; MAX_CORNERS];
-    let mut a_w = 0.0;
-    let mut l_ow = 0.0;
-    let mut sum_b = 0.0;
-    for (k, &beta) in corners.iter().enumerate() {
-        if let Some(m) = hinged_corner(pc, pc_max, theta_r, theta_a, beta, sigma) {
-            a_w += m.area(beta);
-            l_ow += m.arc_length(beta);
-            b[k] = m.b;
-            sum_b += m.b;
+    pc_max: f64,
+    cos_a: f64,
+}
+
+impl Prepared {
+    fn new(s: &Section, theta_r: f64, theta_a: f64, pc_max: f64, sigma: f64) -> Prepared {
+        let corners = s.corner_slice();
+        let mut p = Prepared {
+            n: corners.len(),
+            corner: [CornerConsts::default(); MAX_CORNERS],
+            side: [0.0; MAX_CORNERS],
+            area: s.area(),
+            perimeter: s.perimeter(),
+            sigma,
+            pc_max,
+            cos_a: theta_a.cos(),
+        };
+        for (k, &beta) in corners.iter().enumerate() {
+            p.side[k] = s.side_length(k);
+            let (sb, cb) = beta.sin_cos();
+            let x_r = FRAC_PI_2 - theta_r - beta;
+            let x_a = FRAC_PI_2 - theta_a - beta;
+            p.corner[k] = CornerConsts {
+                wet: x_r > 0.0 && pc_max > 0.0 && sigma > 0.0,
+                sb,
+                cb,
+                cr: (theta_r + beta).cos(),
+                b_pd: sigma / pc_max * (theta_r + beta).cos() / sb,
+                c_adv: if theta_a + beta >= PI {
+                    -1.0
+                } else {
+                    (theta_a + beta).cos()
+                },
+                f_r: segment_factor(x_r),
+                g_r: x_over_sin(x_r),
+                f_a: segment_factor(x_a),
+                g_a: x_over_sin(x_a),
+            };
         }
+        p
     }
-    let a_o = s.area() - a_w;
-    let l_os = s.perimeter() - 2.0 * sum_b;
-    let mut valid = a_o > 0.0;
-    let n = corners.len();
-    for k in 0..n {
-        if b[k] + b[(k + 1) % n] > s.side_length(k) {
-            valid = false;
+
+    /// True when some corner holds water after drainage.
+    fn any_water(&self) -> bool {
+        self.corner[..self.n].iter().any(|c| c.wet)
+    }
+
+    /// Corner `k` at `pc`: `(area, arc length, b)`, zeros when it holds no
+    /// stable arc. Same rule as [`hinged_corner`] (checked in the tests):
+    /// pinned while `cos(θh + β) = (Pc/Pc,max) cos(θr+β) ≥ cos(θa + β)`,
+    /// with `x = π/2 − θh − β = asin[(Pc/Pc,max) cos(θr+β)]`.
+    #[inline]
+    fn corner_at(&self, k: usize, pc: f64) -> (f64, f64, f64) {
+        let c = &self.corner[k];
+        if !c.wet {
+            return (0.0, 0.0, 0.0);
         }
+        let (b, f, g) = if pc >= self.pc_max {
+            (self.sigma / pc * c.cr / c.sb, c.f_r, c.g_r)
+        } else {
+            let cx = pc / self.pc_max * c.cr;
+            if cx < -1.0 {
+                return (0.0, 0.0, 0.0);
+            }
+            if cx >= c.c_adv {
+                let x = cx.asin();
+                let cos_x = (1.0 - cx * cx).max(0.0).sqrt();
+                (c.b_pd, segment_factor_sc(x, cx, cos_x), x_over_sin_s(x, cx))
+            } else if pc > 0.0 {
+                (self.sigma / pc * c.c_adv / c.sb, c.f_a, c.g_a)
+            } else {
+                return (0.0, 0.0, 0.0);
+            }
+        };
+        (b * b * c.sb * (c.cb - c.sb * f), 2.0 * b * c.sb * g, b)
     }
-    Balance {
-        f: pc * a_o - sigma * (l_ow + l_os * cos_a),
-        a_o,
-        valid,
+
+    /// The energy balance with the corner states at `pc`.
+    #[inline]
+    fn balance(&self, pc: f64) -> Balance {
+        let mut b = [0.0; MAX_CORNERS];
+        let mut a_w = 0.0;
+        let mut l_ow = 0.0;
+        let mut sum_b = 0.0;
+        for (k, bk) in b.iter_mut().enumerate().take(self.n) {
+            let (a, l, bb) = self.corner_at(k, pc);
+            a_w += a;
+            l_ow += l;
+            *bk = bb;
+            sum_b += bb;
+        }
+        let a_o = self.area - a_w;
+        let l_os = self.perimeter - 2.0 * sum_b;
+        let mut valid = a_o > 0.0;
+        for k in 0..self.n {
+            if b[k] + b[(k + 1) % self.n] > self.side[k] {
+                valid = false;
+            }
+        }
+        Balance {
+            f: pc * a_o - self.sigma * (l_ow + l_os * self.cos_a),
+            a_o,
+            valid,
+        }
     }
 }
 
@@ -119,16 +220,13 @@ pub fn piston_imbibition(
     if s.is_circle() {
         return plain;
     }
-    let any_water = s
-        .corner_slice()
-        .iter()
-        .any(|&beta| hinged_corner(pc_max, pc_max, theta_r, theta_a, beta, sigma).is_some());
-    if !any_water {
+    let prep = Prepared::new(s, theta_r, theta_a, pc_max, sigma);
+    if !prep.any_water() {
         // No corner terms: Pc A = σ P cos θa with A = RP/2.
         return plain;
     }
     let scale = sigma / s.radius;
-    let eval = |pc: f64| balance(s, theta_r, theta_a, cos_a, pc_max, sigma, pc);
+    let eval = |pc: f64| prep.balance(pc);
 
     // Upper end: F > 0 with a valid configuration.
     let mut hi = pc_max;
@@ -370,7 +468,8 @@ mod tests {
         let pc_max = 2.0 * drainage_entry_pc(&s, theta_r, sigma);
         for &pc in &[0.9 * pc_max, 0.3 * pc_max, 0.1 * pc_max, -0.2 * pc_max] {
             let h = 1e-5 * pc_max;
-            let e = |p| balance(&s, theta_r, theta_a, theta_a.cos(), pc_max, sigma, p);
+            let prep = Prepared::new(&s, theta_r, theta_a, pc_max, sigma);
+            let e = |p| prep.balance(p);
             let deriv = (e(pc + h).f - e(pc - h).f) / (2.0 * h);
             let a_o = e(pc).a_o;
             assert!(e(pc).valid);
@@ -440,5 +539,37 @@ mod tests {
         }
         // Measured: 2–7 steps over these cases (mostly 3–4).
         assert!(max_iter <= 12, "max iterations {max_iter}");
+    }
+
+    #[test]
+    fn prepared_corner_states_follow_the_hinging_rule() {
+        // The fast per-corner evaluation must agree with hinged_corner
+        // (same rule, Ma et al. 1996 / Valvatne & Blunt 2004) everywhere.
+        use crate::capillary::corner::hinged_corner;
+        let sigma = 0.03;
+        let betas = triangle_half_angles(0.02, 0.5);
+        let sq = [FRAC_PI_4; 4];
+        for b in [&betas[..], &sq[..]] {
+            let s = section(b, 1e-5);
+            for &(tr, ta) in &[(0.1, 0.5), (0.3, 1.4), (0.0, 2.2), (0.2, 3.1)] {
+                let pc_max = 1.5 * drainage_entry_pc(&s, tr, sigma);
+                let prep = Prepared::new(&s, tr, ta, pc_max, sigma);
+                for k in 0..=400 {
+                    let pc = pc_max * (1.2 - 4.0 * k as f64 / 400.0);
+                    for (i, &beta) in b.iter().enumerate() {
+                        let (a, l, bb) = prep.corner_at(i, pc);
+                        match hinged_corner(pc, pc_max, tr, ta, beta, sigma) {
+                            Some(m) => {
+                                let tol = 1e-12 * m.area(beta).max(1e-30);
+                                assert!((a - m.area(beta)).abs() <= tol, "pc={pc} β={beta}");
+                                assert!((l - m.arc_length(beta)).abs() <= 1e-12 * l);
+                                assert!((bb - m.b).abs() <= 1e-12 * bb);
+                            }
+                            None => assert_eq!((a, l, bb), (0.0, 0.0, 0.0), "pc={pc} β={beta}"),
+                        }
+                    }
+                }
+            }
+        }
     }
 }
