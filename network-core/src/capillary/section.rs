@@ -158,11 +158,15 @@ impl<'a> Section<'a> {
     }
 
     /// Length of the side between corners `i` and `i + 1` (cyclic),
-    /// `R (cot β_i + cot β_{i+1})`, m (the incircle touches every side).
+    /// `R (cot β_i + cot β_{i+1})`, m (the incircle touches every side);
+    /// zero for a circle.
     #[inline]
     pub fn side_length(&self, i: usize) -> f64 {
         let c = self.corner_slice();
         let n = c.len();
+        if n == 0 {
+            return 0.0;
+        }
         self.radius * (1.0 / c[i % n].tan() + 1.0 / c[(i + 1) % n].tan())
     }
 }

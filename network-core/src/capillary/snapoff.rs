@@ -101,25 +101,21 @@ pub fn snap_off_pc(
         if !spont_p {
             continue;
         }
-        // q pinned (or dry, b = 0) while p advances.
+        // q pinned (or dry, b = 0) while p advances. For consistent inputs
+        // (θa ≥ θr, pc_max ≥ entry) the meeting pressure found in each
+        // regime lies inside it by continuity of b(Pc), so no range check
+        // is needed; a candidate always exists for a spontaneous corner.
         let rest = side - if wet[q] { b_pd[q] } else { 0.0 };
-        if rest > 0.0 {
-            let pc = sigma * e[p] / rest;
-            let q_still_pinned = !spont_q || pc >= pc_adv[q];
-            if q_still_pinned && pc <= pc_adv[p] {
-                best = best.max(pc);
-                continue;
-            }
-        } else {
-            // Drainage left arcs touching already: snap-off at once.
+        if rest <= 0.0 {
+            // Drainage left the arcs touching already: snap-off at once.
             best = best.max(pc_max);
             continue;
         }
-        if spont_q {
-            let pc = sigma * (e[p] + e[q]) / side;
-            if pc <= pc_adv[q] {
-                best = best.max(pc);
-            }
+        let pc_one = sigma * e[p] / rest;
+        if !spont_q || pc_one >= pc_adv[q] {
+            best = best.max(pc_one);
+        } else {
+            best = best.max(sigma * (e[p] + e[q]) / side);
         }
     }
     Some(best)
