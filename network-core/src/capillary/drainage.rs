@@ -184,8 +184,11 @@ mod tests {
 
     #[test]
     fn entry_pc_falls_as_receding_angle_grows() {
-        // The MS-P entry pressure decreases monotonically with θ (Ma et al.
-        // 1996, their figures; follows from ∂(Pc A_o − σ(...))/∂θ > 0).
+        // Analytic: the MS-P residual F = Pc A_o − σ(L_ow + L_os cos θ) is, at
+        // fixed Pc, the maximum over contact positions of the virtual-work
+        // function (see piston.rs); by the envelope theorem ∂F/∂cos θ =
+        // −σ L_os < 0, so F grows with θ and its root, the entry pressure,
+        // falls (dry-corner branches included).
         let c = [FRAC_PI_4; 4];
         let s = Section::new(1e-5, G_SQUARE, &c);
         let mut last = f64::INFINITY;

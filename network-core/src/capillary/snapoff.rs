@@ -272,8 +272,9 @@ mod tests {
 
     #[test]
     fn circles_and_dry_corners_cannot_snap_off() {
-        // Circular elements hold no corner water (Roof 1970 discussion;
-        // Valvatne & Blunt 2004); dry corners (θr ≥ π/2 − β) neither.
+        // Circular elements hold no corner water and cannot snap off
+        // (Valvatne & Blunt 2004); dry corners (θr ≥ π/2 − β; Concus & Finn
+        // 1969) neither.
         assert!(snap_off_pc(&Section::new(1e-5, G_CIRCLE, &[]), 0.0, 0.3, 1e4, 0.03).is_none());
         let sq = [FRAC_PI_4; 4];
         let s = Section::new(1e-5, G_SQUARE, &sq);
