@@ -12,6 +12,9 @@
 //!   a compressed adjacency, validated on construction ([`validate`]).
 //! - [`geometry`]: shape classes, corner half-angles (Patzek 2001), areas.
 //! - [`connectivity`]: components, the spanning cluster, face masks.
+//! - [`capillary`]: one element's capillary physics (entry, hinging corner
+//!   menisci, piston-like filling, snap-off, `I_n` filling, oil layers,
+//!   corner-film conductance) as pure functions.
 //! - [`progress`]: the callback through which long calls report progress.
 //! - [`generate`]: seeded statistical lattice networks ([`generate::generate`]).
 //!
@@ -60,6 +63,7 @@
 
 #![warn(missing_docs)]
 
+pub mod capillary;
 pub mod connectivity;
 pub mod engine;
 pub mod generate;
