@@ -200,7 +200,10 @@ impl Engine<'_> {
         if access {
             let theta_a = self.angles.advancing[e];
             if e < self.n_p && theta_a < FRAC_PI_2 && n_oil_throats >= 2 {
-                best = self.cooperative_pc(e, n_oil_throats, n_throats);
+                // A water reservoir at a face counts as one more water-filled
+                // connection.
+                let n_conn = n_throats + self.is_water_entry(e) as usize;
+                best = self.cooperative_pc(e, n_oil_throats, n_conn);
                 kind = EventKind::Cooperative;
             } else {
                 best = self.piston[e];
@@ -294,6 +297,7 @@ impl Engine<'_> {
             let s = &self.dyn_.state;
             self.for_each_neighbour(e, |n| n_oil_throats += s.oil[n] as usize);
         }
+        let at_outlet = self.boundary(e) == Boundary::Outlet;
         {
             let d = &mut self.dyn_;
             d.state.oil[e] = false;
@@ -312,7 +316,7 @@ impl Engine<'_> {
                 (_, true) => c.piston_pores += 1,
                 (_, false) => c.piston_throats += 1,
             }
-            if d.breakthrough_pc.is_none() && self.boundary(e) == Boundary::Outlet {
+            if d.breakthrough_pc.is_none() && at_outlet {
                 d.breakthrough_pc = Some(pc);
             }
         }
