@@ -13,6 +13,8 @@
 //! - [`geometry`]: shape classes, corner half-angles (Patzek 2001), areas.
 //! - [`connectivity`]: components, the spanning cluster, face masks.
 //! - [`progress`]: the callback through which long calls report progress.
+//! - [`fit`]: Corey, Brooks–Corey, LET, Land and Archie models and their
+//!   least-squares fits.
 //!
 //! Pores and throats are both *elements* of a displacement: one index space,
 //! pores first (`0..n_pores`), then throats (`n_pores..n_pores + n_throats`);
@@ -60,6 +62,7 @@
 #![warn(missing_docs)]
 
 pub mod connectivity;
+pub mod fit;
 pub mod geometry;
 pub mod network;
 pub mod numeric;
