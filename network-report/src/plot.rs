@@ -12,7 +12,7 @@
 //! output names the generic `sans-serif` family and leaves the choice to
 //! the viewer). Series colours
 //! cycle through [`PALETTE`], seven colours of the colour-blind-safe set of
-//! Okabe & Ito (2008, "Color Universal Design", J*Fly data depository),
+//! Okabe & Ito (2008, "Color Universal Design (CUD)", web publication),
 //! yellow left out for contrast on white, in our own order.
 //!
 //! ## Data handling
