@@ -23,7 +23,8 @@
 //! `lm`) on parameters that must be positive, transformed to their
 //! logarithms so that every step stays feasible. The starting point comes
 //! from a log–log straight-line fit; the LET fit also tries a fixed grid of
-//! starts and keeps the best. Parameter standard errors are the linearised
+//! starts, keeps the best, and confines `L`, `E`, `T` to boxes (flagging a
+//! fit that ends on a bound). Parameter standard errors are the linearised
 //! estimates $s\sqrt{[(J^T J)^{-1}]_{jj}}$ with $s^2 = \mathrm{SSE}/(m - p)$,
 //! mapped back to the natural parameters.
 
@@ -399,7 +400,7 @@ pub fn fit_corey(sw: &[f64], kr: &[f64], opts: &KrFitOptions) -> Result<CoreyFit
         kr_max: fixed.unwrap_or_else(|| q[1].exp()),
         exponent: q[0].exp(),
     };
-    let se = log_param_std_errors(&out, pts.n_used(opts.objective)).map(|s| CoreyParams {
+    let se = param_std_errors(&out, pts.n_used(opts.objective)).map(|s| CoreyParams {
         exponent: params.exponent * s[0],
         kr_max: if fixed.is_some() {
             0.0
@@ -427,6 +428,11 @@ pub struct LetFit {
     /// Standard errors of the parameters (0 for a fixed `kr_max`); `None`
     /// without degrees of freedom or when `JᵀJ` is singular.
     pub std_error: Option<LetParams>,
+    /// Whether `L`, `E` or `T` ended at a bound of its box
+    /// ([`LET_L_BOUNDS`], [`LET_E_BOUNDS`], [`LET_T_BOUNDS`]): the data do
+    /// not determine the LET shape; read the parameters with care or prefer
+    /// a Corey fit.
+    pub at_bound: bool,
     /// Fit error.
     pub quality: FitQuality,
 }
@@ -435,8 +441,9 @@ pub struct LetFit {
 /// 2005, SCA2005-32) to relative permeabilities `kr` at water saturations
 /// `sw` (fractions).
 ///
-/// Least squares on `(ln L, ln E, ln T[, ln kr_max])` from a fixed grid of 27
-/// starting points (`L ∈ {1, 2, 4}`, `E ∈ {0.1, 1, 10}`, `T ∈ {0.5, 1.5, 4}`,
+/// Least squares on `L`, `E`, `T` (each confined to a box, see
+/// [`LET_L_BOUNDS`], through a smooth map of its logarithm) and `ln kr_max`,
+/// from a fixed grid of 27 starting points (`L ∈ {1, 2, 4}`, `E ∈ {0.1, 1, 10}`, `T ∈ {0.5, 1.5, 4}`,
 /// `kr_max` from the largest datum); the best converged result is kept, so
 /// the fit is deterministic. Needs at least as many points with
 /// `S_wn ∈ [0, 1]` as free parameters (3 or 4); LET has more freedom than
@@ -446,10 +453,18 @@ pub fn fit_let(sw: &[f64], kr: &[f64], opts: &KrFitOptions) -> Result<LetFit, Fi
     let fixed = fixed_kr_max(opts.kr_max)?;
     let n_par = if fixed.is_some() { 3 } else { 4 };
     require(&pts, n_par, "LET fit")?;
-    let model = |q: &[f64], x: f64| {
-        let p = let_from_log(q, fixed);
-        p.kr(x, Phase::Wetting)
+    let boxes = [
+        LogBox::new(LET_L_BOUNDS),
+        LogBox::new(LET_E_BOUNDS),
+        LogBox::new(LET_T_BOUNDS),
+    ];
+    let from_q = move |q: &[f64]| LetParams {
+        l: boxes[0].value(q[0]),
+        e: boxes[1].value(q[1]),
+        t: boxes[2].value(q[2]),
+        kr_max: fixed.unwrap_or_else(|| q[3].exp()),
     };
+    let model = |q: &[f64], x: f64| from_q(q).kr(x, Phase::Wetting);
     let k0 = pts
         .y
         .iter()
@@ -461,7 +476,7 @@ pub fn fit_let(sw: &[f64], kr: &[f64], opts: &KrFitOptions) -> Result<LetFit, Fi
     for l0 in [1.0f64, 2.0, 4.0] {
         for e0 in [0.1f64, 1.0, 10.0] {
             for t0 in [0.5f64, 1.5, 4.0] {
-                let mut p0 = vec![l0.ln(), e0.ln(), t0.ln()];
+                let mut p0 = vec![boxes[0].start(l0), boxes[1].start(e0), boxes[2].start(t0)];
                 if fixed.is_none() {
                     p0.push(k0.ln());
                 }
@@ -482,23 +497,76 @@ pub fn fit_let(sw: &[f64], kr: &[f64], opts: &KrFitOptions) -> Result<LetFit, Fi
             detail: "no start converged".into(),
         }));
     };
-    let params = let_from_log(&out.params, fixed);
-    let se = log_param_std_errors(&out, pts.n_used(opts.objective)).map(|s| LetParams {
-        l: params.l * s[0],
-        e: params.e * s[1],
-        t: params.t * s[2],
+    let q = &out.params;
+    let params = from_q(q);
+    let se = param_std_errors(&out, pts.n_used(opts.objective)).map(|s| LetParams {
+        l: boxes[0].derivative(q[0]) * s[0],
+        e: boxes[1].derivative(q[1]) * s[1],
+        t: boxes[2].derivative(q[2]) * s[2],
         kr_max: if fixed.is_some() {
             0.0
         } else {
             params.kr_max * s[3]
         },
     });
+    let at_bound = (0..3).any(|j| boxes[j].at_bound(q[j]));
     let quality = pts.quality(|x| params.kr(x, Phase::Wetting), opts.objective, &out);
     Ok(LetFit {
         params,
         std_error: se,
+        at_bound,
         quality,
     })
+}
+
+/// Bounds `(min, max)` of the LET `L` in [`fit_let`]. The three boxes are
+/// our choice, not part of the LET correlation: they keep the fit away from
+/// degenerate shapes that noisy data can otherwise reach.
+pub const LET_L_BOUNDS: (f64, f64) = (0.1, 50.0);
+/// Bounds `(min, max)` of the LET `E` in [`fit_let`].
+pub const LET_E_BOUNDS: (f64, f64) = (1e-4, 1e4);
+/// Bounds `(min, max)` of the LET `T` in [`fit_let`]. `T > 0` keeps
+/// `kr(end) = kr_max`: at `T = 0` the end point would be `kr_max/(1 + E)`.
+pub const LET_T_BOUNDS: (f64, f64) = (0.1, 50.0);
+
+/// A parameter confined to `[a, b]` through `ln θ = m + h tanh q` (`m`, `h`:
+/// centre and half-width of `[ln a, ln b]`), so that every solver step is
+/// feasible and the map is smooth.
+#[derive(Clone, Copy)]
+struct LogBox {
+    mid: f64,
+    half: f64,
+}
+
+impl LogBox {
+    fn new((a, b): (f64, f64)) -> LogBox {
+        LogBox {
+            mid: 0.5 * (a.ln() + b.ln()),
+            half: 0.5 * (b.ln() - a.ln()),
+        }
+    }
+
+    fn value(self, q: f64) -> f64 {
+        (self.mid + self.half * q.tanh()).exp()
+    }
+
+    /// Solver coordinate of a value inside the box.
+    fn start(self, v: f64) -> f64 {
+        ((v.ln() - self.mid) / self.half)
+            .clamp(-0.999_999, 0.999_999)
+            .atanh()
+    }
+
+    /// `dθ/dq`, for the delta-method standard error.
+    fn derivative(self, q: f64) -> f64 {
+        let t = q.tanh();
+        self.value(q) * self.half * (1.0 - t * t)
+    }
+
+    /// Whether `q` maps to within a relative `1e-6` of a bound.
+    fn at_bound(self, q: f64) -> bool {
+        (1.0 - q.tanh().abs()) * self.half < 1e-6
+    }
 }
 
 /// A fitted Brooks–Corey pore-size distribution index from kr data.
@@ -613,7 +681,7 @@ pub fn fit_brooks_corey_kr(
         });
     }
     let lambda = out.params[0].exp();
-    let se = log_param_std_errors(&out, m).map(|s| lambda * s[0]);
+    let se = param_std_errors(&out, m).map(|s| lambda * s[0]);
     let model: Vec<f64> = (0..res_x.len())
         .map(|i| bc(lambda, res_x[i], phases[i]))
         .collect();
@@ -1356,11 +1424,11 @@ fn run_lm(
     Ok(out)
 }
 
-/// Standard errors of log-parameters, `s √[(JᵀJ)⁻¹]_jj` with
+/// Standard errors of the solver parameters `q`, `s √[(JᵀJ)⁻¹]_jj` with
 /// `s² = SSE/(m − p)`; `None` when `m ≤ p` or `JᵀJ` is singular. For a
-/// parameter `θ = e^q` the standard error of `θ` is `θ` times the returned
-/// value (delta method).
-fn log_param_std_errors(out: &LmOutcome, m: usize) -> Option<Vec<f64>> {
+/// natural parameter `θ(q)` the standard error is `|dθ/dq|` times the
+/// returned value (delta method; `θ` itself for `θ = e^q`).
+fn param_std_errors(out: &LmOutcome, m: usize) -> Option<Vec<f64>> {
     let p = out.params.len();
     if m <= p {
         return None;
@@ -1369,15 +1437,6 @@ fn log_param_std_errors(out: &LmOutcome, m: usize) -> Option<Vec<f64>> {
     let s2 = out.sum_sq / (m - p) as f64;
     let se: Vec<f64> = (0..p).map(|j| (s2 * inv[j * p + j]).sqrt()).collect();
     se.iter().all(|v| v.is_finite()).then_some(se)
-}
-
-fn let_from_log(q: &[f64], fixed: Option<f64>) -> LetParams {
-    LetParams {
-        l: q[0].exp(),
-        e: q[1].exp(),
-        t: q[2].exp(),
-        kr_max: fixed.unwrap_or_else(|| q[3].exp()),
-    }
 }
 
 /// Minimum of `f` on `[lo, hi]`: scan `n_scan + 1` points, then golden-section

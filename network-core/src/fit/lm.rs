@@ -16,7 +16,8 @@ pub(crate) struct LmOptions {
     /// Maximum number of Jacobian evaluations (outer iterations).
     pub max_iterations: usize,
     /// Stop when an accepted step changes every parameter by less than
-    /// `x_tol · (|p| + x_tol)`.
+    /// `x_tol · (|p| + 1)` (the parameters here are logarithms or of order
+    /// one, so the scale is absolute near zero and relative far from it).
     pub x_tol: f64,
     /// Stop when an accepted step reduces the cost by a relative amount below
     /// `f_tol` (both actual and predicted reduction).
@@ -158,7 +159,7 @@ pub(crate) fn minimise<R: Residuals>(res: &R, p0: &[f64], opts: LmOptions) -> Op
             let small_step = delta
                 .iter()
                 .zip(&trial)
-                .all(|(d, x)| d.abs() <= opts.x_tol * (x.abs() + opts.x_tol));
+                .all(|(d, x)| d.abs() <= opts.x_tol * (x.abs() + 1.0));
             let small_reduction = actual <= opts.f_tol * cost && predicted <= opts.f_tol * cost;
             p = trial;
             std::mem::swap(&mut r, &mut r_trial);
@@ -171,12 +172,12 @@ pub(crate) fn minimise<R: Residuals>(res: &R, p0: &[f64], opts: LmOptions) -> Op
                 break;
             }
         } else {
-            // A step too small to change any parameter means we are at the
+            // A rejected step too small to matter means we are at the
             // floating-point minimum.
             if delta
                 .iter()
                 .zip(&p)
-                .all(|(d, x)| d.abs() <= f64::EPSILON * x.abs().max(f64::MIN_POSITIVE))
+                .all(|(d, x)| d.abs() <= 4.0 * f64::EPSILON * (x.abs() + 1.0))
             {
                 converged = true;
                 break;

@@ -545,3 +545,98 @@ mod no_panic {
         }
     }
 }
+
+#[test]
+fn let_fit_of_noisy_data_is_within_four_standard_errors() {
+    // LET (Lomeland et al. 2005) with E = T = 1 (their logarithms at 0, a
+    // hard case for step tests) plus seeded noise σ = 0.003 on 61 points.
+    // Tolerance: four a-priori standard errors σ √[(JᵀJ)⁻¹]_jj, with J the
+    // Jacobian of the model in (L, E, T, kr_max) at the true parameters
+    // (central differences of the closed form, step 1e-6).
+    let truth = LetParams {
+        kr_max: 0.5,
+        l: 2.0,
+        e: 1.0,
+        t: 1.0,
+    };
+    let sigma = 0.003;
+    let x = grid(0.0, 1.0, 61);
+    let kr: Vec<f64> = x
+        .iter()
+        .enumerate()
+        .map(|(i, &s)| truth.kr(s, Phase::Wetting) + sigma * normal(31, i as u64))
+        .collect();
+    let fit = fit_let(
+        &x,
+        &kr,
+        &opts(
+            Phase::Wetting,
+            Normalisation::NONE,
+            KrMax::Fit,
+            Objective::Linear,
+        ),
+    )
+    .unwrap();
+    assert!(!fit.at_bound, "{fit:?}");
+    let with = |j: usize, v: f64| {
+        let mut p = truth;
+        match j {
+            0 => p.l = v,
+            1 => p.e = v,
+            2 => p.t = v,
+            _ => p.kr_max = v,
+        }
+        p
+    };
+    let base = [truth.l, truth.e, truth.t, truth.kr_max];
+    let mut jtj = [0.0; 16];
+    for &s in &x {
+        let g: Vec<f64> = (0..4)
+            .map(|j| {
+                let h = 1e-6;
+                (with(j, base[j] + h).kr(s, Phase::Wetting)
+                    - with(j, base[j] - h).kr(s, Phase::Wetting))
+                    / (2.0 * h)
+            })
+            .collect();
+        for r in 0..4 {
+            for c in 0..4 {
+                jtj[r * 4 + c] += g[r] * g[c];
+            }
+        }
+    }
+    let got = [fit.params.l, fit.params.e, fit.params.t, fit.params.kr_max];
+    for j in 0..4 {
+        let mut e = [0.0; 4];
+        e[j] = 1.0;
+        let col = super::lm::solve(&jtj, &e, 4).unwrap();
+        let se = sigma * col[j].sqrt();
+        assert!(
+            (got[j] - base[j]).abs() < 4.0 * se,
+            "param {j}: {fit:?}, se {se}"
+        );
+    }
+    assert!(rel(fit.quality.rmse, sigma) < 0.3, "{fit:?}");
+}
+
+#[test]
+fn let_fit_flags_parameters_at_their_bounds() {
+    // Constant data kr = 0.3 for Swn ∈ [0.05, 1]: the LET form reaches a
+    // constant only as E → 0 (analytic: kr → kr_max), so E ends at its
+    // lower bound and the fit says so.
+    let x = grid(0.05, 1.0, 20);
+    let kr = vec![0.3; x.len()];
+    let fit = fit_let(
+        &x,
+        &kr,
+        &opts(
+            Phase::Wetting,
+            Normalisation::NONE,
+            KrMax::Fit,
+            Objective::Linear,
+        ),
+    )
+    .unwrap();
+    assert!(fit.at_bound, "{fit:?}");
+    assert!(rel(fit.params.kr_max, 0.3) < 1e-3, "{fit:?}");
+}
