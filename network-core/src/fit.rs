@@ -386,7 +386,9 @@ pub fn fit_corey(sw: &[f64], kr: &[f64], opts: &KrFitOptions) -> Result<CoreyFit
     let n_par = if fixed.is_some() { 1 } else { 2 };
     require(&pts, n_par, "Corey fit")?;
     let (n0, k0) = power_law_guess(&pts.x, &pts.y, fixed);
-    let model = |q: &[f64], x: f64| {
+    // x is the phase's own normalised saturation, so one power law serves
+    // both phases.
+    let model = |q: &[f64], x: f64, _: Phase| {
         let kmax = fixed.unwrap_or_else(|| q[1].exp());
         kmax * x.powf(q[0].exp())
     };
@@ -409,7 +411,7 @@ pub fn fit_corey(sw: &[f64], kr: &[f64], opts: &KrFitOptions) -> Result<CoreyFit
         },
     });
     let quality = pts.quality(
-        |x| params.kr_max * x.powf(params.exponent),
+        |x, _| params.kr_max * x.powf(params.exponent),
         opts.objective,
         &out,
     );
@@ -464,7 +466,8 @@ pub fn fit_let(sw: &[f64], kr: &[f64], opts: &KrFitOptions) -> Result<LetFit, Fi
         t: boxes[2].value(q[2]),
         kr_max: fixed.unwrap_or_else(|| q[3].exp()),
     };
-    let model = |q: &[f64], x: f64| from_q(q).kr(x, Phase::Wetting);
+    // x is the phase's own normalised saturation: the wetting form serves both.
+    let model = |q: &[f64], x: f64, _: Phase| from_q(q).kr(x, Phase::Wetting);
     let k0 = pts
         .y
         .iter()
@@ -510,7 +513,7 @@ pub fn fit_let(sw: &[f64], kr: &[f64], opts: &KrFitOptions) -> Result<LetFit, Fi
         },
     });
     let at_bound = (0..3).any(|j| boxes[j].at_bound(q[j]));
-    let quality = pts.quality(|x| params.kr(x, Phase::Wetting), opts.objective, &out);
+    let quality = pts.quality(|x, _| params.kr(x, Phase::Wetting), opts.objective, &out);
     Ok(LetFit {
         params,
         std_error: se,
@@ -638,54 +641,15 @@ pub fn fit_brooks_corey_kr(
         let (eps, _) = power_law_guess(&xs, &ys, Some(1.0));
         if eps > 3.05 { 2.0 / (eps - 3.0) } else { 2.0 }
     };
-    let phases = pts.phase.clone();
-    let bc = move |lambda: f64, x: f64, ph: Phase| match ph {
+    let bc = |lambda: f64, x: f64, ph: Phase| match ph {
         Phase::Wetting => brooks_corey_krw(x, lambda),
         Phase::NonWetting => brooks_corey_krn(x, lambda),
     };
-    let res_x = pts.x.clone();
-    let res_y = pts.y.clone();
-    let used: Vec<usize> = (0..res_x.len())
-        .filter(|&i| objective == Objective::Linear || res_y[i] > 0.0)
-        .collect();
-    let m = used.len();
-    if m < 1 {
-        return Err(FitError::TooFewPoints {
-            what: "Brooks–Corey kr fit",
-            n_used: 0,
-            n_required: 1,
-        });
-    }
-    let residuals = (m, |q: &[f64], out: &mut [f64]| {
-        let lambda = q[0].exp();
-        for (k, &i) in used.iter().enumerate() {
-            let f = bc(lambda, res_x[i], phases[i]);
-            out[k] = match objective {
-                Objective::Linear => f - res_y[i],
-                Objective::Log => f.ln() - res_y[i].ln(),
-            };
-        }
-        true
-    });
-    let out = minimise(&residuals, &[lambda0.ln()], LmOptions::default()).ok_or(
-        FitError::Degenerate {
-            what: "Brooks–Corey kr fit",
-            detail: "model not finite at the starting point".into(),
-        },
-    )?;
-    if !out.converged {
-        return Err(FitError::NoConvergence {
-            model: "Brooks–Corey kr",
-            iterations: out.iterations,
-            rmse: (out.sum_sq / m as f64).sqrt(),
-        });
-    }
+    let model = |q: &[f64], x: f64, ph: Phase| bc(q[0].exp(), x, ph);
+    let out = run_lm(&pts, objective, &[lambda0.ln()], &model, "Brooks–Corey kr")?;
     let lambda = out.params[0].exp();
-    let se = param_std_errors(&out, m).map(|s| lambda * s[0]);
-    let model: Vec<f64> = (0..res_x.len())
-        .map(|i| bc(lambda, res_x[i], phases[i]))
-        .collect();
-    let quality = quality_from(&model, &res_y, &used, pts.n_excluded, out.iterations);
+    let se = param_std_errors(&out, pts.n_used(objective)).map(|s| lambda * s[0]);
+    let quality = pts.quality(|x, ph| bc(lambda, x, ph), objective, &out);
     Ok(BrooksCoreyKrFit {
         lambda,
         lambda_std_error: se,
@@ -1263,11 +1227,16 @@ impl KrPoints {
 
     fn quality(
         &self,
-        model: impl Fn(f64) -> f64,
+        model: impl Fn(f64, Phase) -> f64,
         objective: Objective,
         out: &LmOutcome,
     ) -> FitQuality {
-        let m: Vec<f64> = self.x.iter().map(|&x| model(x)).collect();
+        let m: Vec<f64> = self
+            .x
+            .iter()
+            .zip(&self.phase)
+            .map(|(&x, &ph)| model(x, ph))
+            .collect();
         quality_from(
             &m,
             &self.y,
@@ -1389,7 +1358,7 @@ fn run_lm(
     pts: &KrPoints,
     objective: Objective,
     p0: &[f64],
-    model: &dyn Fn(&[f64], f64) -> f64,
+    model: &dyn Fn(&[f64], f64, Phase) -> f64,
     name: &'static str,
 ) -> Result<LmOutcome, FitError> {
     let used = pts.used(objective);
@@ -1402,7 +1371,7 @@ fn run_lm(
     }
     let residuals = (used.len(), |q: &[f64], out: &mut [f64]| {
         for (k, &i) in used.iter().enumerate() {
-            let f = model(q, pts.x[i]);
+            let f = model(q, pts.x[i], pts.phase[i]);
             out[k] = match objective {
                 Objective::Linear => f - pts.y[i],
                 Objective::Log => f.ln() - pts.y[i].ln(),
