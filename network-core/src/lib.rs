@@ -17,6 +17,8 @@
 //!   corner-film conductance) as pure functions.
 //! - [`progress`]: the callback through which long calls report progress.
 //! - [`generate`]: seeded statistical lattice networks ([`generate::generate`]).
+//! - [`fit`]: Corey, Brooks–Corey, LET, Land and Archie models and their
+//!   least-squares fits.
 //!
 //! Pores and throats are both *elements* of a displacement: one index space,
 //! pores first (`0..n_pores`), then throats (`n_pores..n_pores + n_throats`);
@@ -66,6 +68,7 @@
 pub mod capillary;
 pub mod connectivity;
 pub mod engine;
+pub mod fit;
 pub mod generate;
 pub mod geometry;
 pub mod indices;
