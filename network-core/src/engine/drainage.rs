@@ -243,8 +243,15 @@ impl Engine<'_> {
         let pc = self.dyn_.state.pc;
         let d = &mut self.dyn_;
         for e in 0..d.state.oil.len() {
-            if d.state.oil[e] && !d.state.oil_trapped[e] && d.state.pc_max[e] < pc {
-                d.state.pc_max[e] = pc;
+            if d.state.oil[e] && !d.state.oil_trapped[e] {
+                // Corner menisci stopped receding at the final pressure, or
+                // earlier where their water was trapped.
+                let seen = if d.state.frozen_pc[e].is_finite() {
+                    d.state.frozen_pc[e]
+                } else {
+                    pc
+                };
+                d.state.pc_max[e] = d.state.pc_max[e].max(seen);
             }
         }
         self.mode = Mode::Idle;

@@ -57,13 +57,30 @@ pub struct ProcessOutcome {
 
 /// Advances the engine to capillary pressure `pc`, applying every event on
 /// the way; `on_event` is called after each event.
-pub fn advance_to(engine: &mut Engine<'_>, pc: f64, mut on_event: impl FnMut(&Engine<'_>)) {
+pub fn advance_to(engine: &mut Engine<'_>, pc: f64, on_event: impl FnMut(&Engine<'_>)) {
+    advance_limited(engine, pc, u64::MAX, on_event);
+}
+
+/// Like [`advance_to`] but applies at most `max_events` events; when the
+/// limit stops it, the capillary pressure stays at the last event's
+/// threshold. Returns the number of events applied.
+pub fn advance_limited(
+    engine: &mut Engine<'_>,
+    pc: f64,
+    max_events: u64,
+    mut on_event: impl FnMut(&Engine<'_>),
+) -> u64 {
     let mode = engine.mode();
+    let mut applied = 0u64;
     let order = match mode {
         Mode::Drainage => Order::Ascending,
         _ => Order::Descending,
     };
     while engine.dyn_.queue.next_within(pc) {
+        if applied == max_events {
+            return applied;
+        }
+        applied += 1;
         let Some(ev) = engine.dyn_.queue.pop() else {
             break;
         };
@@ -80,6 +97,7 @@ pub fn advance_to(engine: &mut Engine<'_>, pc: f64, mut on_event: impl FnMut(&En
         on_event(engine);
     }
     engine.dyn_.state.pc = pc;
+    applied
 }
 
 fn levels(start: f64, end: f64, n: usize) -> Vec<f64> {
@@ -269,9 +287,25 @@ fn bisect(
             lo_snap = engine.snapshot();
         }
     }
+    // The crossing may lie inside a cascade of events at one pressure:
+    // bisect on the number of events (invasion-percolation order).
+    engine.restore(lo_snap.clone());
+    let n_total = advance_limited(engine, hi, u64::MAX, |_| {});
+    let (mut k_lo, mut k_hi) = (0u64, n_total);
+    while k_hi - k_lo > 1 {
+        let k = k_lo + (k_hi - k_lo) / 2;
+        engine.restore(lo_snap.clone());
+        advance_limited(engine, hi, k, |_| {});
+        if reached(engine.saturation().sw) {
+            k_hi = k;
+        } else {
+            k_lo = k;
+        }
+    }
     engine.restore(lo_snap);
-    advance_to(engine, hi, |_| {});
-    (hi, engine.saturation())
+    advance_limited(engine, hi, k_hi, |_| {});
+    let pc = engine.dyn_.state.pc;
+    (pc, engine.saturation())
 }
 
 fn finish(

@@ -81,7 +81,9 @@ impl Engine<'_> {
                 return (0.0, 0.0);
             }
             if self.mode == Mode::Drainage && !s.oil_trapped[e] && self.dyn_.connected[e] {
-                pc_max = pc_max.max(s.pc);
+                // Still receding with the invading phase (or frozen by
+                // trapped film water at `pc`).
+                pc_max = pc_max.max(pc);
             }
             let a = if pc >= pc_max {
                 capillary::drainage_corner_water_area(&sec, theta_pin, sigma, pc)
