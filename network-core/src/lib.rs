@@ -12,6 +12,8 @@
 //!   a compressed adjacency, validated on construction ([`validate`]).
 //! - [`geometry`]: shape classes, corner half-angles (Patzek 2001), areas.
 //! - [`connectivity`]: components, the spanning cluster, face masks.
+//! - [`io`]: the CSV network folder and the binary `.gnet` file (the only
+//!   module that touches the file system).
 //! - [`progress`]: the callback through which long calls report progress.
 //!
 //! Pores and throats are both *elements* of a displacement: one index space,
@@ -61,6 +63,7 @@
 
 pub mod connectivity;
 pub mod geometry;
+pub mod io;
 pub mod network;
 pub mod numeric;
 pub mod progress;
