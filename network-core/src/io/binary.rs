@@ -32,6 +32,7 @@
 use std::io::{self, Write};
 use std::path::Path;
 
+use rayon::prelude::*;
 use serde::{Deserialize, Deserializer, Serialize, Serializer};
 
 use super::atomic::AtomicFile;
@@ -136,7 +137,6 @@ struct Columns(Vec<Vec<u8>>);
 
 impl Columns {
     fn of(network: &Network) -> Columns {
-        use rayon::prelude::*;
         let p = network.pores();
         let t = network.throats();
         let floats: [&[f64]; 14] = [
@@ -400,25 +400,51 @@ fn decode_payload(payload: &[u8]) -> Result<Decoded, String> {
             ]
         })
         .collect();
+    // The 14 float columns, decoded in parallel (fixed order).
+    let raw = [
+        (p.pore_x, n_p, "pore x"),
+        (p.pore_y, n_p, "pore y"),
+        (p.pore_z, n_p, "pore z"),
+        (p.pore_radius, n_p, "pore radius"),
+        (p.pore_shape_factor, n_p, "pore shape factor"),
+        (p.pore_volume, n_p, "pore volume"),
+        (p.pore_clay_volume, n_p, "pore clay volume"),
+        (p.throat_radius, n_t, "throat radius"),
+        (p.throat_shape_factor, n_t, "throat shape factor"),
+        (p.throat_volume, n_t, "throat volume"),
+        (p.throat_clay_volume, n_t, "throat clay volume"),
+        (p.throat_length, n_t, "throat length"),
+        (p.throat_conduit_a, n_t, "throat conduit a"),
+        (p.throat_conduit_b, n_t, "throat conduit b"),
+    ];
+    let decoded: Vec<Result<Vec<f64>, String>> = raw
+        .par_iter()
+        .map(|&(r, n, what)| f64_column(r, n, what))
+        .collect();
+    let mut cols = decoded
+        .into_iter()
+        .collect::<Result<Vec<Vec<f64>>, String>>()?
+        .into_iter();
+    let mut next = || cols.next().unwrap_or_default();
     let pores = Pores {
-        x: f64_column(p.pore_x, n_p, "pore x")?,
-        y: f64_column(p.pore_y, n_p, "pore y")?,
-        z: f64_column(p.pore_z, n_p, "pore z")?,
-        radius: f64_column(p.pore_radius, n_p, "pore radius")?,
-        shape_factor: f64_column(p.pore_shape_factor, n_p, "pore shape factor")?,
-        volume: f64_column(p.pore_volume, n_p, "pore volume")?,
-        clay_volume: f64_column(p.pore_clay_volume, n_p, "pore clay volume")?,
+        x: next(),
+        y: next(),
+        z: next(),
+        radius: next(),
+        shape_factor: next(),
+        volume: next(),
+        clay_volume: next(),
         boundary,
     };
     let throats = Throats {
         pores: ends,
-        radius: f64_column(p.throat_radius, n_t, "throat radius")?,
-        shape_factor: f64_column(p.throat_shape_factor, n_t, "throat shape factor")?,
-        volume: f64_column(p.throat_volume, n_t, "throat volume")?,
-        clay_volume: f64_column(p.throat_clay_volume, n_t, "throat clay volume")?,
-        length: f64_column(p.throat_length, n_t, "throat length")?,
-        conduit_a: f64_column(p.throat_conduit_a, n_t, "throat conduit a")?,
-        conduit_b: f64_column(p.throat_conduit_b, n_t, "throat conduit b")?,
+        radius: next(),
+        shape_factor: next(),
+        volume: next(),
+        clay_volume: next(),
+        length: next(),
+        conduit_a: next(),
+        conduit_b: next(),
     };
     let info = NetworkInfo {
         name: p.name.to_owned(),

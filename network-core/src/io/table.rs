@@ -52,12 +52,14 @@ pub(crate) enum Column {
 }
 
 impl Column {
-    fn empty(kind: Kind, cap: usize) -> Column {
+    /// `n` values that are cheap to allocate (zero pages); every cell is
+    /// overwritten by the parse or by a placeholder.
+    fn zeroed(kind: Kind, n: usize) -> Column {
         match kind {
-            Kind::Id => Column::Ids(Vec::with_capacity(cap)),
-            Kind::Float => Column::Floats(Vec::with_capacity(cap)),
-            Kind::PoreRef => Column::Refs(Vec::with_capacity(cap)),
-            Kind::Tag => Column::Tags(Vec::with_capacity(cap)),
+            Kind::Id => Column::Ids(vec![0; n]),
+            Kind::Float => Column::Floats(vec![0.0; n]),
+            Kind::PoreRef => Column::Refs(vec![0; n]),
+            Kind::Tag => Column::Tags(vec![Boundary::Interior; n]),
         }
     }
 
@@ -70,22 +72,30 @@ impl Column {
         }
     }
 
-    fn push_placeholder(&mut self) {
+    fn as_mut(&mut self) -> ColumnMut<'_> {
         match self {
-            Column::Ids(v) => v.push(u64::MAX),
-            Column::Floats(v) => v.push(f64::NAN),
-            Column::Refs(v) => v.push(u32::MAX),
-            Column::Tags(v) => v.push(Boundary::Interior),
+            Column::Ids(v) => ColumnMut::Ids(v),
+            Column::Floats(v) => ColumnMut::Floats(v),
+            Column::Refs(v) => ColumnMut::Refs(v),
+            Column::Tags(v) => ColumnMut::Tags(v),
         }
     }
 
-    fn append(&mut self, other: Column) {
-        match (self, other) {
-            (Column::Ids(a), Column::Ids(b)) => a.extend_from_slice(&b),
-            (Column::Floats(a), Column::Floats(b)) => a.extend_from_slice(&b),
-            (Column::Refs(a), Column::Refs(b)) => a.extend_from_slice(&b),
-            (Column::Tags(a), Column::Tags(b)) => a.extend_from_slice(&b),
-            _ => unreachable!("columns of one schema entry share a kind"),
+    fn copy_within(&mut self, src: std::ops::Range<usize>, dest: usize) {
+        match self {
+            Column::Ids(v) => v.copy_within(src, dest),
+            Column::Floats(v) => v.copy_within(src, dest),
+            Column::Refs(v) => v.copy_within(src, dest),
+            Column::Tags(v) => v.copy_within(src, dest),
+        }
+    }
+
+    fn truncate(&mut self, n: usize) {
+        match self {
+            Column::Ids(v) => v.truncate(n),
+            Column::Floats(v) => v.truncate(n),
+            Column::Refs(v) => v.truncate(n),
+            Column::Tags(v) => v.truncate(n),
         }
     }
 
@@ -98,6 +108,43 @@ impl Column {
             Column::Floats(v) => Column::Floats(g(v, order)),
             Column::Refs(v) => Column::Refs(g(v, order)),
             Column::Tags(v) => Column::Tags(g(v, order)),
+        }
+    }
+}
+
+/// A mutable window of a [`Column`], handed to one chunk of the parse.
+#[derive(Debug)]
+enum ColumnMut<'a> {
+    Ids(&'a mut [u64]),
+    Floats(&'a mut [f64]),
+    Refs(&'a mut [u32]),
+    Tags(&'a mut [Boundary]),
+}
+
+impl<'a> ColumnMut<'a> {
+    /// Writes the placeholder of an unusable or empty cell into `row`.
+    fn set_placeholder(&mut self, row: usize) {
+        match self {
+            ColumnMut::Ids(v) => v[row] = u64::MAX,
+            ColumnMut::Floats(v) => v[row] = f64::NAN,
+            ColumnMut::Refs(v) => v[row] = u32::MAX,
+            ColumnMut::Tags(v) => v[row] = Boundary::Interior,
+        }
+    }
+
+    /// Splits off the first `n` values (an empty window for an absent column).
+    fn split_front(&mut self, n: usize) -> ColumnMut<'a> {
+        fn split<'a, T>(v: &mut &'a mut [T], n: usize) -> &'a mut [T] {
+            let n = n.min(v.len());
+            let (front, back) = std::mem::take(v).split_at_mut(n);
+            *v = back;
+            front
+        }
+        match self {
+            ColumnMut::Ids(v) => ColumnMut::Ids(split(v, n)),
+            ColumnMut::Floats(v) => ColumnMut::Floats(split(v, n)),
+            ColumnMut::Refs(v) => ColumnMut::Refs(split(v, n)),
+            ColumnMut::Tags(v) => ColumnMut::Tags(split(v, n)),
         }
     }
 }
@@ -407,23 +454,18 @@ fn parse_table_chunked(
         bounds.push((start, end));
         start = end;
     }
-    let stats: Vec<(u64, bool)> = bounds
-        .par_iter()
-        .map(|&(s, e)| {
-            let chunk = &data[s..e];
-            (count_newlines(chunk), chunk.contains(&b'"'))
-        })
-        .collect();
+    let stats: Vec<(usize, bool)> = bounds.par_iter().map(|&(s, e)| scan(&data[s..e])).collect();
     let quoted = stats.iter().any(|s| s.1);
     let base_line = 1 + count_newlines(&bytes[..data_start.min(bytes.len())]);
+    // (start, end, first line, most rows the chunk can hold)
     let mut chunks = Vec::with_capacity(bounds.len());
     if quoted {
-        chunks.push((0, data.len(), base_line));
+        chunks.push((0, data.len(), base_line, scan(data).0));
     } else {
         let mut line = base_line;
-        for (&(s, e), &(nl, _)) in bounds.iter().zip(&stats) {
-            chunks.push((s, e, line));
-            line += nl;
+        for (&(s, e), &(cap, _)) in bounds.iter().zip(&stats) {
+            chunks.push((s, e, line, cap));
+            line += count_newlines(&data[s..e]);
         }
     }
     let ctx = Ctx {
@@ -432,42 +474,100 @@ fn parse_table_chunked(
         n_fields,
         file,
     };
-    let parts: Vec<Part> = chunks
-        .par_iter()
-        .map(|&(s, e, line)| parse_chunk(&ctx, &data[s..e], line))
-        .collect();
 
-    // Merge in chunk order.
-    let n_rows: usize = parts.iter().map(|p| p.lines.len()).sum();
-    table.lines.reserve_exact(n_rows);
-    table.columns = spec
+    // Every chunk parses straight into its own slice of the final columns;
+    // gaps left by blank lines are closed afterwards.
+    let capacity: usize = chunks.iter().map(|c| c.3).sum();
+    let mut columns: Vec<Column> = spec
         .iter()
-        .enumerate()
-        .map(|(c, s)| {
-            if field_of[c].is_some() {
-                Column::empty(s.kind, n_rows)
-            } else {
-                Column::filled(s.kind, n_rows)
-            }
-        })
+        .zip(&field_of)
+        .map(|(s, f)| Column::zeroed(s.kind, if f.is_some() { capacity } else { 0 }))
         .collect();
-    for part in parts {
-        let offset = table.lines.len();
-        table.lines.extend_from_slice(&part.lines);
-        for (c, col) in part.columns.into_iter().enumerate() {
-            if let Some(col) = col {
-                table.columns[c].append(col);
+    let mut lines = vec![0u64; capacity];
+    let parts: Vec<Part> = {
+        let mut rest_cols: Vec<ColumnMut<'_>> = columns.iter_mut().map(Column::as_mut).collect();
+        let mut rest_lines: &mut [u64] = &mut lines;
+        let mut tasks = Vec::with_capacity(chunks.len());
+        for &(s, e, line, cap) in &chunks {
+            let (mine, rest) = std::mem::take(&mut rest_lines).split_at_mut(cap);
+            rest_lines = rest;
+            let cols: Vec<ColumnMut<'_>> =
+                rest_cols.iter_mut().map(|c| c.split_front(cap)).collect();
+            tasks.push((&data[s..e], line, mine, cols));
+        }
+        tasks
+            .into_par_iter()
+            .map(|(chunk, line, out_lines, out_cols)| {
+                parse_chunk(&ctx, chunk, line, out_lines, out_cols)
+            })
+            .collect()
+    };
+
+    // Close the gaps, in chunk order.
+    let mut write = 0usize;
+    let mut read = 0usize;
+    for (part, chunk) in parts.into_iter().zip(&chunks) {
+        let n = part.n_rows;
+        if read != write {
+            lines.copy_within(read..read + n, write);
+            for (col, f) in columns.iter_mut().zip(&field_of) {
+                if f.is_some() {
+                    col.copy_within(read..read + n, write);
+                }
             }
         }
         for (r, m) in part.bad {
-            *table.bad.entry(offset + r as usize).or_insert(0) |= m;
+            *table.bad.entry(write + r as usize).or_insert(0) |= m;
         }
         for (r, m) in part.empty {
-            *table.empty.entry(offset + r as usize).or_insert(0) |= m;
+            *table.empty.entry(write + r as usize).or_insert(0) |= m;
         }
         table.violations.extend(part.violations);
+        write += n;
+        read += chunk.3;
     }
+    lines.truncate(write);
+    for (c, col) in columns.iter_mut().enumerate() {
+        if field_of[c].is_some() {
+            col.truncate(write);
+        } else {
+            *col = Column::filled(spec[c].kind, write);
+        }
+    }
+    table.lines = lines;
+    table.columns = columns;
     table
+}
+
+/// An upper bound of the records in `bytes` and whether it holds a double
+/// quote. The bound counts line terminators (`\n`, `\r\n` or a lone `\r`,
+/// as the `csv` reader does), plus one when `bytes` does not end with one.
+fn scan(bytes: &[u8]) -> (usize, bool) {
+    let mut lf = 0usize;
+    let mut quote = false;
+    let mut cr = false;
+    for block in bytes.chunks(1 << 12) {
+        let (mut n, mut q, mut r) = (0u32, false, false);
+        for &b in block {
+            n += u32::from(b == b'\n');
+            q |= b == b'"';
+            r |= b == b'\r';
+        }
+        lf += n as usize;
+        quote |= q;
+        cr |= r;
+    }
+    let lone_cr = if cr {
+        bytes
+            .iter()
+            .enumerate()
+            .filter(|&(i, &b)| b == b'\r' && bytes.get(i + 1) != Some(&b'\n'))
+            .count()
+    } else {
+        0
+    };
+    let open_end = !matches!(bytes.last(), None | Some(b'\n') | Some(b'\r'));
+    (lf + lone_cr + usize::from(open_end), quote)
 }
 
 fn csv_reader(bytes: &[u8]) -> ::csv::Reader<&[u8]> {
@@ -513,8 +613,7 @@ struct Ctx<'a> {
 }
 
 struct Part {
-    lines: Vec<u64>,
-    columns: Vec<Option<Column>>,
+    n_rows: usize,
     bad: Vec<(u32, u16)>,
     empty: Vec<(u32, u16)>,
     violations: Vec<Violation>,
@@ -537,16 +636,16 @@ enum Cell {
     Bad(Rule, String),
 }
 
-fn parse_chunk(ctx: &Ctx<'_>, bytes: &[u8], first_line: u64) -> Part {
+fn parse_chunk(
+    ctx: &Ctx<'_>,
+    bytes: &[u8],
+    first_line: u64,
+    lines: &mut [u64],
+    mut columns: Vec<ColumnMut<'_>>,
+) -> Part {
     let spec = ctx.spec;
-    let estimate = bytes.len() / 64 + 1;
     let mut part = Part {
-        lines: Vec::with_capacity(estimate),
-        columns: spec
-            .iter()
-            .zip(ctx.field_of)
-            .map(|(s, f)| f.map(|_| Column::empty(s.kind, estimate)))
-            .collect(),
+        n_rows: 0,
         bad: Vec::new(),
         empty: Vec::new(),
         violations: Vec::new(),
@@ -571,8 +670,23 @@ fn parse_chunk(ctx: &Ctx<'_>, bytes: &[u8], first_line: u64) -> Part {
             continue; // a blank line
         }
         let line = record_line(bytes, &rec, first_line);
-        let row = part.lines.len() as u32;
-        part.lines.push(line);
+        let row = part.n_rows;
+        let Some(slot) = lines.get_mut(row) else {
+            // Cannot happen: `max_records` bounds the records of a chunk.
+            part.violations.push(located(
+                Violation::new(
+                    Rule::MalformedRow,
+                    Target::Network,
+                    None,
+                    "more records than line ends (reader bound exceeded)",
+                ),
+                ctx.file,
+                Some(line),
+            ));
+            break;
+        };
+        *slot = line;
+        part.n_rows += 1;
         if rec.len() != ctx.n_fields {
             part.violations.push(located(
                 Violation::new(
@@ -588,24 +702,29 @@ fn parse_chunk(ctx: &Ctx<'_>, bytes: &[u8], first_line: u64) -> Part {
                 ctx.file,
                 Some(line),
             ));
-            for col in part.columns.iter_mut().flatten() {
-                col.push_placeholder();
+            for (c, col) in columns.iter_mut().enumerate() {
+                if ctx.field_of[c].is_some() {
+                    col.set_placeholder(row);
+                }
             }
-            part.bad.push((row, u16::MAX));
+            part.bad.push((row as u32, u16::MAX));
             continue;
         }
         let mut bad = 0u16;
         let mut empty = 0u16;
-        for (c, col) in part.columns.iter_mut().enumerate() {
-            let (Some(col), Some(f)) = (col.as_mut(), ctx.field_of[c]) else {
+        for (c, col) in columns.iter_mut().enumerate() {
+            let Some(f) = ctx.field_of[c] else {
                 continue;
             };
             let field = rec[f].trim_ascii();
-            let cell = parse_cell(col, field, spec[c].required);
-            match cell {
+            match parse_cell(col, row, field, spec[c].required) {
                 Cell::Ok => {}
-                Cell::Empty => empty |= 1 << c,
+                Cell::Empty => {
+                    col.set_placeholder(row);
+                    empty |= 1 << c;
+                }
                 Cell::Bad(rule, detail) => {
+                    col.set_placeholder(row);
                     bad |= 1 << c;
                     part.violations.push(located(
                         Violation::new(rule, Target::Network, Some(spec[c].name), detail),
@@ -616,93 +735,76 @@ fn parse_chunk(ctx: &Ctx<'_>, bytes: &[u8], first_line: u64) -> Part {
             }
         }
         if bad != 0 {
-            part.bad.push((row, bad));
+            part.bad.push((row as u32, bad));
         }
         if empty != 0 {
-            part.empty.push((row, empty));
+            part.empty.push((row as u32, empty));
         }
     }
     part
 }
 
-/// Parses one field into its column (always pushing exactly one value).
-fn parse_cell(col: &mut Column, field: &[u8], required: bool) -> Cell {
+/// Parses one field into `row` of its column; the caller writes the
+/// placeholder when the cell is empty or bad.
+fn parse_cell(col: &mut ColumnMut<'_>, row: usize, field: &[u8], required: bool) -> Cell {
     if field.is_empty() {
-        col.push_placeholder();
         return match col {
-            Column::Tags(_) => Cell::Ok,
+            ColumnMut::Tags(v) => {
+                v[row] = Boundary::Interior;
+                Cell::Ok
+            }
             _ if required => Cell::Bad(Rule::MalformedValue, "empty field".to_owned()),
             _ => Cell::Empty,
         };
     }
     let text = std::str::from_utf8(field).ok();
     match col {
-        Column::Floats(v) => match text.and_then(|t| t.parse::<f64>().ok()) {
+        ColumnMut::Floats(v) => match text.and_then(|t| t.parse::<f64>().ok()) {
             Some(x) => {
-                v.push(x);
+                v[row] = x;
                 Cell::Ok
             }
-            None => {
-                v.push(f64::NAN);
-                Cell::Bad(
-                    Rule::MalformedValue,
-                    format!("`{}` is not a number", show(field)),
-                )
-            }
+            None => Cell::Bad(
+                Rule::MalformedValue,
+                format!("`{}` is not a number", show(field)),
+            ),
         },
-        Column::Ids(v) => match text.and_then(|t| t.parse::<u64>().ok()) {
+        ColumnMut::Ids(v) => match text.and_then(|t| t.parse::<u64>().ok()) {
             Some(x) => {
-                v.push(x);
+                v[row] = x;
                 Cell::Ok
             }
-            None => {
-                v.push(u64::MAX);
-                Cell::Bad(
-                    Rule::MalformedValue,
-                    format!("`{}` is not a non-negative integer id", show(field)),
-                )
-            }
+            None => Cell::Bad(
+                Rule::MalformedValue,
+                format!("`{}` is not a non-negative integer id", show(field)),
+            ),
         },
-        Column::Refs(v) => match text.and_then(|t| t.parse::<u64>().ok()) {
+        ColumnMut::Refs(v) => match text.and_then(|t| t.parse::<u64>().ok()) {
             Some(x) if x <= u32::MAX as u64 => {
-                v.push(x as u32);
+                v[row] = x as u32;
                 Cell::Ok
             }
-            Some(x) => {
-                v.push(u32::MAX);
-                Cell::Bad(Rule::MissingPore, format!("pore {x} does not exist"))
-            }
-            None => {
-                v.push(u32::MAX);
+            Some(x) => Cell::Bad(Rule::MissingPore, format!("pore {x} does not exist")),
+            None => Cell::Bad(
+                Rule::MalformedValue,
+                format!("`{}` is not a non-negative integer pore id", show(field)),
+            ),
+        },
+        ColumnMut::Tags(v) => {
+            if field.eq_ignore_ascii_case(b"inlet") {
+                v[row] = Boundary::Inlet;
+                Cell::Ok
+            } else if field.eq_ignore_ascii_case(b"outlet") {
+                v[row] = Boundary::Outlet;
+                Cell::Ok
+            } else {
                 Cell::Bad(
                     Rule::MalformedValue,
-                    format!("`{}` is not a non-negative integer pore id", show(field)),
+                    format!(
+                        "`{}` is not a face tag (expected `inlet`, `outlet` or an empty field)",
+                        show(field)
+                    ),
                 )
-            }
-        },
-        Column::Tags(v) => {
-            let tag = if field.eq_ignore_ascii_case(b"inlet") {
-                Some(Boundary::Inlet)
-            } else if field.eq_ignore_ascii_case(b"outlet") {
-                Some(Boundary::Outlet)
-            } else {
-                None
-            };
-            match tag {
-                Some(b) => {
-                    v.push(b);
-                    Cell::Ok
-                }
-                None => {
-                    v.push(Boundary::Interior);
-                    Cell::Bad(
-                        Rule::MalformedValue,
-                        format!(
-                            "`{}` is not a face tag (expected `inlet`, `outlet` or an empty field)",
-                            show(field)
-                        ),
-                    )
-                }
             }
         }
     }
@@ -795,6 +897,16 @@ mod tests {
         // v of row 1 is not a number, on line 4.
         assert_eq!(t.violations[1].line, Some(4));
         assert_eq!(t.violations[1].column.as_deref(), Some("v"));
+    }
+
+    #[test]
+    fn lone_carriage_returns_end_records() {
+        let text = b"id,v\r0,1.5\r1,2.5\r\r2,3.5";
+        let t = parse_table(text, SPEC, "t.csv");
+        assert!(t.violations.is_empty(), "{:?}", t.violations);
+        assert_eq!(floats(&t, 1), vec![1.5, 2.5, 3.5]);
+        assert_eq!(scan(b"a\rb\r\nc\nd"), (4, false));
+        assert_eq!(scan(b"\"a\"\n"), (1, true));
     }
 
     #[test]
