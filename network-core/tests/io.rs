@@ -718,6 +718,11 @@ fn bad_sample_values_name_key_and_line() {
         &[(Rule::BadSampleValue, TOML, Some(5), Some("extent_m"))],
     );
     check(
+        "toml-extent-range",
+        &Fixture::valid().toml_line(4, "area_m2 = 1e-8\n\nextent_m = [1e-3, -2e-3, 1e-3]"),
+        &[(Rule::BadSampleValue, TOML, Some(6), Some("extent_m"))],
+    );
+    check(
         "toml-bulk",
         &Fixture::valid().toml_line(4, "area_m2 = 1e-8\nbulk_volume_m3 = 0"),
         &[(Rule::BadSampleValue, TOML, Some(5), Some("bulk_volume_m3"))],
@@ -794,6 +799,71 @@ fn missing_file_is_an_io_error_naming_it() {
         Err(ReadError::Io { path, .. }) => assert_eq!(path, dir.join(THROATS)),
         other => panic!("expected an I/O error, got {other:?}"),
     }
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+/// A chain of `n` pores along z with awkward but valid values.
+fn chain(n: usize) -> Network {
+    let info = NetworkInfo {
+        name: "chain".into(),
+        flow_axis: Axis::Z,
+        length_m: (n - 1) as f64 * 1e-4,
+        area_m2: 1e-8,
+        bulk_volume_m3: (n - 1) as f64 * 1e-12,
+        extent_m: None,
+        description: None,
+    };
+    let mut pores = Pores::with_capacity(n);
+    for i in 0..n {
+        let u = network_core::numeric::unit_hash(7, 1, i as u64);
+        pores.x.push(u * 1e-6);
+        pores.y.push(-u * 1e-7);
+        pores.z.push(i as f64 * 1e-4);
+        pores.radius.push(1e-5 + 1e-5 * u);
+        pores.shape_factor.push(0.02 + 0.05 * u);
+        pores.volume.push(1e-13 * (1.0 + u));
+        pores.clay_volume.push(1e-17 * u);
+        pores.boundary.push(if i == 0 {
+            Boundary::Inlet
+        } else if i == n - 1 {
+            Boundary::Outlet
+        } else {
+            Boundary::Interior
+        });
+    }
+    let mut throats = Throats::with_capacity(n - 1);
+    for t in 0..n - 1 {
+        let u = network_core::numeric::unit_hash(7, 2, t as u64);
+        throats.pores.push([t as u32, t as u32 + 1]);
+        throats.radius.push(5e-6 * (1.0 + u));
+        throats.shape_factor.push(0.03 + 0.03 * u);
+        throats.length.push(1e-4);
+        throats.volume.push(1e-13 * u);
+        throats.clay_volume.push(0.0);
+        throats.conduit_a.push(pores.radius[t]);
+        throats.conduit_b.push(pores.radius[t + 1]);
+    }
+    Network::new(info, pores, throats).unwrap()
+}
+
+#[test]
+fn multi_chunk_csv_reads_identically_with_one_or_two_threads() {
+    // ~2.5 MB of pores: several parse chunks.
+    let network = chain(20_000);
+    let dir = scratch("threads");
+    let csv = dir.join("chain");
+    io::write_csv(&network, &csv).unwrap();
+    let read_with = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| io::read_network(&csv).unwrap().network)
+    };
+    let one = read_with(1);
+    let two = read_with(2);
+    assert_eq!(bits(&one), bits(&network));
+    assert_eq!(bits(&two), bits(&network));
     std::fs::remove_dir_all(&dir).unwrap();
 }
 
