@@ -592,7 +592,7 @@ fn record_line(bytes: &[u8], rec: &::csv::ByteRecord, first_line: u64) -> u64 {
         .take_while(|&&b| b == b'\r' || b == b'\n')
         .filter(|&&b| b == b'\n')
         .count() as u64;
-    first_line + pos.line() - 1 + skipped
+    first_line + pos.line().saturating_sub(1) + skipped
 }
 
 fn count_newlines(bytes: &[u8]) -> u64 {
@@ -657,7 +657,9 @@ fn parse_chunk(
             Ok(true) => {}
             Ok(false) => break,
             Err(e) => {
-                let line = e.position().map(|p| first_line + p.line() - 1);
+                let line = e
+                    .position()
+                    .map(|p| first_line + p.line().saturating_sub(1));
                 part.violations.push(located(
                     Violation::new(Rule::MalformedRow, Target::Network, None, e.to_string()),
                     ctx.file,
