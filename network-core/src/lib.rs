@@ -15,6 +15,8 @@
 //! - [`capillary`]: one element's capillary physics (entry, hinging corner
 //!   menisci, piston-like filling, snap-off, `I_n` filling, oil layers,
 //!   corner-film conductance) as pure functions.
+//! - [`io`]: the CSV network folder and the binary `.gnet` file (the only
+//!   module that touches the file system).
 //! - [`progress`]: the callback through which long calls report progress.
 //! - [`generate`]: seeded statistical lattice networks ([`generate::generate`]).
 //! - [`fit`]: Corey, Brooks–Corey, LET, Land and Archie models and their
@@ -72,6 +74,7 @@ pub mod fit;
 pub mod generate;
 pub mod geometry;
 pub mod indices;
+pub mod io;
 pub mod network;
 pub mod numeric;
 pub mod progress;

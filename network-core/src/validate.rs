@@ -51,6 +51,8 @@ pub enum Rule {
     BadBinary,
     /// The network has no pores.
     Empty,
+    /// A column name appears twice in a CSV header.
+    DuplicateColumn,
 }
 
 impl Rule {
@@ -74,6 +76,7 @@ impl Rule {
             Rule::BadSampleValue => "bad-sample-value",
             Rule::BadBinary => "bad-binary",
             Rule::Empty => "empty",
+            Rule::DuplicateColumn => "duplicate-column",
         }
     }
 }
