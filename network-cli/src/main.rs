@@ -39,7 +39,9 @@ enum Command {
 fn main() -> ExitCode {
     let cli = Cli::parse();
     if let Some(n) = cli.threads
-        && let Err(e) = rayon::ThreadPoolBuilder::new().num_threads(n.max(1)).build_global()
+        && let Err(e) = rayon::ThreadPoolBuilder::new()
+            .num_threads(n.max(1))
+            .build_global()
     {
         eprintln!("error: could not start {n} threads: {e}");
         return ExitCode::from(1);

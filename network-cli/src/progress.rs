@@ -48,9 +48,11 @@ impl Progress for Bars {
             ProgressBar::new_spinner()
         };
         bar.set_draw_target(ProgressDrawTarget::stderr());
-        let style = ProgressStyle::with_template("{prefix:>12} [{bar:32}] {pos}/{len} {elapsed_precise} (eta {eta})")
-            .unwrap_or_else(|_| ProgressStyle::default_bar())
-            .progress_chars("=> ");
+        let style = ProgressStyle::with_template(
+            "{prefix:>12} [{bar:32}] {pos}/{len} {elapsed_precise} (eta {eta})",
+        )
+        .unwrap_or_else(|_| ProgressStyle::default_bar())
+        .progress_chars("=> ");
         bar.set_style(style);
         bar.set_prefix(stage.to_string());
         if let Ok(mut b) = self.bar.lock() {

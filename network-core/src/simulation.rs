@@ -316,8 +316,15 @@ pub fn collect_ganglia(engine: &Engine<'_>) -> Vec<Ganglion> {
             net.pores().centre(e)
         } else {
             let [a, b] = net.throats().pores[e - n_p];
-            let (pa, pb) = (net.pores().centre(a as usize), net.pores().centre(b as usize));
-            [0.5 * (pa[0] + pb[0]), 0.5 * (pa[1] + pb[1]), 0.5 * (pa[2] + pb[2])]
+            let (pa, pb) = (
+                net.pores().centre(a as usize),
+                net.pores().centre(b as usize),
+            );
+            [
+                0.5 * (pa[0] + pb[0]),
+                0.5 * (pa[1] + pb[1]),
+                0.5 * (pa[2] + pb[2]),
+            ]
         };
         let gl = &mut out[k];
         gl.volume_m3 += oil;

@@ -31,15 +31,17 @@ impl ColumnStats {
         let (min, max, sum) = values
             .par_chunks(crate::numeric::CHUNK)
             .map(|c| {
-                c.iter().fold((f64::INFINITY, f64::NEG_INFINITY, 0.0), |(lo, hi, s), &v| {
-                    (lo.min(v), hi.max(v), s + v)
-                })
+                c.iter().fold(
+                    (f64::INFINITY, f64::NEG_INFINITY, 0.0),
+                    |(lo, hi, s), &v| (lo.min(v), hi.max(v), s + v),
+                )
             })
             .collect::<Vec<_>>()
             .into_iter()
-            .fold((f64::INFINITY, f64::NEG_INFINITY, 0.0), |(a, b, c), (x, y, z)| {
-                (a.min(x), b.max(y), c + z)
-            });
+            .fold(
+                (f64::INFINITY, f64::NEG_INFINITY, 0.0),
+                |(a, b, c), (x, y, z)| (a.min(x), b.max(y), c + z),
+            );
         let mut v = values.to_vec();
         let mid = (v.len() - 1) / 2;
         let (_, m, _) = v.select_nth_unstable_by(mid, f64::total_cmp);
@@ -160,7 +162,11 @@ impl NetworkReport {
             pores: network.n_pores(),
             throats: network.n_throats(),
             inlet_pores: p.boundary.iter().filter(|&&b| b == Boundary::Inlet).count(),
-            outlet_pores: p.boundary.iter().filter(|&&b| b == Boundary::Outlet).count(),
+            outlet_pores: p
+                .boundary
+                .iter()
+                .filter(|&&b| b == Boundary::Outlet)
+                .count(),
             porosity: network.porosity(),
             pore_volume_m3: network.pore_volume(),
             bulk_volume_m3: network.info().bulk_volume_m3,

@@ -169,11 +169,12 @@ pub struct MechanismOptions {
     pub snap_off: bool,
     /// Allow oil layers in oil-wet corners (default true).
     pub oil_layers: bool,
-    /// Cooperative-filling weights `a_i` for `i = 1, 2, …` oil-filled
-    /// throats, dimensionless; the model uses `A_i = a_i / r̄_t` with `r̄_t`
-    /// the mean throat radius (Blunt 1998). The last weight repeats for
-    /// larger `i`. Default `[0, 0.5, 1, 2, 5, 10]` (weights of this order
-    /// were used by Blunt 1998; values from memory).
+    /// Cooperative-filling weights `a_i` for `i = 2, 3, …` oil-filled
+    /// throats (`A_1 = 0`), dimensionless; the model uses `A_i = a_i / r̄_t`
+    /// with `r̄_t` the mean throat radius (Blunt 1998, J. Pet. Sci. Eng.
+    /// 20:117–125). The last weight repeats for larger `i`. Default
+    /// `[0.5, 1, 2, 5, 10]` (weights growing with `i` as used after Blunt
+    /// 1998; values from memory).
     pub cooperative_weights: Vec<f64>,
 }
 
@@ -182,7 +183,7 @@ impl Default for MechanismOptions {
         MechanismOptions {
             snap_off: true,
             oil_layers: true,
-            cooperative_weights: vec![0.0, 0.5, 1.0, 2.0, 5.0, 10.0],
+            cooperative_weights: vec![0.5, 1.0, 2.0, 5.0, 10.0],
         }
     }
 }
@@ -318,7 +319,11 @@ struct RawProcess {
 /// Turns a byte span into a 1-based line.
 fn line_of(text: &str, span: Range<usize>) -> usize {
     let end = span.start.min(text.len());
-    text.as_bytes()[..end].iter().filter(|&&b| b == b'\n').count() + 1
+    text.as_bytes()[..end]
+        .iter()
+        .filter(|&&b| b == b'\n')
+        .count()
+        + 1
 }
 
 struct Checker<'a> {
@@ -358,19 +363,36 @@ impl Checker<'_> {
         }
     }
 
-    fn angle_range(&mut self, key: &str, v: Option<Spanned<Vec<f64>>>, default: [f64; 2]) -> [f64; 2] {
+    fn angle_range(
+        &mut self,
+        key: &str,
+        v: Option<Spanned<Vec<f64>>>,
+        default: [f64; 2],
+    ) -> [f64; 2] {
         match v {
             None => default,
             Some(s) => {
                 let span = s.span();
                 let r = s.into_inner();
                 if r.len() != 2 {
-                    self.fail(key, Some(span), format!("expected [min, max], got {} values", r.len()));
+                    self.fail(
+                        key,
+                        Some(span),
+                        format!("expected [min, max], got {} values", r.len()),
+                    );
                     return default;
                 }
                 let (a, b) = (r[0], r[1]);
-                if !(a.is_finite() && b.is_finite() && (0.0..=180.0).contains(&a) && (0.0..=180.0).contains(&b)) {
-                    self.fail(key, Some(span), format!("angles [{a}, {b}] must lie in [0, 180] degrees"));
+                if !(a.is_finite()
+                    && b.is_finite()
+                    && (0.0..=180.0).contains(&a)
+                    && (0.0..=180.0).contains(&b))
+                {
+                    self.fail(
+                        key,
+                        Some(span),
+                        format!("angles [{a}, {b}] must lie in [0, 180] degrees"),
+                    );
                     return default;
                 }
                 if a > b {
@@ -388,7 +410,11 @@ impl Checker<'_> {
             Some(s) => {
                 let x = *s.get_ref();
                 if !(1..=max).contains(&x) {
-                    self.fail(key, Some(s.span()), format!("value {x} must be an integer in [1, {max}]"));
+                    self.fail(
+                        key,
+                        Some(s.span()),
+                        format!("value {x} must be an integer in [1, {max}]"),
+                    );
                     default
                 } else {
                     x as usize
@@ -421,11 +447,19 @@ impl Study {
         let network = match raw.network {
             Some(s) if !s.get_ref().trim().is_empty() => s.into_inner(),
             Some(s) => {
-                c.fail("network", Some(s.span()), "must name a CSV folder or a binary network file");
+                c.fail(
+                    "network",
+                    Some(s.span()),
+                    "must name a CSV folder or a binary network file",
+                );
                 String::new()
             }
             None => {
-                c.fail("network", None, "is required (path to a CSV folder or binary network file)");
+                c.fail(
+                    "network",
+                    None,
+                    "is required (path to a CSV folder or binary network file)",
+                );
                 String::new()
             }
         };
@@ -530,7 +564,10 @@ impl Study {
             }
         };
         let (outlet, imbibition_faces) = match raw.boundary {
-            Some(b) => (b.outlet.unwrap_or_default(), b.imbibition_faces.unwrap_or_default()),
+            Some(b) => (
+                b.outlet.unwrap_or_default(),
+                b.imbibition_faces.unwrap_or_default(),
+            ),
             None => Default::default(),
         };
         let mechanisms = {
@@ -606,16 +643,28 @@ impl Study {
                 (None, Some(sw)) => {
                     let x = *sw.get_ref();
                     if !(x > 0.0 && x < 1.0) {
-                        c.fail(&key("until_sw"), Some(sw.span()), format!("value {x} must lie in (0, 1)"));
+                        c.fail(
+                            &key("until_sw"),
+                            Some(sw.span()),
+                            format!("value {x} must lie in (0, 1)"),
+                        );
                     }
                     StopAt::Sw(x)
                 }
                 (Some(pc), Some(_)) => {
-                    c.fail(&key("until_sw"), Some(pc.span()), "give either until_pc_pa or until_sw, not both");
+                    c.fail(
+                        &key("until_sw"),
+                        Some(pc.span()),
+                        "give either until_pc_pa or until_sw, not both",
+                    );
                     StopAt::Pc(*pc.get_ref())
                 }
                 (None, None) => {
-                    c.fail(&key("until_pc_pa"), Some(pspan), "one of until_pc_pa or until_sw is required");
+                    c.fail(
+                        &key("until_pc_pa"),
+                        Some(pspan),
+                        "one of until_pc_pa or until_sw is required",
+                    );
                     StopAt::Pc(0.0)
                 }
             };

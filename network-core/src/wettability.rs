@@ -134,8 +134,18 @@ impl ContactAngles {
                 continue;
             }
             if oil_wet[e] {
-                let adv = draw(spec.oil_wet_advancing_contact_angle_deg, seed, STREAM_OW_ADVANCING, e);
-                let rec = draw(spec.oil_wet_receding_contact_angle_deg, seed, STREAM_OW_RECEDING, e);
+                let adv = draw(
+                    spec.oil_wet_advancing_contact_angle_deg,
+                    seed,
+                    STREAM_OW_ADVANCING,
+                    e,
+                );
+                let rec = draw(
+                    spec.oil_wet_receding_contact_angle_deg,
+                    seed,
+                    STREAM_OW_RECEDING,
+                    e,
+                );
                 self.advancing[e] = adv.max(self.pinned_receding[e]);
                 self.receding[e] = rec.min(self.advancing[e]);
             } else {
@@ -187,6 +197,10 @@ mod tests {
     #[test]
     fn angles_lie_in_their_ranges() {
         let a = ContactAngles::intrinsic(&spec(), 500, 1);
-        assert!(a.receding.iter().all(|&t| (deg(10.0)..=deg(30.0)).contains(&t)));
+        assert!(
+            a.receding
+                .iter()
+                .all(|&t| (deg(10.0)..=deg(30.0)).contains(&t))
+        );
     }
 }

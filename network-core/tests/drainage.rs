@@ -3,6 +3,7 @@
 
 mod support;
 
+use network_core::Network;
 use network_core::engine::process::run_process;
 use network_core::engine::{Engine, ImbibitionFaces, Setup};
 use network_core::generate::{LatticeSpec, ShapeMix, WeibullRange, generate};
@@ -10,7 +11,6 @@ use network_core::geometry::{Geometry, Shape};
 use network_core::progress::Silent;
 use network_core::study::{MechanismOptions, OutletRule, ProcessKind, StopAt, WettabilitySpec};
 use network_core::wettability::ContactAngles;
-use network_core::Network;
 use support::{Elem, chain};
 
 const SIGMA: f64 = 0.03;
@@ -41,11 +41,33 @@ fn drainage_fills_a_chain_at_its_tightest_throat_entry_pressure() {
     // circular, θ = 0: Young–Laplace entry 2σ/r. The 5 µm throat limits, so
     // breakthrough happens at 2σ/5e-6 = 12 000 Pa (analytic).
     let c = network_core::geometry::G_CIRCLE;
-    let p = Elem { radius: 20e-6, g: c };
-    let net = chain(&[p, p, p], &[Elem { radius: 10e-6, g: c }, Elem { radius: 5e-6, g: c }], 100e-6);
+    let p = Elem {
+        radius: 20e-6,
+        g: c,
+    };
+    let net = chain(
+        &[p, p, p],
+        &[
+            Elem {
+                radius: 10e-6,
+                g: c,
+            },
+            Elem { radius: 5e-6, g: c },
+        ],
+        100e-6,
+    );
     let geom = Geometry::new(&net, 1);
-    let mut eng = Engine::new(setup(&net, &geom, OutletRule::Open), angles(&net, [0.0, 0.0]));
-    let out = run_process(&mut eng, ProcessKind::Drainage, StopAt::Pc(11_999.0), 10, &Silent);
+    let mut eng = Engine::new(
+        setup(&net, &geom, OutletRule::Open),
+        angles(&net, [0.0, 0.0]),
+    );
+    let out = run_process(
+        &mut eng,
+        ProcessKind::Drainage,
+        StopAt::Pc(11_999.0),
+        10,
+        &Silent,
+    );
     assert!(out.breakthrough_pc_pa.is_none());
     // The inlet pore (entry 2σ/20 µm = 3000 Pa), the 10 µm throat (element
     // 3, 6000 Pa) and the middle pore behind it are filled; the 5 µm throat
@@ -53,9 +75,18 @@ fn drainage_fills_a_chain_at_its_tightest_throat_entry_pressure() {
     let oil = &eng.state().oil;
     assert!(oil[0] && oil[3] && oil[1], "{oil:?}");
     assert!(!oil[4] && !oil[2], "{oil:?}");
-    let out = run_process(&mut eng, ProcessKind::Drainage, StopAt::Pc(12_001.0), 10, &Silent);
+    let out = run_process(
+        &mut eng,
+        ProcessKind::Drainage,
+        StopAt::Pc(12_001.0),
+        10,
+        &Silent,
+    );
     let bt = out.breakthrough_pc_pa.expect("breakthrough");
-    assert!((bt - 2.0 * SIGMA / 5e-6).abs() < 1e-9 * bt, "breakthrough at {bt}");
+    assert!(
+        (bt - 2.0 * SIGMA / 5e-6).abs() < 1e-9 * bt,
+        "breakthrough at {bt}"
+    );
     // Circles hold no corner water, and the outlet pore drained last:
     // everything is oil (Sw = 0 exactly).
     assert_eq!(out.final_saturation.sw, 0.0);
@@ -64,12 +95,27 @@ fn drainage_fills_a_chain_at_its_tightest_throat_entry_pressure() {
 #[test]
 fn semi_permeable_outlet_is_never_invaded() {
     let c = network_core::geometry::G_CIRCLE;
-    let p = Elem { radius: 20e-6, g: c };
-    let t = Elem { radius: 10e-6, g: c };
+    let p = Elem {
+        radius: 20e-6,
+        g: c,
+    };
+    let t = Elem {
+        radius: 10e-6,
+        g: c,
+    };
     let net = chain(&[p, p, p], &[t, t], 100e-6);
     let geom = Geometry::new(&net, 1);
-    let mut eng = Engine::new(setup(&net, &geom, OutletRule::SemiPermeable), angles(&net, [0.0, 0.0]));
-    let out = run_process(&mut eng, ProcessKind::Drainage, StopAt::Pc(1.0e6), 10, &Silent);
+    let mut eng = Engine::new(
+        setup(&net, &geom, OutletRule::SemiPermeable),
+        angles(&net, [0.0, 0.0]),
+    );
+    let out = run_process(
+        &mut eng,
+        ProcessKind::Drainage,
+        StopAt::Pc(1.0e6),
+        10,
+        &Silent,
+    );
     assert!(!eng.state().oil[2], "outlet pore invaded");
     // Breakthrough is the filling of the throat next to the outlet face:
     // 2σ/r_t = 6000 Pa (Young–Laplace).
@@ -135,8 +181,17 @@ fn breakthrough_throat_fraction_approaches_bond_percolation_threshold() {
     for seed in 1..=6 {
         let net = percolation_lattice(n, seed);
         let geom = Geometry::new(&net, seed);
-        let mut eng = Engine::new(setup(&net, &geom, OutletRule::Open), angles(&net, [0.0, 0.0]));
-        let out = run_process(&mut eng, ProcessKind::Drainage, StopAt::Pc(2.0e4), 400, &Silent);
+        let mut eng = Engine::new(
+            setup(&net, &geom, OutletRule::Open),
+            angles(&net, [0.0, 0.0]),
+        );
+        let out = run_process(
+            &mut eng,
+            ProcessKind::Drainage,
+            StopAt::Pc(2.0e4),
+            400,
+            &Silent,
+        );
         let bt = out.breakthrough_pc_pa.expect("breakthrough");
         let n_p = net.n_pores();
         let below = (0..net.n_throats())
@@ -146,7 +201,10 @@ fn breakthrough_throat_fraction_approaches_bond_percolation_threshold() {
     }
     let mean = fractions.iter().sum::<f64>() / fractions.len() as f64;
     eprintln!("breakthrough throat fraction {mean:.4} ({fractions:?})");
-    assert!((mean - 0.2488).abs() < 0.03, "mean fraction {mean} ({fractions:?})");
+    assert!(
+        (mean - 0.2488).abs() < 0.03,
+        "mean fraction {mean} ({fractions:?})"
+    );
 }
 
 fn sandstone_like(n: usize, clay: f64, seed: u64) -> Network {
@@ -169,7 +227,10 @@ fn corner_water_direct(geom: &Geometry, e: usize, theta: f64, pc: f64) -> f64 {
     let mut a = 0.0;
     for &b in geom.corners(e).as_slice() {
         if theta < std::f64::consts::FRAC_PI_2 - b {
-            a += r * r * (theta.cos() * (theta + b).cos() / b.sin() - (std::f64::consts::FRAC_PI_2 - theta - b));
+            a += r
+                * r
+                * (theta.cos() * (theta + b).cos() / b.sin()
+                    - (std::f64::consts::FRAC_PI_2 - theta - b));
         }
     }
     a
@@ -182,7 +243,13 @@ fn sw_falls_with_pc_and_ends_at_corner_clay_and_trapped_water() {
     let ang = angles(&net, [0.0, 30.0]);
     let mut eng = Engine::new(setup(&net, &geom, OutletRule::Open), ang.clone());
     let pc_end = 2.0e6;
-    let out = run_process(&mut eng, ProcessKind::Drainage, StopAt::Pc(pc_end), 40, &Silent);
+    let out = run_process(
+        &mut eng,
+        ProcessKind::Drainage,
+        StopAt::Pc(pc_end),
+        40,
+        &Silent,
+    );
     for w in out.points.windows(2) {
         assert!(w[1].saturation.sw <= w[0].saturation.sw, "Sw rose: {w:?}");
         assert!(w[1].pc_pa >= w[0].pc_pa);
@@ -195,15 +262,31 @@ fn sw_falls_with_pc_and_ends_at_corner_clay_and_trapped_water() {
     // elements + all water of unfilled (trapped) elements.
     let s = eng.state();
     let pv = net.pore_volume();
-    let vol: Vec<f64> = net.pores().volume.iter().chain(&net.throats().volume).copied().collect();
-    let clay: Vec<f64> = net.pores().clay_volume.iter().chain(&net.throats().clay_volume).copied().collect();
+    let vol: Vec<f64> = net
+        .pores()
+        .volume
+        .iter()
+        .chain(&net.throats().volume)
+        .copied()
+        .collect();
+    let clay: Vec<f64> = net
+        .pores()
+        .clay_volume
+        .iter()
+        .chain(&net.throats().clay_volume)
+        .copied()
+        .collect();
     let mut water = 0.0;
     for e in 0..net.n_elements() {
         water += clay[e];
         if s.oil[e] {
             // Corner menisci recede to the final pressure, or stop where
             // their water was trapped.
-            let pc = if s.frozen_pc[e].is_finite() { s.frozen_pc[e] } else { pc_end };
+            let pc = if s.frozen_pc[e].is_finite() {
+                s.frozen_pc[e]
+            } else {
+                pc_end
+            };
             let c = corner_water_direct(&geom, e, ang.receding[e], pc);
             water += vol[e] * (c / geom.area(e)).min(1.0);
         } else {
@@ -215,7 +298,10 @@ fn sw_falls_with_pc_and_ends_at_corner_clay_and_trapped_water() {
     }
     let sw_direct = water / pv;
     let sw = out.final_saturation.sw;
-    assert!((sw - sw_direct).abs() < 1e-9, "engine {sw} vs direct {sw_direct}");
+    assert!(
+        (sw - sw_direct).abs() < 1e-9,
+        "engine {sw} vs direct {sw_direct}"
+    );
     // The circles (10 %) hold no corner water; at 2 MPa the corner water is
     // a small fraction and the clay share is ≥ 5 %.
     assert!(sw > 0.05 && sw < 0.2, "Sw = {sw}");
@@ -226,14 +312,31 @@ fn drainage_to_a_target_saturation_stops_at_the_crossing_element() {
     let net = sandstone_like(12, 0.0, 5);
     let geom = Geometry::new(&net, 5);
     for target in [0.8, 0.5, 0.3] {
-        let mut eng = Engine::new(setup(&net, &geom, OutletRule::Open), angles(&net, [0.0, 20.0]));
-        let out = run_process(&mut eng, ProcessKind::Drainage, StopAt::Sw(target), 40, &Silent);
+        let mut eng = Engine::new(
+            setup(&net, &geom, OutletRule::Open),
+            angles(&net, [0.0, 20.0]),
+        );
+        let out = run_process(
+            &mut eng,
+            ProcessKind::Drainage,
+            StopAt::Sw(target),
+            40,
+            &Silent,
+        );
         let sw = out.final_saturation.sw;
         assert!(sw <= target, "Sw {sw} above target {target}");
         // One element of this network holds at most ~1/300 of the pore
         // volume, so stopping at the crossing element lands within it.
-        let vmax = net.pores().volume.iter().chain(&net.throats().volume).fold(0.0f64, |a, &b| a.max(b));
-        assert!(target - sw <= vmax / net.pore_volume() + 1e-12, "Sw {sw} overshoots {target}");
+        let vmax = net
+            .pores()
+            .volume
+            .iter()
+            .chain(&net.throats().volume)
+            .fold(0.0f64, |a, &b| a.max(b));
+        assert!(
+            target - sw <= vmax / net.pore_volume() + 1e-12,
+            "Sw {sw} overshoots {target}"
+        );
     }
 }
 
@@ -247,8 +350,17 @@ fn drainage_curves_are_identical_with_one_and_two_threads() {
             .unwrap()
             .install(|| {
                 let geom = Geometry::new(&net, 9);
-                let mut eng = Engine::new(setup(&net, &geom, OutletRule::Open), angles(&net, [0.0, 40.0]));
-                let out = run_process(&mut eng, ProcessKind::Drainage, StopAt::Sw(0.25), 30, &Silent);
+                let mut eng = Engine::new(
+                    setup(&net, &geom, OutletRule::Open),
+                    angles(&net, [0.0, 40.0]),
+                );
+                let out = run_process(
+                    &mut eng,
+                    ProcessKind::Drainage,
+                    StopAt::Sw(0.25),
+                    30,
+                    &Silent,
+                );
                 out.points
                     .iter()
                     .map(|p| (p.pc_pa.to_bits(), p.saturation.sw.to_bits(), p.events))
@@ -265,11 +377,24 @@ fn circles_in_drained_networks_trap_water_only_where_no_film_escapes() {
     // network has no films, so water left behind a filled element with no
     // bulk path to the outlet is trapped. Here: everything drains, no trap.
     let c = network_core::geometry::G_CIRCLE;
-    let p = Elem { radius: 20e-6, g: c };
-    let net = chain(&[p, p, p, p], &[Elem { radius: 10e-6, g: c }; 3], 100e-6);
+    let p = Elem {
+        radius: 20e-6,
+        g: c,
+    };
+    let net = chain(
+        &[p, p, p, p],
+        &[Elem {
+            radius: 10e-6,
+            g: c,
+        }; 3],
+        100e-6,
+    );
     let geom = Geometry::new(&net, 1);
     assert!(geom.shape.iter().all(|&s| s == Shape::Circle));
-    let mut eng = Engine::new(setup(&net, &geom, OutletRule::Open), angles(&net, [0.0, 0.0]));
+    let mut eng = Engine::new(
+        setup(&net, &geom, OutletRule::Open),
+        angles(&net, [0.0, 0.0]),
+    );
     let out = run_process(&mut eng, ProcessKind::Drainage, StopAt::Pc(1e5), 5, &Silent);
     assert_eq!(out.counts.trapped_water_clusters, 0);
     assert_eq!(out.final_saturation.sw, 0.0);

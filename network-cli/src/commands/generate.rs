@@ -68,9 +68,12 @@ fn parse_size(s: &str) -> Result<(usize, usize, usize)> {
 
 /// Reads a lattice specification file.
 pub fn read_spec(path: &Path) -> Result<LatticeSpec> {
-    let text = std::fs::read_to_string(path).with_context(|| format!("cannot read {}", path.display()))?;
+    let text =
+        std::fs::read_to_string(path).with_context(|| format!("cannot read {}", path.display()))?;
     toml::from_str(&text).map_err(|e| {
-        let line = e.span().map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1);
+        let line = e
+            .span()
+            .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1);
         match line {
             Some(l) => anyhow::anyhow!("{}:{l}: {}", path.display(), e.message().trim()),
             None => anyhow::anyhow!("{}: {}", path.display(), e.message().trim()),
@@ -93,7 +96,8 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         spec.target_coordination = z;
     }
     if let Some(a) = &args.axis {
-        spec.flow_axis = Axis::parse(a).with_context(|| format!("--axis `{a}`: expected x, y or z"))?;
+        spec.flow_axis =
+            Axis::parse(a).with_context(|| format!("--axis `{a}`: expected x, y or z"))?;
     }
     if let Some(f) = args.clay_fraction {
         spec.clay_fraction = f;
@@ -113,7 +117,11 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     Ok(())
 }
 
-fn rename(network: network_core::Network, args: &Args, spec: &LatticeSpec) -> network_core::Network {
+fn rename(
+    network: network_core::Network,
+    args: &Args,
+    spec: &LatticeSpec,
+) -> network_core::Network {
     let (mut info, pores, throats) = network.into_parts();
     if let Some(n) = &args.name {
         info.name = n.clone();
@@ -127,7 +135,9 @@ fn rename(network: network_core::Network, args: &Args, spec: &LatticeSpec) -> ne
 
 /// Writes a network as CSV (folder) or binary (`.gnet`).
 pub fn write_network(network: &network_core::Network, out: &Path) -> Result<()> {
-    let binary = out.extension().is_some_and(|e| e.eq_ignore_ascii_case("gnet"));
+    let binary = out
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("gnet"));
     if binary {
         io::write_binary(network, out)
     } else {

@@ -28,15 +28,27 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     let r = NetworkReport::of(&loaded.network);
     if args.json {
         let mut v = serde_json::to_value(&r)?;
-        v["warnings"] = serde_json::Value::from(loaded.warnings.iter().map(|w| w.to_string()).collect::<Vec<_>>());
+        v["warnings"] = serde_json::Value::from(
+            loaded
+                .warnings
+                .iter()
+                .map(|w| w.to_string())
+                .collect::<Vec<_>>(),
+        );
         println!("{}", serde_json::to_string_pretty(&v)?);
         return Ok(());
     }
     println!("network            {}", r.name);
     println!("pores / throats    {} / {}", r.pores, r.throats);
-    println!("inlet / outlet     {} / {} pores (flow axis {})", r.inlet_pores, r.outlet_pores, r.flow_axis);
+    println!(
+        "inlet / outlet     {} / {} pores (flow axis {})",
+        r.inlet_pores, r.outlet_pores, r.flow_axis
+    );
     println!("porosity           {:.4}", r.porosity);
-    println!("pore volume        {:.4e} m3 (bulk {:.4e} m3)", r.pore_volume_m3, r.bulk_volume_m3);
+    println!(
+        "pore volume        {:.4e} m3 (bulk {:.4e} m3)",
+        r.pore_volume_m3, r.bulk_volume_m3
+    );
     println!("mean coordination  {:.3}", r.mean_coordination);
     let hist: Vec<String> = r
         .coordination_histogram
@@ -48,7 +60,11 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     println!("coordination       {}", hist.join(" "));
     println!(
         "connectivity       {} ({} clusters, {} isolated pores, {} pores off the spanning cluster)",
-        if r.spanning { "spanning" } else { "NOT spanning" },
+        if r.spanning {
+            "spanning"
+        } else {
+            "NOT spanning"
+        },
         r.clusters,
         r.isolated_pores,
         r.non_spanning_pores

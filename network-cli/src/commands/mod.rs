@@ -16,7 +16,8 @@ use crate::progress::Bars;
 
 /// Loads a network (CSV folder or binary file) and prints its warnings.
 pub fn load(path: &Path, progress: &Bars) -> Result<Loaded> {
-    let loaded = io::read_network(path).with_context(|| format!("cannot load network {}", path.display()))?;
+    let loaded = io::read_network(path)
+        .with_context(|| format!("cannot load network {}", path.display()))?;
     for w in &loaded.warnings {
         progress.note(&format!("warning: {w}"));
     }

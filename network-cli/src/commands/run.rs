@@ -32,9 +32,13 @@ pub struct Args {
 
 /// Reads and validates a study file.
 pub fn read_study(path: &Path) -> Result<Study> {
-    let text = std::fs::read_to_string(path).with_context(|| format!("cannot read study {}", path.display()))?;
+    let text = std::fs::read_to_string(path)
+        .with_context(|| format!("cannot read study {}", path.display()))?;
     Study::parse(&text).map_err(|e| {
-        let lines: Vec<String> = e.0.iter().map(|x| format!("{}: {x}", path.display())).collect();
+        let lines: Vec<String> =
+            e.0.iter()
+                .map(|x| format!("{}: {x}", path.display()))
+                .collect();
         anyhow::anyhow!("the study was refused:\n  {}", lines.join("\n  "))
     })
 }

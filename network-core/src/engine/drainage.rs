@@ -135,7 +135,13 @@ impl Engine<'_> {
             s.oil[e] = true;
             s.layers[e] = 0;
             s.contacted[e] = true;
-            s.pc_max[e] = pc;
+            // New corner menisci recede from the current pressure; below
+            // zero (oil-wet walls) the corner water stays pinned where the
+            // last drainage left it.
+            if pc > 0.0 {
+                s.pc_max[e] = pc;
+                s.pc_min[e] = f64::NAN;
+            }
             s.oil_trapped[e] = false;
             s.ganglion[e] = super::state::NO_GANGLION;
             if !s.water_trapped[e] {
@@ -189,7 +195,11 @@ impl Engine<'_> {
         }
         // Water trapping: e no longer passes water unless its corners do.
         if self.wet[e] == 0 {
-            let seeds: Vec<usize> = nb.iter().copied().filter(|&n| self.conducts_water(n)).collect();
+            let seeds: Vec<usize> = nb
+                .iter()
+                .copied()
+                .filter(|&n| self.conducts_water(n))
+                .collect();
             let one_must_escape = self.boundary(e) != Boundary::Outlet;
             self.trap_water(&seeds, one_must_escape);
         }
@@ -251,7 +261,11 @@ impl Engine<'_> {
                 } else {
                     pc
                 };
-                d.state.pc_max[e] = d.state.pc_max[e].max(seen);
+                if seen >= d.state.pc_max[e] {
+                    // Receded past the old pinning: a fresh drainage state.
+                    d.state.pc_max[e] = seen;
+                    d.state.pc_min[e] = f64::NAN;
+                }
             }
         }
         self.mode = Mode::Idle;

@@ -222,13 +222,18 @@ impl Engine<'_> {
     }
 
     fn cooperative_pc(&self, p: usize, n_oil: usize, n_throats: usize) -> f64 {
+        // weights[k] and draws[k] belong to the (k+2)-th oil-filled throat.
         let w = &self.setup.mechanisms.cooperative_weights;
         let mut weights = [0.0f64; 32];
         let mut draws = [0.0f64; 32];
-        let n = n_oil.min(32);
-        for i in 0..n {
-            weights[i] = w[i.min(w.len() - 1)] * self.coop_scale;
-            draws[i] = unit_hash(self.setup.seed, STREAM_COOPERATIVE, (p as u64) << 5 | i as u64);
+        let n = n_oil.saturating_sub(1).min(32);
+        for k in 0..n {
+            weights[k] = w[k.min(w.len() - 1)] * self.coop_scale;
+            draws[k] = unit_hash(
+                self.setup.seed,
+                STREAM_COOPERATIVE,
+                (p as u64) << 5 | k as u64,
+            );
         }
         capillary::cooperative_fill_pc(
             self.setup.geometry.radius[p],
@@ -344,7 +349,11 @@ impl Engine<'_> {
         self.for_each_neighbour(e, |n| nb.push(n));
         self.release_water(&nb);
         if !self.dyn_.state.conducts_oil(e) {
-            let seeds: Vec<usize> = nb.iter().copied().filter(|&n| self.conducts_free_oil(n)).collect();
+            let seeds: Vec<usize> = nb
+                .iter()
+                .copied()
+                .filter(|&n| self.conducts_free_oil(n))
+                .collect();
             self.trap_oil(&seeds, !self.is_oil_exit(e));
         }
         for &n in &nb {
@@ -374,7 +383,11 @@ impl Engine<'_> {
         }
         let mut nb = Vec::with_capacity(8);
         self.for_each_neighbour(e, |n| nb.push(n));
-        let seeds: Vec<usize> = nb.iter().copied().filter(|&n| self.conducts_free_oil(n)).collect();
+        let seeds: Vec<usize> = nb
+            .iter()
+            .copied()
+            .filter(|&n| self.conducts_free_oil(n))
+            .collect();
         self.trap_oil(&seeds, !self.is_oil_exit(e));
     }
 
@@ -445,5 +458,16 @@ impl Engine<'_> {
     /// Ends an imbibition.
     pub fn end_imbibition(&mut self) {
         self.mode = Mode::Idle;
+        let s = &mut self.dyn_.state;
+        let pc = s.pc;
+        for e in 0..s.oil.len() {
+            if s.oil[e] {
+                s.pc_min[e] = if s.frozen_pc[e].is_finite() {
+                    s.frozen_pc[e]
+                } else {
+                    pc
+                };
+            }
+        }
     }
 }

@@ -146,7 +146,9 @@ pub fn run_process(
             if ascending {
                 (span.1.abs() * 1.0e3).max(start_pc.abs() * 10.0).max(1.0)
             } else {
-                -(span.0.abs().max(span.1.abs()) * 10.0).max(start_pc.abs() * 10.0).max(1.0)
+                -(span.0.abs().max(span.1.abs()) * 10.0)
+                    .max(start_pc.abs() * 10.0)
+                    .max(1.0)
             }
         }
     };
@@ -176,7 +178,10 @@ pub fn run_process(
     }
     // A level at Pc = 0 separates spontaneous from forced displacement
     // (needed by the Amott and USBM indices).
-    if let Some(k) = lv.windows(2).position(|w| (w[0] < 0.0) != (w[1] < 0.0) && w[0] != 0.0 && w[1] != 0.0) {
+    if let Some(k) = lv
+        .windows(2)
+        .position(|w| (w[0] < 0.0) != (w[1] < 0.0) && w[0] != 0.0 && w[1] != 0.0)
+    {
         lv.insert(k + 1, 0.0);
     } else if moving && (start_pc < 0.0) != (lv[0] < 0.0) && start_pc != 0.0 && lv[0] != 0.0 {
         lv.insert(0, 0.0);
@@ -268,7 +273,13 @@ fn bisect(
     target: f64,
     ascending: bool,
 ) -> (f64, Saturation) {
-    let reached = |sw: f64| if ascending { sw <= target } else { sw >= target };
+    let reached = |sw: f64| {
+        if ascending {
+            sw <= target
+        } else {
+            sw >= target
+        }
+    };
     for _ in 0..200 {
         if (hi - lo).abs() <= 1e-12 * hi.abs().max(lo.abs()).max(1.0) {
             break;

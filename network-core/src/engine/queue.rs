@@ -191,7 +191,9 @@ mod tests {
         q.set(1, 5.0, EventKind::Piston);
         q.set(2, -1.0, EventKind::Piston);
         q.set(0, f64::NAN, EventKind::Piston); // cancelled, never pops
-        let ev: Vec<(usize, f64)> = std::iter::from_fn(|| q.pop()).map(|e| (e.element, e.pc)).collect();
+        let ev: Vec<(usize, f64)> = std::iter::from_fn(|| q.pop())
+            .map(|e| (e.element, e.pc))
+            .collect();
         assert_eq!(ev, vec![(1, 5.0), (3, 5.0), (2, -1.0)]);
         assert!(!q.next_within(-10.0));
     }

@@ -69,33 +69,45 @@ impl Engine<'_> {
         let sec = self.section(e);
         let area = crate::geometry::area(sec.radius, sec.shape_factor);
         let sigma = self.setup.sigma;
-        let pc = if s.frozen_pc[e].is_finite() {
+        let mut pc = if s.frozen_pc[e].is_finite() {
             s.frozen_pc[e]
         } else {
             s.pc
         };
         let theta_pin = self.angles.pinned_receding[e];
         let mut pc_max = s.pc_max[e];
+        let pc_min = s.pc_min[e];
         if s.oil[e] {
             if self.wet[e] == 0 {
                 return (0.0, 0.0);
             }
-            if self.mode == Mode::Drainage && !s.oil_trapped[e] && self.dyn_.connected[e] {
-                // Still receding with the invading phase (or frozen by
-                // trapped film water at `pc`).
+            if self.mode == Mode::Drainage && !s.frozen_pc[e].is_finite() && self.dyn_.connected[e]
+            {
+                // Still receding with the invading phase; menisci that an
+                // imbibition left at `pc_min` do not re-advance in drainage.
+                if pc_min.is_finite() {
+                    pc = pc.max(pc_min);
+                }
                 pc_max = pc_max.max(pc);
             }
-            let a = if pc >= pc_max {
+            let theta_a = self.angles.advancing[e];
+            let a = if pc_max <= 0.0 {
+                // Filled at a negative pressure with no pinned corner water.
+                0.0
+            } else if pc_min.is_finite() && pc >= pc_min && pc < pc_max {
+                let mut a = 0.0;
+                for (i, &beta) in sec.corners.iter().enumerate() {
+                    if self.wet[e] & (1 << i) != 0 {
+                        a += capillary::reversed_corner_area(
+                            pc, pc_min, pc_max, theta_pin, theta_a, beta, sigma,
+                        );
+                    }
+                }
+                a
+            } else if pc >= pc_max {
                 capillary::drainage_corner_water_area(&sec, theta_pin, sigma, pc)
             } else {
-                capillary::imbibition_corner_water_area(
-                    &sec,
-                    theta_pin,
-                    self.angles.advancing[e],
-                    pc_max,
-                    sigma,
-                    pc,
-                )
+                capillary::imbibition_corner_water_area(&sec, theta_pin, theta_a, pc_max, sigma, pc)
             };
             (a.clamp(0.0, area), 0.0)
         } else if s.layers[e] != 0 {

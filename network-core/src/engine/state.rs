@@ -9,8 +9,8 @@ pub const NO_GANGLION: u32 = u32::MAX;
 ///
 /// Invariants: an element with `oil[e]` has no layers; `oil_trapped[e]`
 /// implies the element conducts oil (`oil[e]` or layers); `frozen_pc[e]` is
-/// finite exactly when the element's phase is trapped; `pc_max[e] > 0`
-/// exactly when the element has been filled with oil at a positive
+/// finite exactly when the element's oil or water is trapped; `pc_max[e] >
+/// 0` exactly when the element has been filled with oil at a positive
 /// capillary pressure.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct State {
@@ -25,6 +25,10 @@ pub struct State {
     /// Highest capillary pressure seen while the centre held oil, Pa
     /// (0 if never filled). Fixes the pinned corner contact lines.
     pub pc_max: Vec<f64>,
+    /// Lowest capillary pressure seen while the centre held oil during the
+    /// last imbibition, Pa (NaN if none): where a later rise in pressure
+    /// starts hinging the corner menisci back.
+    pub pc_min: Vec<f64>,
     /// The element was ever filled with the non-aqueous phase.
     pub contacted: Vec<bool>,
     /// Capillary pressure at which the element's phase was trapped, Pa
@@ -45,6 +49,7 @@ impl State {
             oil_trapped: vec![false; n_elements],
             water_trapped: vec![false; n_elements],
             pc_max: vec![0.0; n_elements],
+            pc_min: vec![f64::NAN; n_elements],
             contacted: vec![false; n_elements],
             frozen_pc: vec![f64::NAN; n_elements],
             ganglion: vec![NO_GANGLION; n_elements],

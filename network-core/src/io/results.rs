@@ -46,7 +46,9 @@ pub fn curves_csv(results: &RunResults) -> String {
 
 /// The `ganglia.csv` text: one row per trapped ganglion.
 pub fn ganglia_csv(results: &RunResults) -> String {
-    let mut s = String::from("id,volume_m3,pores,throats,x_min_m,y_min_m,z_min_m,x_max_m,y_max_m,z_max_m\n");
+    let mut s = String::from(
+        "id,volume_m3,pores,throats,x_min_m,y_min_m,z_min_m,x_max_m,y_max_m,z_max_m\n",
+    );
     for g in &results.ganglia {
         let b = g.bbox_m;
         let _ = writeln!(

@@ -32,7 +32,8 @@ pub fn chain(pores: &[Elem], throats: &[Elem], spacing: f64) -> Network {
         p.z.push(0.0);
         p.radius.push(e.radius);
         p.shape_factor.push(e.g);
-        p.volume.push(network_core::geometry::area(e.radius, e.g) * 2.0 * e.radius);
+        p.volume
+            .push(network_core::geometry::area(e.radius, e.g) * 2.0 * e.radius);
         p.clay_volume.push(0.0);
         p.boundary.push(if i == 0 {
             Boundary::Inlet
@@ -51,7 +52,8 @@ pub fn chain(pores: &[Elem], throats: &[Elem], spacing: f64) -> Network {
         t.length.push(spacing);
         t.conduit_a.push(ra);
         t.conduit_b.push(rb);
-        t.volume.push(network_core::geometry::area(e.radius, e.g) * (spacing - ra - rb));
+        t.volume
+            .push(network_core::geometry::area(e.radius, e.g) * (spacing - ra - rb));
         t.clay_volume.push(0.0);
     }
     Network::new(info, p, t).expect("valid chain")
