@@ -12,6 +12,8 @@
 //!   a compressed adjacency, validated on construction ([`validate`]).
 //! - [`geometry`]: shape classes, corner half-angles (Patzek 2001), areas.
 //! - [`connectivity`]: components, the spanning cluster, face masks.
+//! - [`flow`]: conductances, the pressure solve, permeability and formation
+//!   factor.
 //! - [`progress`]: the callback through which long calls report progress.
 //!
 //! Pores and throats are both *elements* of a displacement: one index space,
@@ -60,6 +62,7 @@
 #![warn(missing_docs)]
 
 pub mod connectivity;
+pub mod flow;
 pub mod geometry;
 pub mod network;
 pub mod numeric;
