@@ -615,6 +615,7 @@ mod tests {
 
     /// A 2-D grid Laplacian with random bond conductances and a Dirichlet
     /// column on the left (its bonds add to the diagonal only).
+    #[allow(clippy::needless_range_loop)]
     fn grid(m: usize) -> FineOperator {
         let n = m * m;
         let mut offsets = vec![0u32];
