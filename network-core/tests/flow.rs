@@ -7,8 +7,9 @@ use std::f64::consts::PI;
 
 use common::{Lattice, log_uniform_radius, uniform};
 use network_core::flow::{
-    AmgOptions, FlowError, PermOptions, Preconditioner, PressureSystem, SolveError, SolveOptions,
-    conduit_conductances, element_hydraulic_conductances, hydraulic_conductance, permeability,
+    AmgOptions, FlowError, Method, PermOptions, Preconditioner, PressureSystem, Smoother,
+    SolveError, SolveOptions, conduit_conductances, element_hydraulic_conductances,
+    hydraulic_conductance, permeability,
 };
 use network_core::geometry::{G_CIRCLE, G_EQUILATERAL, G_SQUARE};
 use network_core::{Axis, Boundary, Network, NetworkInfo, Pores, Throats};
@@ -477,7 +478,9 @@ fn random_conduits(net: &Network) -> Vec<f64> {
 fn results_are_identical_with_one_and_two_threads() {
     // Determinism requirement of the project: fixed chunking of every
     // reduction, sequential searches and aggregation.
-    let net = random_lattice(12, 5);
+    // 18³ = 5832 pores: more than one fixed chunk of rows, so the chunked
+    // reductions and Gauss–Seidel blocks are exercised.
+    let net = random_lattice(18, 5);
     let run = |threads: usize, opts: SolveOptions| {
         rayon::ThreadPoolBuilder::new()
             .num_threads(threads)
@@ -510,7 +513,21 @@ fn results_are_identical_with_one_and_two_threads() {
                 (rep, sol.pressure)
             })
     };
-    for opts in [jacobi(), SolveOptions::default()] {
+    let gs = SolveOptions {
+        preconditioner: Preconditioner::Amg(AmgOptions {
+            smoother: Smoother::GaussSeidel,
+            ..AmgOptions::default()
+        }),
+        ..SolveOptions::default()
+    };
+    let sa = SolveOptions {
+        preconditioner: Preconditioner::Amg(AmgOptions {
+            method: Method::SmoothedAggregation,
+            ..AmgOptions::default()
+        }),
+        ..SolveOptions::default()
+    };
+    for opts in [jacobi(), SolveOptions::default(), gs, sa] {
         let (r1, p1) = run(1, opts.clone());
         let (r2, p2) = run(2, opts);
         assert_eq!(r1.permeability_m2.to_bits(), r2.permeability_m2.to_bits());
@@ -536,10 +553,19 @@ fn jacobi_and_multigrid_agree_and_conserve_mass() {
         },
     )
     .unwrap();
-    for smooth in [true, false] {
+    let methods = [
+        Method::Classical,
+        Method::SmoothedAggregation,
+        Method::PlainAggregation,
+    ];
+    for (method, smoother) in methods
+        .into_iter()
+        .flat_map(|m| [(m, Smoother::Jacobi), (m, Smoother::GaussSeidel)])
+    {
         let opts = SolveOptions {
             preconditioner: Preconditioner::Amg(AmgOptions {
-                smooth_prolongator: smooth,
+                method,
+                smoother,
                 max_coarse: 20,
                 ..AmgOptions::default()
             }),

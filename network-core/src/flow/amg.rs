@@ -1,48 +1,66 @@
-//! Aggregation algebraic multigrid, used as a preconditioner of conjugate
+//! Algebraic multigrid (AMG), used as a preconditioner of conjugate
 //! gradients.
 //!
-//! Method: smoothed aggregation (Vaněk, Mandel & Brezina 1996, "Algebraic
-//! multigrid by smoothed aggregation for second and fourth order elliptic
-//! problems", Computing 56:179–196), or plain (unsmoothed) aggregation when
-//! [`AmgOptions::smooth_prolongator`] is off.
+//! Three ways to build the hierarchy ([`Method`]):
+//! - **classical** (the default): Ruge–Stüben C/F splitting with direct
+//!   interpolation (Ruge & Stüben 1987, "Algebraic multigrid", in Multigrid
+//!   Methods, SIAM Frontiers in Applied Mathematics 3:73–130; Stüben 2001,
+//!   "A review of algebraic multigrid", J. Comput. Appl. Math.
+//!   128:281–309). Pressure matrices of pore networks are M-matrices with
+//!   conductances spread over orders of magnitude; interpolation weighted
+//!   by the couplings themselves keeps the convergence nearly independent
+//!   of that spread, and it measured fastest (see the solver benchmark);
+//! - **smoothed aggregation** (Vaněk, Mandel & Brezina 1996, "Algebraic
+//!   multigrid by smoothed aggregation for second and fourth order elliptic
+//!   problems", Computing 56:179–196);
+//! - **plain aggregation**: the tentative prolongator of the former,
+//!   unsmoothed.
 //!
-//! Setup of one level with matrix `A` (diagonal `D`):
-//! 1. strong couplings `|aᵢⱼ| ≥ θ √(aᵢᵢ aⱼⱼ)` (θ = [`AmgOptions::strength_threshold`]);
+//! Aggregation on one level with matrix `A` (diagonal `D`):
+//! 1. strong couplings `|aᵢⱼ| ≥ θₗ √(aᵢᵢ aⱼⱼ)`, `θₗ = θ/2ˡ` on level `l`
+//!    (θ = [`AmgOptions::strength_threshold`]);
 //! 2. greedy aggregation in three passes (Vaněk et al. 1996): roots whose
 //!    strong neighbourhood is still free form aggregates with it; left-over
 //!    nodes join the aggregate of their strongest aggregated neighbour; the
-//!    rest form aggregates with their free strong neighbours. The passes run
-//!    in index order, so the aggregates are deterministic;
+//!    rest form aggregates with their free strong neighbours. Nodes with no
+//!    strong coupling and a dominant diagonal stay out. The passes run in
+//!    index order, so the aggregates are deterministic;
 //! 3. tentative prolongator `P₀` = aggregate indicator (the constant vector
 //!    spans the near-null space of a graph Laplacian);
-//! 4. smoothed prolongator `P = (I − ω D_F⁻¹ A_F) P₀` with the filtered
-//!    matrix `A_F` (weak couplings dropped and added to the diagonal, which
-//!    keeps row sums) and `ω = 4/(3ρ)`, `ρ` the Gershgorin bound of
-//!    `ρ(D_F⁻¹ A_F)`;
-//! 5. Galerkin coarse matrix `A_c = Pᵀ A P`.
+//! 4. smoothed aggregation only: `P = (I − ω D_F⁻¹ A_F) P₀` with the
+//!    filtered matrix `A_F` (weak couplings dropped and added to the
+//!    diagonal, which keeps row sums) and `ω = 4/(3ρ)`, `ρ` the Gershgorin
+//!    bound of `ρ(D_F⁻¹ A_F)`.
 //!
-//! The cycle is a V-cycle with damped Jacobi smoothing (`ω = 4/(3ρ)`, `ρ`
-//! the Gershgorin bound of `ρ(D⁻¹A)`), the same number of sweeps before and
-//! after the coarse correction, and a dense Cholesky solve on the coarsest
-//! level. Jacobi smoothing is symmetric, so the cycle is a symmetric positive
-//! definite preconditioner as CG requires.
+//! Every method then forms the Galerkin coarse matrix `A_c = Pᵀ A P`.
+//!
+//! The cycle is a V-cycle with the same number of smoothing sweeps before
+//! and after the coarse correction ([`Smoother`]: damped Jacobi, or hybrid
+//! Gauss–Seidel forward before and backward after) and a dense Cholesky
+//! solve on the coarsest level, so it is a symmetric positive definite
+//! preconditioner as CG requires.
 
 use rayon::prelude::*;
 
-use super::sparse::{Csr, FineOperator, LinOp, spgemm};
+use super::sparse::{Csr, FineOperator, LinOp, build_rows, spgemm};
 use crate::numeric::CHUNK;
 
 /// Options of the algebraic multigrid preconditioner.
 #[derive(Clone, Debug, PartialEq)]
 pub struct AmgOptions {
-    /// Strength-of-connection threshold θ: `aᵢⱼ` is a strong coupling when
-    /// `|aᵢⱼ| ≥ θ √(aᵢᵢ aⱼⱼ)`. Default 0.08 (common practice for smoothed
-    /// aggregation); range `[0, 1)`.
+    /// Strength threshold θ of the aggregation methods: `aᵢⱼ` is a strong
+    /// coupling when `|aᵢⱼ| ≥ θ √(aᵢᵢ aⱼⱼ)` (halved on each coarser level).
+    /// Default 0.08 (common practice for smoothed aggregation; it gave the
+    /// fewest iterations among 0–0.25 on the benchmark); range `[0, 1)`.
     pub strength_threshold: f64,
-    /// Smooth the tentative prolongator (smoothed aggregation, default) or
-    /// use it as it is (plain aggregation: cheaper setup, more iterations).
-    pub smooth_prolongator: bool,
-    /// Jacobi sweeps before and after each coarse correction. Default 1.
+    /// Coarsening and interpolation (default [`Method::Classical`]).
+    pub method: Method,
+    /// Strength threshold of [`Method::Classical`]: `j` strongly influences
+    /// `i` when `−aᵢⱼ ≥ θ_c maxₖ(−aᵢₖ)`. Default 0.25 (Ruge & Stüben 1987).
+    pub classical_threshold: f64,
+    /// Smoother of every level (default [`Smoother::Jacobi`]).
+    pub smoother: Smoother,
+    /// Smoothing sweeps before and after each coarse correction. Default 1.
     pub sweeps: usize,
     /// Stop coarsening when a level has at most this many unknowns
     /// (solved there by dense Cholesky). Default 400.
@@ -55,12 +73,47 @@ impl Default for AmgOptions {
     fn default() -> Self {
         AmgOptions {
             strength_threshold: 0.08,
-            smooth_prolongator: true,
+            method: Method::Classical,
+            classical_threshold: 0.25,
+            smoother: Smoother::Jacobi,
             sweeps: 1,
             max_coarse: 400,
             max_levels: 20,
         }
     }
+}
+
+/// How a level is coarsened and interpolated.
+#[non_exhaustive]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Method {
+    /// Smoothed aggregation (Vaněk, Mandel & Brezina 1996).
+    SmoothedAggregation,
+    /// Plain aggregation: the tentative prolongator unsmoothed (cheaper
+    /// setup and cycle, more iterations).
+    PlainAggregation,
+    /// Classical coarsening and direct interpolation (Ruge & Stüben 1987,
+    /// "Algebraic multigrid", in Multigrid Methods, SIAM Frontiers in
+    /// Applied Mathematics 3:73–130; Stüben 2001, J. Comput. Appl. Math.
+    /// 128:281–309): C/F splitting by the first Ruge–Stüben pass, F-points
+    /// interpolated from their strongly influencing C-points.
+    Classical,
+}
+
+/// The smoother of the multigrid cycle. Both keep the cycle symmetric.
+#[non_exhaustive]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Smoother {
+    /// Damped Jacobi, `ω = 4/(3ρ)` with `ρ` the Gershgorin bound of
+    /// `ρ(D⁻¹A)`.
+    Jacobi,
+    /// Hybrid ℓ¹ Gauss–Seidel (Baker, Falgout, Kolev & Yang 2011, "Multigrid
+    /// smoothers for ultraparallel computing", SIAM J. Sci. Comput.
+    /// 33:2864–2887): Gauss–Seidel inside fixed row blocks, Jacobi between
+    /// them, with the couplings leaving the block added in absolute value to
+    /// the diagonal, which makes it convergent for any SPD matrix. Forward
+    /// before the coarse correction, backward after it.
+    GaussSeidel,
 }
 
 /// A coarsest level larger than this is smoothed instead of factorised.
@@ -125,6 +178,7 @@ pub(crate) struct Amg {
     coarsest: Coarsest,
     work: Vec<Work>,
     sweeps: usize,
+    smoother: Smoother,
     /// Stored entries of all levels over those of level 0.
     operator_complexity: f64,
 }
@@ -147,15 +201,24 @@ impl Amg {
             if n_present <= opts.max_coarse || level + 1 >= opts.max_levels.max(1) {
                 break;
             }
-            let (agg, n_agg) = aggregate(&current, &d, theta);
-            if n_agg == 0 || n_agg as f64 > 0.9 * n_present as f64 {
+            let p = match opts.method {
+                Method::Classical => {
+                    classical_prolongator(&current, &d, opts.classical_threshold.clamp(0.0, 1.0))
+                }
+                Method::SmoothedAggregation | Method::PlainAggregation => {
+                    // θ is halved on each coarser level (Vaněk et al. 1996).
+                    let theta = theta * 0.5f64.powi(level as i32);
+                    let (agg, n_agg) = aggregate(&current, &d, theta);
+                    if opts.method == Method::SmoothedAggregation {
+                        smoothed_prolongator(&current, &d, &agg, n_agg, theta)
+                    } else {
+                        tentative_prolongator(&agg, n_agg)
+                    }
+                }
+            };
+            if p.n_cols == 0 || p.n_cols as f64 > 0.9 * n_present as f64 {
                 break;
             }
-            let p = if opts.smooth_prolongator {
-                smoothed_prolongator(&current, &d, &agg, n_agg, theta)
-            } else {
-                tentative_prolongator(&agg, n_agg)
-            };
             let ap = spgemm(&current, &p);
             let r = p.transpose();
             let ac = spgemm(&r, &ap);
@@ -174,7 +237,13 @@ impl Amg {
         if !transfers.is_empty() {
             coarse.push(current);
         }
-        let coarse_smoother = coarse.iter().map(jacobi_weights_csr).collect();
+        let coarse_smoother = coarse
+            .iter()
+            .map(|a| match opts.smoother {
+                Smoother::Jacobi => jacobi_weights_csr(a),
+                Smoother::GaussSeidel => a.l1_inverse_diagonal(),
+            })
+            .collect();
         let work = sizes.iter().map(|&n| Work::new(n)).collect();
         let mut amg = Amg {
             transfers,
@@ -184,6 +253,7 @@ impl Amg {
             coarsest,
             work,
             sweeps: opts.sweeps.max(1),
+            smoother: opts.smoother,
             operator_complexity: nnz_total as f64 / nnz0 as f64,
         };
         amg.refresh_fine(fine);
@@ -203,13 +273,16 @@ impl Amg {
     /// Recomputes the finest-level smoother from the current fine values
     /// (the coarse levels are kept as they are).
     pub fn refresh_fine(&mut self, fine: &FineOperator) {
-        self.fine_smoother = jacobi_weights_fine(fine);
+        self.fine_smoother = match self.smoother {
+            Smoother::Jacobi => jacobi_weights_fine(fine),
+            Smoother::GaussSeidel => fine.l1_inverse_diagonal(),
+        };
     }
 
     /// `z = M⁻¹ r`: one V-cycle from a zero initial guess.
     pub fn apply(&mut self, fine: &FineOperator, r: &[f64], z: &mut [f64]) {
         let n_transfers = self.transfers.len();
-        let sweeps = self.sweeps;
+        let (sweeps, kind) = (self.sweeps, self.smoother);
         self.work[0].b.copy_from_slice(r);
         for k in 0..n_transfers {
             let op: &dyn LinOp = if k == 0 { fine } else { &self.coarse[k - 1] };
@@ -220,11 +293,7 @@ impl Amg {
             };
             let (lo, hi) = self.work.split_at_mut(k + 1);
             let w = &mut lo[k];
-            scaled_copy(s, &w.b, &mut w.x);
-            for _ in 1..sweeps {
-                op.residual(&w.b, &w.x, &mut w.t);
-                add_scaled(s, &w.t, &mut w.x);
-            }
+            smooth(op, kind, s, sweeps, true, w);
             op.residual(&w.b, &w.x, &mut w.t);
             self.transfers[k].r.mul(&w.t, &mut hi[0].b);
         }
@@ -243,11 +312,8 @@ impl Amg {
                     } else {
                         &self.coarse_smoother[k - 1]
                     };
-                    scaled_copy(s, &w.b, &mut w.x);
-                    for _ in 1..COARSE_SWEEPS {
-                        op.residual(&w.b, &w.x, &mut w.t);
-                        add_scaled(s, &w.t, &mut w.x);
-                    }
+                    smooth(op, kind, s, COARSE_SWEEPS, true, w);
+                    smooth(op, kind, s, COARSE_SWEEPS, false, w);
                 }
             }
         }
@@ -261,10 +327,7 @@ impl Amg {
             let (lo, hi) = self.work.split_at_mut(k + 1);
             let w = &mut lo[k];
             self.transfers[k].p.mul_add(&hi[0].x, &mut w.x);
-            for _ in 0..sweeps {
-                op.residual(&w.b, &w.x, &mut w.t);
-                add_scaled(s, &w.t, &mut w.x);
-            }
+            smooth(op, kind, s, sweeps, false, w);
         }
         z.copy_from_slice(&self.work[0].x);
     }
@@ -286,22 +349,40 @@ impl Amg {
     }
 }
 
+/// Smoothing of `A x = b` on one level: before the coarse correction
+/// (`pre`, from a zero guess) or after it. Jacobi: `sweeps` damped sweeps.
+/// Gauss–Seidel: forward sweeps before, backward after, so that the
+/// post-smoother is the adjoint of the pre-smoother.
+fn smooth(op: &dyn LinOp, kind: Smoother, s: &[f64], sweeps: usize, pre: bool, w: &mut Work) {
+    match kind {
+        Smoother::Jacobi => {
+            let mut done = 0;
+            if pre {
+                scaled_copy(s, &w.b, &mut w.x);
+                done = 1;
+            }
+            for _ in done..sweeps {
+                op.jacobi_step(&w.b, &w.x, s, &mut w.t);
+                std::mem::swap(&mut w.x, &mut w.t);
+            }
+        }
+        Smoother::GaussSeidel => {
+            if pre {
+                w.x.iter_mut().for_each(|v| *v = 0.0);
+            }
+            for _ in 0..sweeps {
+                op.gs_sweep(&w.b, &mut w.x, &mut w.t, s, pre);
+            }
+        }
+    }
+}
+
 /// `x = s ⊙ b`.
 fn scaled_copy(s: &[f64], b: &[f64], x: &mut [f64]) {
     x.par_chunks_mut(CHUNK).enumerate().for_each(|(c, xs)| {
         let o = c * CHUNK;
         for (k, xi) in xs.iter_mut().enumerate() {
             *xi = s[o + k] * b[o + k];
-        }
-    });
-}
-
-/// `x += s ⊙ t`.
-fn add_scaled(s: &[f64], t: &[f64], x: &mut [f64]) {
-    x.par_chunks_mut(CHUNK).enumerate().for_each(|(c, xs)| {
-        let o = c * CHUNK;
-        for (k, xi) in xs.iter_mut().enumerate() {
-            *xi += s[o + k] * t[o + k];
         }
     });
 }
@@ -368,9 +449,14 @@ fn aggregate(a: &Csr, d: &[f64], theta: f64) -> (Vec<u32>, usize) {
             (j != i && d[j] > 0.0 && is_strong(x, d[i], d[j], theta)).then_some(j)
         })
     };
+    // Nodes without strong couplings are left out (the smoother handles
+    // them; Vaněk et al. 1996).
+    let isolated: Vec<bool> = (0..n)
+        .map(|i| d[i] > 0.0 && strong(i).next().is_none())
+        .collect();
     // Pass 1: roots with an entirely free strong neighbourhood.
     for i in 0..n {
-        if d[i] <= 0.0 || agg[i] != FREE {
+        if d[i] <= 0.0 || agg[i] != FREE || isolated[i] {
             continue;
         }
         if strong(i).all(|j| agg[j] == FREE) {
@@ -384,7 +470,7 @@ fn aggregate(a: &Csr, d: &[f64], theta: f64) -> (Vec<u32>, usize) {
     // Pass 2: join the aggregate of the strongest pass-1 neighbour.
     let pass1 = agg.clone();
     for i in 0..n {
-        if d[i] <= 0.0 || agg[i] != FREE {
+        if d[i] <= 0.0 || agg[i] != FREE || isolated[i] {
             continue;
         }
         let (c, v) = a.row(i);
@@ -405,7 +491,7 @@ fn aggregate(a: &Csr, d: &[f64], theta: f64) -> (Vec<u32>, usize) {
     }
     // Pass 3: the rest with their free strong neighbours.
     for i in 0..n {
-        if d[i] <= 0.0 || agg[i] != FREE {
+        if d[i] <= 0.0 || agg[i] != FREE || isolated[i] {
             continue;
         }
         agg[i] = n_agg;
@@ -479,12 +565,14 @@ fn smoothed_prolongator(a: &Csr, d: &[f64], agg: &[u32], n_agg: usize, theta: f6
         })
         .reduce(|| 0.0, f64::max);
     let omega = if rho > 0.0 { 4.0 / (3.0 * rho) } else { 0.0 };
-    let rows: Vec<Vec<(u32, f64)>> = (0..n)
-        .into_par_iter()
-        .map(|i| {
-            let mut out: Vec<(u32, f64)> = Vec::new();
+    build_rows(
+        n,
+        n_agg,
+        Vec::new,
+        |out: &mut Vec<(u32, f64)>, i, col, val| {
+            out.clear();
             if agg[i] == FREE {
-                return out;
+                return;
             }
             out.push((agg[i], 1.0 - omega));
             let (c, v) = a.row(i);
@@ -500,29 +588,238 @@ fn smoothed_prolongator(a: &Csr, d: &[f64], agg: &[u32], n_agg: usize, theta: f6
                     None => out.push((g, -w * x)),
                 }
             }
-            out.retain(|e| e.1 != 0.0);
-            out
-        })
-        .collect();
-    let nnz: usize = rows.iter().map(Vec::len).sum();
-    let mut ptr = Vec::with_capacity(n + 1);
-    let mut col = Vec::with_capacity(nnz);
-    let mut val = Vec::with_capacity(nnz);
-    ptr.push(0);
-    for r in rows {
-        for (c, v) in r {
-            col.push(c);
-            val.push(v);
+            for &(c, v) in out.iter() {
+                if v != 0.0 {
+                    col.push(c);
+                    val.push(v);
+                }
+            }
+        },
+    )
+}
+
+/// Classical C/F splitting (first Ruge–Stüben pass) and direct
+/// interpolation; returns `P` (`n × n_C`, identity on C-points).
+///
+/// `j` strongly influences `i` when `−aᵢⱼ ≥ θ maxₖ(−aᵢₖ)` (negative
+/// couplings only). The splitting repeatedly makes the undecided point
+/// with the largest measure `λ` a C-point and the undecided points it
+/// strongly influences F-points. `λ` starts as the number of points a point
+/// strongly influences; when `i` becomes an F-point, every undecided point
+/// that strongly influences `i` gains 1, and when `j` becomes a C-point,
+/// every undecided point influencing `j` loses 1 (Ruge & Stüben 1987). Ties
+/// go to the most recently bucketed point, which is deterministic. Points
+/// that influence and depend on nothing strongly are F-points with no
+/// interpolation (the smoother resolves them).
+///
+/// Direct interpolation (Stüben 2001, §A.2), with
+/// positive off-diagonals added to the diagonal:
+///
+/// $$P_{ij} = -\alpha_i \frac{a_{ij}}{a_{ii} + \sum_k a_{ik}^+},\qquad
+///   \alpha_i = \frac{\sum_{k \ne i} a_{ik}^-}{\sum_{k \in C_i} a_{ik}^-},$$
+///
+/// `Cᵢ` the strongly influencing C-points of F-point `i`, `a⁻ = min(a, 0)`,
+/// `a⁺ = max(a, 0)`.
+fn classical_prolongator(a: &Csr, d: &[f64], theta: f64) -> Csr {
+    let n = a.n_rows;
+    // Strong dependencies S_i (row i: the j that strongly influence i).
+    let s = build_rows(
+        n,
+        n,
+        || (),
+        |_, i, col, _val| {
+            if d[i] <= 0.0 {
+                return;
+            }
+            let (c, v) = a.row(i);
+            let mut m = 0.0f64;
+            for (&j, &x) in c.iter().zip(v) {
+                if j as usize != i && d[j as usize] > 0.0 {
+                    m = m.max(-x);
+                }
+            }
+            if m <= 0.0 {
+                return;
+            }
+            for (&j, &x) in c.iter().zip(v) {
+                if j as usize != i && d[j as usize] > 0.0 && -x >= theta * m && !col.ends_with(&[j])
+                {
+                    col.push(j);
+                }
+            }
+        },
+    );
+    // Transpose pattern S^T (row j: the i that j strongly influences).
+    let st = {
+        let mut counts = vec![0usize; n + 1];
+        for &j in &s.col {
+            counts[j as usize + 1] += 1;
         }
-        ptr.push(col.len());
+        for j in 0..n {
+            counts[j + 1] += counts[j];
+        }
+        let mut cursor = counts[..n].to_vec();
+        let mut col = vec![0u32; s.col.len()];
+        for i in 0..n {
+            for &j in &s.col[s.ptr[i]..s.ptr[i + 1]] {
+                col[cursor[j as usize]] = i as u32;
+                cursor[j as usize] += 1;
+            }
+        }
+        (counts, col)
+    };
+    let s_of = |i: usize| &s.col[s.ptr[i]..s.ptr[i + 1]];
+    let st_of = |j: usize| &st.1[st.0[j]..st.0[j + 1]];
+
+    const U: u8 = 0;
+    const C: u8 = 1;
+    const F: u8 = 2;
+    let mut state = vec![U; n];
+    let mut lam = vec![0usize; n];
+    let mut max_lam = 0;
+    for i in 0..n {
+        if d[i] <= 0.0 || (s_of(i).is_empty() && st_of(i).is_empty()) {
+            state[i] = F;
+        } else {
+            lam[i] = st_of(i).len();
+            max_lam = max_lam.max(lam[i]);
+        }
     }
-    Csr {
-        n_rows: n,
-        n_cols: n_agg,
-        ptr,
-        col,
-        val,
+    // Bucket queue with doubly linked lists; λ only grows by F updates, at
+    // most once per strong dependency, so 2·max + row length bounds it.
+    let max_row = (0..n).map(|i| s_of(i).len()).max().unwrap_or(0);
+    let n_buckets = 2 * max_lam + max_row + 2;
+    const NIL: usize = usize::MAX;
+    let mut head = vec![NIL; n_buckets];
+    let mut next = vec![NIL; n];
+    let mut prev = vec![NIL; n];
+    let insert =
+        |i: usize, lam: &[usize], head: &mut [usize], next: &mut [usize], prev: &mut [usize]| {
+            let b = lam[i];
+            next[i] = head[b];
+            prev[i] = NIL;
+            if head[b] != NIL {
+                prev[head[b]] = i;
+            }
+            head[b] = i;
+        };
+    let remove =
+        |i: usize, lam: &[usize], head: &mut [usize], next: &mut [usize], prev: &mut [usize]| {
+            let b = lam[i];
+            if prev[i] != NIL {
+                next[prev[i]] = next[i];
+            } else {
+                head[b] = next[i];
+            }
+            if next[i] != NIL {
+                prev[next[i]] = prev[i];
+            }
+        };
+    for (i, &st) in state.iter().enumerate() {
+        if st == U {
+            insert(i, &lam, &mut head, &mut next, &mut prev);
+        }
     }
+    let mut top = n_buckets - 1;
+    loop {
+        while top > 0 && head[top] == NIL {
+            top -= 1;
+        }
+        let j = head[top];
+        if j == NIL {
+            break;
+        }
+        remove(j, &lam, &mut head, &mut next, &mut prev);
+        state[j] = C;
+        for &i in st_of(j) {
+            let i = i as usize;
+            if state[i] != U {
+                continue;
+            }
+            remove(i, &lam, &mut head, &mut next, &mut prev);
+            state[i] = F;
+            for &k in s_of(i) {
+                let k = k as usize;
+                if state[k] == U && lam[k] + 1 < n_buckets {
+                    remove(k, &lam, &mut head, &mut next, &mut prev);
+                    lam[k] += 1;
+                    insert(k, &lam, &mut head, &mut next, &mut prev);
+                    top = top.max(lam[k]);
+                }
+            }
+        }
+        for &k in s_of(j) {
+            let k = k as usize;
+            if state[k] == U && lam[k] > 0 {
+                remove(k, &lam, &mut head, &mut next, &mut prev);
+                lam[k] -= 1;
+                insert(k, &lam, &mut head, &mut next, &mut prev);
+            }
+        }
+    }
+    // Coarse numbering.
+    let mut cidx = vec![u32::MAX; n];
+    let mut n_c = 0u32;
+    for i in 0..n {
+        if state[i] == C {
+            cidx[i] = n_c;
+            n_c += 1;
+        }
+    }
+    // Interpolation rows.
+    build_rows(
+        n,
+        n_c as usize,
+        Vec::new,
+        |out: &mut Vec<(u32, f64)>, i, col, val| {
+            if d[i] <= 0.0 {
+                return;
+            }
+            if state[i] == C {
+                col.push(cidx[i]);
+                val.push(1.0);
+                return;
+            }
+            let strong = s_of(i);
+            let (c, v) = a.row(i);
+            let (mut neg_all, mut neg_c, mut pos) = (0.0, 0.0, 0.0);
+            for (&j, &x) in c.iter().zip(v) {
+                let j = j as usize;
+                if j == i {
+                    continue;
+                }
+                if x < 0.0 {
+                    neg_all += x;
+                    if state[j] == C && strong.contains(&(j as u32)) {
+                        neg_c += x;
+                    }
+                } else {
+                    pos += x;
+                }
+            }
+            if neg_c >= 0.0 {
+                return;
+            }
+            let alpha = neg_all / neg_c;
+            let dd = d[i] + pos;
+            out.clear();
+            for (&j, &x) in c.iter().zip(v) {
+                let j = j as usize;
+                if j == i || x >= 0.0 || state[j] != C || !strong.contains(&(j as u32)) {
+                    continue;
+                }
+                let w = -alpha * x / dd;
+                match out.iter_mut().find(|e| e.0 == cidx[j]) {
+                    Some(e) => e.1 += w,
+                    None => out.push((cidx[j], w)),
+                }
+            }
+            for &(c, v) in out.iter() {
+                col.push(c);
+                val.push(v);
+            }
+        },
+    )
 }
 
 /// Factorises the present rows of the coarsest level, or falls back to
@@ -596,12 +893,14 @@ fn dense_solve(rows: &[usize], l: &[f64], inv_pivot: &[f64], b: &[f64], x: &mut 
         }
         y[i] = s * inv_pivot[i];
     }
+    // Lᵀ x = y by columns of Lᵀ, i.e. contiguous rows of L.
     for i in (0..m).rev() {
-        let mut s = y[i];
-        for k in (i + 1)..m {
-            s -= l[k * m + i] * y[k];
+        y[i] *= inv_pivot[i];
+        let yi = y[i];
+        let row = &l[i * m..i * m + i];
+        for (yk, &lik) in y[..i].iter_mut().zip(row) {
+            *yk -= lik * yi;
         }
-        y[i] = s * inv_pivot[i];
     }
     for (k, &i) in rows.iter().enumerate() {
         x[i] = y[k];
@@ -670,10 +969,19 @@ mod tests {
         // (analytic property; checked here as uᵀM⁻¹v = vᵀM⁻¹u, uᵀM⁻¹u > 0).
         let f = grid(30);
         let n = f.diag.len();
-        for smooth in [true, false] {
+        let methods = [
+            Method::Classical,
+            Method::SmoothedAggregation,
+            Method::PlainAggregation,
+        ];
+        for (method, smoother) in methods
+            .into_iter()
+            .flat_map(|m| [(m, Smoother::Jacobi), (m, Smoother::GaussSeidel)])
+        {
             let opts = AmgOptions {
                 max_coarse: 10,
-                smooth_prolongator: smooth,
+                method,
+                smoother,
                 ..AmgOptions::default()
             };
             let mut amg = Amg::build(&f, &opts);

@@ -84,7 +84,8 @@ pub use permeability::{
     permeability,
 };
 pub use solver::{
-    AmgOptions, FlowSolution, Preconditioner, PressureSystem, SolveError, SolveOptions,
+    AmgOptions, FlowSolution, Method, Preconditioner, PressureSystem, Smoother, SolveError,
+    SolveOptions,
 };
 
 /// Why a flow computation failed.

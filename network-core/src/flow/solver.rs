@@ -29,7 +29,7 @@ use rayon::prelude::*;
 use thiserror::Error;
 
 use super::amg::Amg;
-pub use super::amg::AmgOptions;
+pub use super::amg::{AmgOptions, Method, Smoother};
 use super::sparse::{FineOperator, LinOp, dot};
 use crate::Network;
 use crate::numeric::{CHUNK, par_sum};
@@ -344,7 +344,6 @@ impl PressureSystem {
         if let Some(i) = (0..n).find(|&i| active[i] && inlet[i] && outlet[i]) {
             return Err(SolveError::FaceOverlap { pore: i });
         }
-
         let flowing = self.flowing_set(conduit_g, active, inlet, outlet)?;
         let n_flowing = flowing.iter().filter(|&&f| f).count();
         let fixed = |i: usize| -> Option<f64> {

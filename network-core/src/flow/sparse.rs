@@ -9,9 +9,6 @@ use rayon::prelude::*;
 
 use crate::numeric::CHUNK;
 
-/// Rows per parallel block of the sparse matrix–matrix product.
-const SPGEMM_BLOCK: usize = 1024;
-
 /// `Σ aᵢ bᵢ` with thread-count-independent grouping.
 pub(crate) fn dot(a: &[f64], b: &[f64]) -> f64 {
     debug_assert_eq!(a.len(), b.len());
@@ -35,6 +32,61 @@ pub(crate) trait LinOp: Sync {
     fn apply(&self, x: &[f64], y: &mut [f64]);
     /// `r = b − A x`.
     fn residual(&self, b: &[f64], x: &[f64], r: &mut [f64]);
+    /// One damped Jacobi step into `out`: `outᵢ = xᵢ + sᵢ (bᵢ − (A x)ᵢ)`.
+    fn jacobi_step(&self, b: &[f64], x: &[f64], s: &[f64], out: &mut [f64]);
+    /// Inverse ℓ¹ diagonal of the hybrid Gauss–Seidel sweep,
+    /// `1/(aᵢᵢ + Σ_{j outside i's block} |aᵢⱼ|)` (0 on rows without a
+    /// positive diagonal); blocks are the fixed row chunks of [`CHUNK`].
+    fn l1_inverse_diagonal(&self) -> Vec<f64>;
+    /// One hybrid Gauss–Seidel sweep `xᵢ += (bᵢ − (A x)ᵢ) · w1ᵢ`: rows
+    /// of a block in order (`forward`) or reverse, using the newest values
+    /// inside the block and those from before the sweep elsewhere (copied to
+    /// `x_old`). Blocks run in parallel; the result does not depend on the
+    /// thread count.
+    fn gs_sweep(&self, b: &[f64], x: &mut [f64], x_old: &mut [f64], w1: &[f64], forward: bool);
+}
+
+/// Shared body of [`LinOp::gs_sweep`]: `row(i)` gives the diagonal value
+/// not stored in the slices (0 when it is), and the columns and values of
+/// row `i`; `None` for rows to skip.
+fn hybrid_gs<'a, R>(row: R, b: &[f64], x: &mut [f64], x_old: &mut [f64], w1: &[f64], forward: bool)
+where
+    R: Fn(usize) -> Option<(f64, &'a [u32], &'a [f64])> + Sync,
+{
+    x_old.copy_from_slice(x);
+    let x_old: &[f64] = x_old;
+    x.par_chunks_mut(CHUNK).enumerate().for_each(|(c, xs)| {
+        let lo = c * CHUNK;
+        let hi = lo + xs.len();
+        let visit = |i: usize, xs: &mut [f64]| {
+            if w1[i] == 0.0 {
+                return;
+            }
+            let Some((d, cols, vals)) = row(i) else {
+                return;
+            };
+            let mut ax = d * xs[i - lo];
+            for (&j, &a) in cols.iter().zip(vals) {
+                let j = j as usize;
+                let xj = if j >= lo && j < hi {
+                    xs[j - lo]
+                } else {
+                    x_old[j]
+                };
+                ax += a * xj;
+            }
+            xs[i - lo] += (b[i] - ax) * w1[i];
+        };
+        if forward {
+            for i in lo..hi {
+                visit(i, xs);
+            }
+        } else {
+            for i in (lo..hi).rev() {
+                visit(i, xs);
+            }
+        }
+    });
 }
 
 /// A compressed-sparse-row matrix with `u32` column indices.
@@ -175,6 +227,107 @@ impl LinOp for Csr {
             }
         });
     }
+
+    fn jacobi_step(&self, b: &[f64], x: &[f64], s: &[f64], out: &mut [f64]) {
+        out.par_chunks_mut(CHUNK).enumerate().for_each(|(c, os)| {
+            let start = c * CHUNK;
+            for (k, oi) in os.iter_mut().enumerate() {
+                let i = start + k;
+                let (cols, vals) = self.row(i);
+                let mut ax = 0.0;
+                for (&j, &a) in cols.iter().zip(vals) {
+                    ax += a * x[j as usize];
+                }
+                *oi = x[i] + s[i] * (b[i] - ax);
+            }
+        });
+    }
+
+    fn l1_inverse_diagonal(&self) -> Vec<f64> {
+        (0..self.n_rows)
+            .into_par_iter()
+            .map(|i| {
+                let block = (i / CHUNK) * CHUNK..((i / CHUNK + 1) * CHUNK);
+                let (c, v) = self.row(i);
+                let (mut d, mut out) = (0.0, 0.0);
+                for (&j, &a) in c.iter().zip(v) {
+                    let j = j as usize;
+                    if j == i {
+                        d += a;
+                    } else if !block.contains(&j) {
+                        out += a.abs();
+                    }
+                }
+                if d > 0.0 { 1.0 / (d + out) } else { 0.0 }
+            })
+            .collect()
+    }
+
+    fn gs_sweep(&self, b: &[f64], x: &mut [f64], x_old: &mut [f64], w1: &[f64], forward: bool) {
+        hybrid_gs(
+            |i| {
+                let (c, v) = self.row(i);
+                Some((0.0, c, v))
+            },
+            b,
+            x,
+            x_old,
+            w1,
+            forward,
+        );
+    }
+}
+
+/// Builds a [`Csr`] of `n_rows` rows from a row kernel: `row(scratch, i,
+/// col, val)` appends the entries of row `i`. Rows are computed in parallel
+/// over contiguous parts, each with its own `scratch` from `init`; every
+/// row is computed by one call in a fixed order, so the result does not
+/// depend on the partition or the thread count.
+pub(crate) fn build_rows<S, I, R>(n_rows: usize, n_cols: usize, init: I, row: R) -> Csr
+where
+    I: Fn() -> S + Sync,
+    R: Fn(&mut S, usize, &mut Vec<u32>, &mut Vec<f64>) + Sync,
+{
+    let n_parts = (4 * rayon::current_num_threads()).clamp(1, n_rows.div_ceil(256).max(1));
+    let part = n_rows.div_ceil(n_parts).max(1);
+    let parts: Vec<(Vec<usize>, Vec<u32>, Vec<f64>)> = (0..n_parts)
+        .into_par_iter()
+        .map(|p| {
+            let start = (p * part).min(n_rows);
+            let end = ((p + 1) * part).min(n_rows);
+            let mut scratch = init();
+            let mut lens = Vec::with_capacity(end - start);
+            let mut col: Vec<u32> = Vec::new();
+            let mut val: Vec<f64> = Vec::new();
+            for i in start..end {
+                let before = col.len();
+                row(&mut scratch, i, &mut col, &mut val);
+                lens.push(col.len() - before);
+            }
+            (lens, col, val)
+        })
+        .collect();
+    let nnz: usize = parts.iter().map(|b| b.1.len()).sum();
+    let mut ptr = Vec::with_capacity(n_rows + 1);
+    let mut col = Vec::with_capacity(nnz);
+    let mut val = Vec::with_capacity(nnz);
+    ptr.push(0);
+    let mut last = 0;
+    for (lens, c, v) in parts {
+        for l in lens {
+            last += l;
+            ptr.push(last);
+        }
+        col.extend_from_slice(&c);
+        val.extend_from_slice(&v);
+    }
+    Csr {
+        n_rows,
+        n_cols,
+        ptr,
+        col,
+        val,
+    }
 }
 
 /// Sparse product `C = A B`. Each row of `C` lists its columns in order of
@@ -182,62 +335,31 @@ impl LinOp for Csr {
 /// `B`, so the result (and every sum in it) is independent of threading.
 pub(crate) fn spgemm(a: &Csr, b: &Csr) -> Csr {
     debug_assert_eq!(a.n_cols, b.n_rows);
-    let n_blocks = a.n_rows.div_ceil(SPGEMM_BLOCK);
-    let blocks: Vec<(Vec<usize>, Vec<u32>, Vec<f64>)> = (0..n_blocks)
-        .into_par_iter()
-        .map_init(
-            || vec![u32::MAX; b.n_cols],
-            |pos, blk| {
-                let start = blk * SPGEMM_BLOCK;
-                let end = (start + SPGEMM_BLOCK).min(a.n_rows);
-                let mut lens = Vec::with_capacity(end - start);
-                let mut col: Vec<u32> = Vec::new();
-                let mut val: Vec<f64> = Vec::new();
-                for i in start..end {
-                    let row_start = col.len();
-                    let (ac, av) = a.row(i);
-                    for (&k, &aik) in ac.iter().zip(av) {
-                        let (bc, bv) = b.row(k as usize);
-                        for (&j, &bkj) in bc.iter().zip(bv) {
-                            let p = pos[j as usize];
-                            if p == u32::MAX {
-                                pos[j as usize] = (col.len() - row_start) as u32;
-                                col.push(j);
-                                val.push(aik * bkj);
-                            } else {
-                                val[row_start + p as usize] += aik * bkj;
-                            }
-                        }
+    build_rows(
+        a.n_rows,
+        b.n_cols,
+        || vec![u32::MAX; b.n_cols],
+        |pos, i, col, val| {
+            let row_start = col.len();
+            let (ac, av) = a.row(i);
+            for (&k, &aik) in ac.iter().zip(av) {
+                let (bc, bv) = b.row(k as usize);
+                for (&j, &bkj) in bc.iter().zip(bv) {
+                    let p = pos[j as usize];
+                    if p == u32::MAX {
+                        pos[j as usize] = (col.len() - row_start) as u32;
+                        col.push(j);
+                        val.push(aik * bkj);
+                    } else {
+                        val[row_start + p as usize] += aik * bkj;
                     }
-                    for &j in &col[row_start..] {
-                        pos[j as usize] = u32::MAX;
-                    }
-                    lens.push(col.len() - row_start);
                 }
-                (lens, col, val)
-            },
-        )
-        .collect();
-    let nnz: usize = blocks.iter().map(|b| b.1.len()).sum();
-    let mut ptr = Vec::with_capacity(a.n_rows + 1);
-    let mut col = Vec::with_capacity(nnz);
-    let mut val = Vec::with_capacity(nnz);
-    ptr.push(0);
-    for (lens, c, v) in blocks {
-        for l in lens {
-            let last = *ptr.last().unwrap_or(&0);
-            ptr.push(last + l);
-        }
-        col.extend_from_slice(&c);
-        val.extend_from_slice(&v);
-    }
-    Csr {
-        n_rows: a.n_rows,
-        n_cols: b.n_cols,
-        ptr,
-        col,
-        val,
-    }
+            }
+            for &j in &col[row_start..] {
+                pos[j as usize] = u32::MAX;
+            }
+        },
+    )
 }
 
 /// The pressure matrix of the pore graph on the network's own adjacency
@@ -337,6 +459,60 @@ impl LinOp for FineOperator {
                 *ri = b[i] - s;
             }
         });
+    }
+
+    fn jacobi_step(&self, b: &[f64], x: &[f64], s: &[f64], out: &mut [f64]) {
+        out.par_chunks_mut(CHUNK).enumerate().for_each(|(c, os)| {
+            let start = c * CHUNK;
+            for (k, oi) in os.iter_mut().enumerate() {
+                let i = start + k;
+                if !self.unknown[i] {
+                    *oi = x[i];
+                    continue;
+                }
+                let mut ax = self.diag[i] * x[i];
+                for h in self.range(i) {
+                    ax += self.off[h] * x[self.nbr[h] as usize];
+                }
+                *oi = x[i] + s[i] * (b[i] - ax);
+            }
+        });
+    }
+
+    fn l1_inverse_diagonal(&self) -> Vec<f64> {
+        (0..self.diag.len())
+            .into_par_iter()
+            .map(|i| {
+                if !self.unknown[i] {
+                    return 0.0;
+                }
+                let block = (i / CHUNK) * CHUNK..((i / CHUNK + 1) * CHUNK);
+                let mut out = 0.0;
+                for h in self.range(i) {
+                    if !block.contains(&(self.nbr[h] as usize)) {
+                        out += self.off[h].abs();
+                    }
+                }
+                1.0 / (self.diag[i] + out)
+            })
+            .collect()
+    }
+
+    fn gs_sweep(&self, b: &[f64], x: &mut [f64], x_old: &mut [f64], w1: &[f64], forward: bool) {
+        hybrid_gs(
+            |i| {
+                if !self.unknown[i] {
+                    return None;
+                }
+                let r = self.range(i);
+                Some((self.diag[i], &self.nbr[r.clone()], &self.off[r]))
+            },
+            b,
+            x,
+            x_old,
+            w1,
+            forward,
+        );
     }
 }
 
