@@ -531,7 +531,11 @@ fn results_are_identical_with_one_and_two_threads() {
         let (r1, p1) = run(1, opts.clone());
         let (r2, p2) = run(2, opts);
         assert_eq!(r1.permeability_m2.to_bits(), r2.permeability_m2.to_bits());
-        assert_eq!(r1.formation_factor.to_bits(), r2.formation_factor.to_bits());
+        assert_eq!(
+            r1.formation_factor.to_bits(),
+            r2.formation_factor.to_bits(),
+            "{r1:?} {r2:?}"
+        );
         assert_eq!(r1.solver_iterations, r2.solver_iterations);
         let b1: Vec<u64> = p1.iter().map(|x| x.to_bits()).collect();
         let b2: Vec<u64> = p2.iter().map(|x| x.to_bits()).collect();

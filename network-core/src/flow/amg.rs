@@ -641,8 +641,14 @@ fn classical_prolongator(a: &Csr, d: &[f64], theta: f64) -> Csr {
             if m <= 0.0 {
                 return;
             }
+            // Only this row's entries count for the duplicate check (the
+            // buffer holds the earlier rows of the part too).
+            let row_start = col.len();
             for (&j, &x) in c.iter().zip(v) {
-                if j as usize != i && d[j as usize] > 0.0 && -x >= theta * m && !col.ends_with(&[j])
+                if j as usize != i
+                    && d[j as usize] > 0.0
+                    && -x >= theta * m
+                    && !col[row_start..].contains(&j)
                 {
                     col.push(j);
                 }
