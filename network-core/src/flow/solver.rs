@@ -16,8 +16,9 @@
 //! It is solved by preconditioned conjugate gradients (Hestenes & Stiefel
 //! 1952, J. Res. Natl. Bur. Stand. 49:409–436) to a relative residual
 //! `‖b − A x‖₂/‖b‖₂` of [`SolveOptions::tolerance`], checked on the true
-//! residual. Preconditioners: Jacobi (diagonal) or aggregation algebraic
-//! multigrid (see [`AmgOptions`]).
+//! residual. Preconditioners: Jacobi (diagonal) or one algebraic-multigrid
+//! V-cycle (see [`AmgOptions`]; classical Ruge–Stüben by default, smoothed
+//! or plain aggregation on request).
 //!
 //! [`PressureSystem`] copies the network adjacency once; each
 //! [`PressureSystem::solve`] only writes values and the mask of unknowns. The
@@ -41,7 +42,7 @@ pub enum Preconditioner {
     /// Diagonal (Jacobi) scaling: cheapest per iteration, many iterations on
     /// large heterogeneous networks.
     Jacobi,
-    /// One aggregation-multigrid V-cycle per iteration (the default).
+    /// One algebraic-multigrid V-cycle per iteration (the default).
     Amg(AmgOptions),
 }
 
@@ -59,7 +60,8 @@ pub struct SolveOptions {
     pub tolerance: f64,
     /// Iteration limit of conjugate gradients (default 20 000).
     pub max_iterations: usize,
-    /// Preconditioner (default: smoothed-aggregation multigrid).
+    /// Preconditioner (default: classical algebraic multigrid with Jacobi
+    /// smoothing, the fastest measured; see the solver benchmark).
     pub preconditioner: Preconditioner,
     /// Keep the multigrid hierarchy between solves with the same set of
     /// unknowns (default `true`). A kept hierarchy is still a valid SPD
