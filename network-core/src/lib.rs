@@ -17,6 +17,8 @@
 //!   corner-film conductance) as pure functions.
 //! - [`io`]: the CSV network folder and the binary `.gnet` file (the only
 //!   module that touches the file system).
+//! - [`flow`]: conductances, the pressure solve, permeability and formation
+//!   factor.
 //! - [`progress`]: the callback through which long calls report progress.
 //! - [`generate`]: seeded statistical lattice networks ([`generate::generate`]).
 //! - [`fit`]: Corey, Brooks–Corey, LET, Land and Archie models and their
@@ -71,6 +73,7 @@ pub mod capillary;
 pub mod connectivity;
 pub mod engine;
 pub mod fit;
+pub mod flow;
 pub mod generate;
 pub mod geometry;
 pub mod indices;

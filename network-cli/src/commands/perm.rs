@@ -4,6 +4,7 @@ use std::path::PathBuf;
 
 use anyhow::{Context, Result};
 use network_core::Axis;
+use network_core::flow::solver::SolveOptions;
 use network_core::flow::{PermOptions, permeability};
 
 use crate::progress::Bars;
@@ -42,14 +43,35 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         anyhow::bail!("--tolerance {}: must lie in (0, 1)", args.tolerance);
     }
     let opts = PermOptions {
-        tolerance: args.tolerance,
+        solve: SolveOptions {
+            tolerance: args.tolerance,
+            ..SolveOptions::default()
+        },
         ..PermOptions::default()
     };
     let r = permeability(net, axis, &opts).context("single-phase solve failed")?;
     if args.json {
         println!("{}", serde_json::to_string_pretty(&r)?);
-    } else {
-        println!("{r}");
+        return Ok(());
     }
+    println!("axis               {}", r.axis.as_str());
+    println!(
+        "permeability       {:.6e} m2  ({:.4} mD)",
+        r.permeability_m2, r.permeability_md
+    );
+    println!("porosity           {:.4}", r.porosity);
+    println!("formation factor   {:.4}", r.formation_factor);
+    println!(
+        "flow in / out      {:.6e} / {:.6e} m3/s (imbalance {:.2e})",
+        r.inflow_m3_per_s, r.outflow_m3_per_s, r.flow_imbalance
+    );
+    println!(
+        "solver             {} iterations, residual {:.2e}, {} levels; electrical {} iterations",
+        r.solver_iterations, r.solver_residual, r.solver_levels, r.electrical_iterations
+    );
+    println!(
+        "pores              {} flowing, {} excluded (not on a spanning cluster)",
+        r.n_flowing_pores, r.n_excluded_pores
+    );
     Ok(())
 }

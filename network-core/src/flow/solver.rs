@@ -1,0 +1,745 @@
+//! The pressure (or potential) solve of the pore graph.
+//!
+//! Kirchhoff's law at every unknown pore `i`,
+//!
+//! $$\sum_j g_{ij}\,(p_i - p_j) = 0,$$
+//!
+//! with conduit conductances `gᵢⱼ` (m³/(Pa·s) for flow, S for current) and
+//! fixed (Dirichlet) pressures `p_in` on the active inlet pores and `p_out`
+//! on the active outlet pores, is a symmetric positive definite system (a
+//! weighted graph Laplacian with Dirichlet rows removed) on the pores of the
+//! *flowing set*: the active pores whose cluster, joined by conduits of
+//! positive conductance, holds both an inlet and an outlet pore. The other
+//! active pores (dead clusters touching one face or none) and the inactive
+//! pores are excluded and counted.
+//!
+//! It is solved by preconditioned conjugate gradients (Hestenes & Stiefel
+//! 1952, J. Res. Natl. Bur. Stand. 49:409–436) to a relative residual
+//! `‖b − A x‖₂/‖b‖₂` of [`SolveOptions::tolerance`], checked on the true
+//! residual. Preconditioners: Jacobi (diagonal) or one algebraic-multigrid
+//! V-cycle (see [`AmgOptions`]; classical Ruge–Stüben by default, smoothed
+//! or plain aggregation on request).
+//!
+//! [`PressureSystem`] copies the network adjacency once; each
+//! [`PressureSystem::solve`] only writes values and the mask of unknowns. The
+//! multigrid hierarchy is kept between solves while the set of unknowns stays
+//! the same (only the finest level takes the new values), and rebuilt when it
+//! changes or when a solve shows the kept hierarchy has become poor.
+
+use rayon::prelude::*;
+use thiserror::Error;
+
+use super::amg::Amg;
+pub use super::amg::{AmgOptions, Method, Smoother};
+use super::sparse::{FineOperator, LinOp, dot};
+use crate::Network;
+use crate::numeric::{CHUNK, par_sum};
+
+/// The preconditioner of conjugate gradients.
+#[non_exhaustive]
+#[derive(Clone, Debug, PartialEq)]
+pub enum Preconditioner {
+    /// Diagonal (Jacobi) scaling: cheapest per iteration, many iterations on
+    /// large heterogeneous networks.
+    Jacobi,
+    /// One algebraic-multigrid V-cycle per iteration (the default).
+    Amg(AmgOptions),
+}
+
+impl Default for Preconditioner {
+    fn default() -> Self {
+        Preconditioner::Amg(AmgOptions::default())
+    }
+}
+
+/// Options of a pressure solve.
+#[derive(Clone, Debug, PartialEq)]
+pub struct SolveOptions {
+    /// Target relative residual `‖b − A x‖₂/‖b‖₂` (default `1e-10`; must
+    /// be positive).
+    pub tolerance: f64,
+    /// Iteration limit of conjugate gradients (default 20 000).
+    pub max_iterations: usize,
+    /// Preconditioner (default: classical algebraic multigrid with Jacobi
+    /// smoothing, the fastest measured; see the solver benchmark).
+    pub preconditioner: Preconditioner,
+    /// Keep the multigrid hierarchy between solves with the same set of
+    /// unknowns (default `true`). A kept hierarchy is still a valid SPD
+    /// preconditioner, only a less exact one; it is rebuilt when a solve
+    /// needs more than 1.5× the iterations per decade of residual reduction
+    /// of the solve that built it.
+    pub reuse_hierarchy: bool,
+}
+
+impl Default for SolveOptions {
+    fn default() -> Self {
+        SolveOptions {
+            tolerance: 1e-10,
+            max_iterations: 20_000,
+            preconditioner: Preconditioner::default(),
+            reuse_hierarchy: true,
+        }
+    }
+}
+
+/// The result of a pressure solve.
+#[derive(Clone, Debug, PartialEq)]
+pub struct FlowSolution {
+    /// Pressure of every pore (Pa, or V for the electrical analogue);
+    /// `NaN` for excluded pores, where it is undefined.
+    pub pressure: Vec<f64>,
+    /// Whether each pore belongs to the flowing set (unknowns and the fixed
+    /// face pores of spanning clusters).
+    pub flowing: Vec<bool>,
+    /// Total flow out of the inlet pores into the rest, `Σ g (p_in − pⱼ)`
+    /// (m³/s, or A).
+    pub inflow: f64,
+    /// Total flow into the outlet pores from the rest (m³/s, or A).
+    pub outflow: f64,
+    /// `|inflow − outflow| / max(|inflow|, |outflow|)` (0 when both are 0).
+    pub imbalance: f64,
+    /// Conjugate-gradient iterations.
+    pub iterations: usize,
+    /// Final true relative residual `‖b − A x‖₂/‖b‖₂`.
+    pub relative_residual: f64,
+    /// Number of unknown pores.
+    pub n_unknowns: usize,
+    /// Number of pores outside the flowing set (inactive or in clusters
+    /// that do not connect inlet and outlet).
+    pub n_excluded: usize,
+    /// Whether this solve (re)built the multigrid hierarchy.
+    pub preconditioner_built: bool,
+    /// Levels of the multigrid hierarchy used (0 for Jacobi).
+    pub amg_levels: usize,
+    /// Stored entries of all multigrid levels over those of the finest
+    /// (0 for Jacobi).
+    pub operator_complexity: f64,
+}
+
+impl FlowSolution {
+    /// Flow through each throat from pore a to pore b, `g (p_a − p_b)`
+    /// (m³/s, or A); 0 for throats not inside the flowing set.
+    pub fn throat_flows(&self, network: &Network, conduit_g: &[f64]) -> Vec<f64> {
+        let ends = &network.throats().pores;
+        ends.par_iter()
+            .enumerate()
+            .map(|(t, &[a, b])| {
+                let (a, b) = (a as usize, b as usize);
+                match conduit_g.get(t) {
+                    Some(&g) if self.flowing[a] && self.flowing[b] && g > 0.0 => {
+                        g * (self.pressure[a] - self.pressure[b])
+                    }
+                    _ => 0.0,
+                }
+            })
+            .collect()
+    }
+}
+
+/// Why a pressure solve failed.
+#[non_exhaustive]
+#[derive(Clone, Debug, PartialEq, Error)]
+pub enum SolveError {
+    /// No cluster of active pores joined by conducting conduits holds both
+    /// an inlet and an outlet pore.
+    #[error(
+        "no conducting cluster of active pores connects inlet and outlet \
+         ({n_active} active pores, {n_inlet} of them inlet, {n_outlet} outlet)"
+    )]
+    NoSpanningCluster {
+        /// Active pores.
+        n_active: usize,
+        /// Active inlet pores.
+        n_inlet: usize,
+        /// Active outlet pores.
+        n_outlet: usize,
+    },
+    /// Conjugate gradients stopped before reaching the tolerance.
+    #[error(
+        "conjugate gradients did not converge: relative residual {residual:e} \
+         after {iterations} iterations"
+    )]
+    NoConvergence {
+        /// Iterations done.
+        iterations: usize,
+        /// Relative residual reached.
+        residual: f64,
+    },
+    /// An input or an intermediate value is NaN or infinite.
+    #[error("non-finite {what} at index {index}: {value}")]
+    NonFinite {
+        /// What was not finite (`conductance`, `inlet pressure`, `residual`, …).
+        what: &'static str,
+        /// Throat, pore or iteration index.
+        index: usize,
+        /// The value.
+        value: f64,
+    },
+    /// A conduit conductance is negative.
+    #[error("negative conductance {value:e} of throat {throat}")]
+    NegativeConductance {
+        /// Throat index.
+        throat: usize,
+        /// The value.
+        value: f64,
+    },
+    /// An input slice has the wrong length.
+    #[error("{what} has {found} entries, expected {expected}")]
+    LengthMismatch {
+        /// Which input.
+        what: &'static str,
+        /// Expected length.
+        expected: usize,
+        /// Length given.
+        found: usize,
+    },
+    /// An active pore is both an inlet and an outlet pore.
+    #[error("active pore {pore} is in both the inlet and the outlet mask")]
+    FaceOverlap {
+        /// Pore index.
+        pore: usize,
+    },
+}
+
+/// Reusable pressure system of one network: the adjacency pattern, the
+/// matrix values, work vectors and the multigrid hierarchy.
+#[derive(Debug)]
+pub struct PressureSystem {
+    n_throats: usize,
+    op: FineOperator,
+    rhs: Vec<f64>,
+    x: Vec<f64>,
+    r: Vec<f64>,
+    z: Vec<f64>,
+    p: Vec<f64>,
+    q: Vec<f64>,
+    inv_diag: Vec<f64>,
+    label: Vec<u32>,
+    amg: Option<KeptAmg>,
+    use_amg: bool,
+}
+
+#[derive(Debug)]
+struct KeptAmg {
+    amg: Amg,
+    opts: AmgOptions,
+    unknown: Vec<bool>,
+    /// Iterations per decade of residual reduction of the building solve.
+    build_rate: f64,
+    stale: bool,
+}
+
+const NO_LABEL: u32 = u32::MAX;
+
+impl PressureSystem {
+    /// Copies the adjacency pattern of `network` and allocates the work
+    /// vectors.
+    pub fn new(network: &Network) -> PressureSystem {
+        let n = network.n_pores();
+        let adj = network.adjacency();
+        let mut nbr = Vec::with_capacity(2 * network.n_throats());
+        let mut thr = Vec::with_capacity(2 * network.n_throats());
+        for i in 0..n {
+            nbr.extend_from_slice(adj.neighbours_of(i));
+            thr.extend_from_slice(adj.throats_of(i));
+        }
+        let n_half = nbr.len();
+        PressureSystem {
+            n_throats: network.n_throats(),
+            op: FineOperator {
+                offsets: adj.offsets().to_vec(),
+                nbr,
+                thr,
+                diag: vec![1.0; n],
+                off: vec![0.0; n_half],
+                unknown: vec![false; n],
+            },
+            rhs: vec![0.0; n],
+            x: vec![0.0; n],
+            r: vec![0.0; n],
+            z: vec![0.0; n],
+            p: vec![0.0; n],
+            q: vec![0.0; n],
+            inv_diag: vec![0.0; n],
+            label: vec![NO_LABEL; n],
+            amg: None,
+            use_amg: false,
+        }
+    }
+
+    /// Number of pores.
+    pub fn n_pores(&self) -> usize {
+        self.op.diag.len()
+    }
+
+    /// Bytes held by the system (pattern, values, vectors, hierarchy).
+    pub fn heap_bytes(&self) -> usize {
+        let o = &self.op;
+        4 * (o.offsets.capacity() + o.nbr.capacity() + o.thr.capacity() + self.label.capacity())
+            + 8 * (o.diag.capacity() + o.off.capacity())
+            + o.unknown.capacity()
+            + 8 * 8 * self.rhs.capacity()
+            + self.amg.as_ref().map_or(0, |k| k.amg.heap_bytes())
+    }
+
+    /// Solves for the pressures with conduit conductances `conduit_g` (one
+    /// per throat, `≥ 0`; 0 means no conduit), the `active` pore mask, the
+    /// `inlet` and `outlet` face masks held at `p_in` and `p_out`.
+    ///
+    /// `warm_start` (one value per pore, e.g. the previous
+    /// [`FlowSolution::pressure`]) is the initial guess of the unknowns;
+    /// non-finite entries (excluded pores of an earlier solve) start at
+    /// `(p_in + p_out)/2`. Without it CG starts from zero.
+    ///
+    /// Errors: [`SolveError::LengthMismatch`], [`SolveError::NonFinite`],
+    /// [`SolveError::NegativeConductance`], [`SolveError::FaceOverlap`],
+    /// [`SolveError::NoSpanningCluster`], [`SolveError::NoConvergence`].
+    #[allow(clippy::too_many_arguments)]
+    pub fn solve(
+        &mut self,
+        conduit_g: &[f64],
+        active: &[bool],
+        inlet: &[bool],
+        outlet: &[bool],
+        p_in: f64,
+        p_out: f64,
+        warm_start: Option<&[f64]>,
+        opts: &SolveOptions,
+    ) -> Result<FlowSolution, SolveError> {
+        let n = self.n_pores();
+        check_len("conduit_g", conduit_g.len(), self.n_throats)?;
+        check_len("active", active.len(), n)?;
+        check_len("inlet", inlet.len(), n)?;
+        check_len("outlet", outlet.len(), n)?;
+        if let Some(w) = warm_start {
+            check_len("warm_start", w.len(), n)?;
+        }
+        for (what, v) in [("inlet pressure", p_in), ("outlet pressure", p_out)] {
+            if !v.is_finite() {
+                return Err(SolveError::NonFinite {
+                    what,
+                    index: 0,
+                    value: v,
+                });
+            }
+        }
+        if !(opts.tolerance > 0.0 && opts.tolerance.is_finite()) {
+            return Err(SolveError::NonFinite {
+                what: "tolerance",
+                index: 0,
+                value: opts.tolerance,
+            });
+        }
+        if let Some(t) = conduit_g.par_iter().position_first(|g| !g.is_finite()) {
+            return Err(SolveError::NonFinite {
+                what: "conductance",
+                index: t,
+                value: conduit_g[t],
+            });
+        }
+        if let Some(t) = conduit_g.par_iter().position_first(|&g| g < 0.0) {
+            return Err(SolveError::NegativeConductance {
+                throat: t,
+                value: conduit_g[t],
+            });
+        }
+        if let Some(i) = (0..n).find(|&i| active[i] && inlet[i] && outlet[i]) {
+            return Err(SolveError::FaceOverlap { pore: i });
+        }
+        let flowing = self.flowing_set(conduit_g, active, inlet, outlet)?;
+        let n_flowing = flowing.iter().filter(|&&f| f).count();
+        let fixed = |i: usize| -> Option<f64> {
+            if inlet[i] {
+                Some(p_in)
+            } else if outlet[i] {
+                Some(p_out)
+            } else {
+                None
+            }
+        };
+        // Unknowns, values and right-hand side.
+        self.op
+            .unknown
+            .par_iter_mut()
+            .enumerate()
+            .for_each(|(i, u)| *u = flowing[i] && !inlet[i] && !outlet[i]);
+        self.assemble(conduit_g, &flowing, &fixed);
+        let n_unknowns = self.op.unknown.iter().filter(|&&u| u).count();
+
+        // Preconditioner.
+        let mut built = false;
+        let (mut levels, mut complexity) = (0, 0.0);
+        self.use_amg = matches!(opts.preconditioner, Preconditioner::Amg(_));
+        match &opts.preconditioner {
+            Preconditioner::Jacobi => {
+                let d = &self.op.diag;
+                let u = &self.op.unknown;
+                self.inv_diag
+                    .par_iter_mut()
+                    .enumerate()
+                    .for_each(|(i, v)| *v = if u[i] { 1.0 / d[i] } else { 0.0 });
+            }
+            Preconditioner::Amg(a_opts) => {
+                let keep = opts.reuse_hierarchy
+                    && self.amg.as_ref().is_some_and(|k| {
+                        !k.stale && k.opts == *a_opts && k.unknown == self.op.unknown
+                    });
+                if keep {
+                    if let Some(k) = self.amg.as_mut() {
+                        k.amg.refresh_fine(&self.op);
+                    }
+                } else {
+                    self.amg = None;
+                    let amg = Amg::build(&self.op, a_opts);
+                    self.amg = Some(KeptAmg {
+                        amg,
+                        opts: a_opts.clone(),
+                        unknown: self.op.unknown.clone(),
+                        build_rate: 0.0,
+                        stale: false,
+                    });
+                    built = true;
+                }
+                if let Some(k) = &self.amg {
+                    levels = k.amg.n_levels();
+                    complexity = k.amg.operator_complexity();
+                }
+            }
+        }
+
+        // Initial guess.
+        let mid = 0.5 * (p_in + p_out);
+        {
+            let u = &self.op.unknown;
+            self.x.par_iter_mut().enumerate().for_each(|(i, x)| {
+                *x = if !u[i] {
+                    0.0
+                } else {
+                    match warm_start {
+                        Some(w) if w[i].is_finite() => w[i],
+                        Some(_) => mid,
+                        None => 0.0,
+                    }
+                }
+            });
+        }
+
+        let (iterations, residual, rate) = self.pcg(opts)?;
+        if let Some(k) = self.amg.as_mut()
+            && matches!(opts.preconditioner, Preconditioner::Amg(_))
+        {
+            if built {
+                k.build_rate = rate;
+            } else if rate > 1.5 * k.build_rate && k.build_rate > 0.0 {
+                k.stale = true;
+            }
+        }
+
+        // Pressures and face flows.
+        let pressure: Vec<f64> = (0..n)
+            .into_par_iter()
+            .map(|i| {
+                if !flowing[i] {
+                    f64::NAN
+                } else if let Some(v) = fixed(i) {
+                    v
+                } else {
+                    self.x[i]
+                }
+            })
+            .collect();
+        let op = &self.op;
+        let face_flow = |mask: &[bool], sign: f64| {
+            par_sum(n, |i| {
+                if !(flowing[i] && mask[i]) {
+                    return 0.0;
+                }
+                let mut s = 0.0;
+                for h in op.range(i) {
+                    let j = op.nbr[h] as usize;
+                    if flowing[j] {
+                        s += conduit_g[op.thr[h] as usize] * (pressure[i] - pressure[j]);
+                    }
+                }
+                sign * s
+            })
+        };
+        let inflow = face_flow(inlet, 1.0);
+        let outflow = face_flow(outlet, -1.0);
+        let scale = inflow.abs().max(outflow.abs());
+        let imbalance = if scale > 0.0 {
+            (inflow - outflow).abs() / scale
+        } else {
+            0.0
+        };
+        Ok(FlowSolution {
+            pressure,
+            flowing,
+            inflow,
+            outflow,
+            imbalance,
+            iterations,
+            relative_residual: residual,
+            n_unknowns,
+            n_excluded: n - n_flowing,
+            preconditioner_built: built,
+            amg_levels: levels,
+            operator_complexity: complexity,
+        })
+    }
+
+    /// Labels the clusters of active pores joined by conduits of positive
+    /// conductance and returns the mask of those holding an inlet and an
+    /// outlet pore.
+    fn flowing_set(
+        &mut self,
+        conduit_g: &[f64],
+        active: &[bool],
+        inlet: &[bool],
+        outlet: &[bool],
+    ) -> Result<Vec<bool>, SolveError> {
+        let n = self.n_pores();
+        let op = &self.op;
+        let label = &mut self.label;
+        label.iter_mut().for_each(|l| *l = NO_LABEL);
+        let mut spans: Vec<bool> = Vec::new();
+        let mut stack: Vec<u32> = Vec::new();
+        for start in 0..n {
+            if !active[start] || label[start] != NO_LABEL {
+                continue;
+            }
+            let c = spans.len() as u32;
+            let (mut tin, mut tout) = (false, false);
+            label[start] = c;
+            stack.push(start as u32);
+            while let Some(i) = stack.pop() {
+                let i = i as usize;
+                tin |= inlet[i];
+                tout |= outlet[i];
+                for h in op.range(i) {
+                    let j = op.nbr[h] as usize;
+                    if active[j] && label[j] == NO_LABEL && conduit_g[op.thr[h] as usize] > 0.0 {
+                        label[j] = c;
+                        stack.push(j as u32);
+                    }
+                }
+            }
+            spans.push(tin && tout);
+        }
+        if !spans.iter().any(|&s| s) {
+            let count = |m: &[bool]| (0..n).filter(|&i| active[i] && m[i]).count();
+            return Err(SolveError::NoSpanningCluster {
+                n_active: active.iter().filter(|&&a| a).count(),
+                n_inlet: count(inlet),
+                n_outlet: count(outlet),
+            });
+        }
+        Ok(label
+            .par_iter()
+            .map(|&l| l != NO_LABEL && spans[l as usize])
+            .collect())
+    }
+
+    /// Writes the diagonal, off-diagonal values and right-hand side.
+    fn assemble(
+        &mut self,
+        conduit_g: &[f64],
+        flowing: &[bool],
+        fixed: &(dyn Fn(usize) -> Option<f64> + Sync),
+    ) {
+        let n = self.n_pores();
+        let op = &mut self.op;
+        let offsets = &op.offsets;
+        let nbr = &op.nbr;
+        let thr = &op.thr;
+        let unknown = &op.unknown;
+        // Split the half-edge values into the ranges of fixed pore chunks.
+        let n_chunks = n.div_ceil(CHUNK);
+        let mut off_chunks: Vec<&mut [f64]> = Vec::with_capacity(n_chunks);
+        let mut rest: &mut [f64] = &mut op.off;
+        for c in 0..n_chunks {
+            let lo = offsets[c * CHUNK] as usize;
+            let hi = offsets[((c + 1) * CHUNK).min(n)] as usize;
+            let (head, tail) = rest.split_at_mut(hi - lo);
+            off_chunks.push(head);
+            rest = tail;
+        }
+        op.diag
+            .par_chunks_mut(CHUNK)
+            .zip(self.rhs.par_chunks_mut(CHUNK))
+            .zip(off_chunks.into_par_iter())
+            .enumerate()
+            .for_each(|(c, ((diag, rhs), off))| {
+                let base_i = c * CHUNK;
+                let base_h = offsets[base_i] as usize;
+                for (k, (d, b)) in diag.iter_mut().zip(rhs.iter_mut()).enumerate() {
+                    let i = base_i + k;
+                    let range = offsets[i] as usize..offsets[i + 1] as usize;
+                    if !unknown[i] {
+                        *d = 1.0;
+                        *b = 0.0;
+                        for h in range {
+                            off[h - base_h] = 0.0;
+                        }
+                        continue;
+                    }
+                    let (mut sd, mut sb) = (0.0, 0.0);
+                    for h in range {
+                        let j = nbr[h] as usize;
+                        let g = conduit_g[thr[h] as usize];
+                        let mut o = 0.0;
+                        if flowing[j] && g > 0.0 {
+                            sd += g;
+                            if unknown[j] {
+                                o = -g;
+                            } else if let Some(pj) = fixed(j) {
+                                sb += g * pj;
+                            }
+                        }
+                        off[h - base_h] = o;
+                    }
+                    *d = sd;
+                    *b = sb;
+                }
+            });
+    }
+
+    /// Preconditioned conjugate gradients from `self.x`; returns the
+    /// iterations, the final true relative residual and the iterations per
+    /// decade of residual reduction.
+    fn pcg(&mut self, opts: &SolveOptions) -> Result<(usize, f64, f64), SolveError> {
+        let b_norm = dot(&self.rhs, &self.rhs).sqrt();
+        if b_norm == 0.0 {
+            // A x = 0 with A SPD: the solution is zero.
+            self.x.iter_mut().for_each(|v| *v = 0.0);
+            return Ok((0, 0.0, 0.0));
+        }
+        self.op.residual(&self.rhs, &self.x, &mut self.r);
+        let mut r_norm = dot(&self.r, &self.r).sqrt();
+        let r0 = r_norm;
+        let mut iterations = 0usize;
+        let mut restarts = 0usize;
+        loop {
+            check_finite("residual", iterations, r_norm)?;
+            if r_norm <= opts.tolerance * b_norm {
+                break;
+            }
+            self.precondition();
+            self.p.copy_from_slice(&self.z);
+            let mut rz = dot(&self.r, &self.z);
+            loop {
+                if iterations >= opts.max_iterations {
+                    return Err(SolveError::NoConvergence {
+                        iterations,
+                        residual: r_norm / b_norm,
+                    });
+                }
+                self.op.apply(&self.p, &mut self.q);
+                let pq = dot(&self.p, &self.q);
+                check_finite("curvature pᵀAp", iterations, pq)?;
+                if pq <= 0.0 {
+                    break;
+                }
+                let alpha = rz / pq;
+                r_norm = update_xr(alpha, &self.p, &self.q, &mut self.x, &mut self.r).sqrt();
+                iterations += 1;
+                check_finite("residual", iterations, r_norm)?;
+                if r_norm <= opts.tolerance * b_norm {
+                    break;
+                }
+                self.precondition();
+                let rz_new = dot(&self.r, &self.z);
+                let beta = rz_new / rz;
+                rz = rz_new;
+                update_p(beta, &self.z, &mut self.p);
+            }
+            // Confirm on the true residual.
+            self.op.residual(&self.rhs, &self.x, &mut self.r);
+            r_norm = dot(&self.r, &self.r).sqrt();
+            if r_norm <= opts.tolerance * b_norm {
+                break;
+            }
+            restarts += 1;
+            if restarts > 8 {
+                return Err(SolveError::NoConvergence {
+                    iterations,
+                    residual: r_norm / b_norm,
+                });
+            }
+        }
+        let decades = (r0 / r_norm.max(f64::MIN_POSITIVE)).log10();
+        let rate = if decades > 0.0 {
+            iterations as f64 / decades
+        } else {
+            0.0
+        };
+        Ok((iterations, r_norm / b_norm, rate))
+    }
+
+    /// `z = M⁻¹ r`.
+    fn precondition(&mut self) {
+        match self.amg.as_mut() {
+            Some(k) if self.use_amg => {
+                k.amg.apply(&self.op, &self.r, &mut self.z);
+            }
+            _ => {
+                let d = &self.inv_diag;
+                let r = &self.r;
+                self.z
+                    .par_iter_mut()
+                    .enumerate()
+                    .for_each(|(i, z)| *z = d[i] * r[i]);
+            }
+        }
+    }
+}
+
+fn check_len(what: &'static str, found: usize, expected: usize) -> Result<(), SolveError> {
+    if found == expected {
+        Ok(())
+    } else {
+        Err(SolveError::LengthMismatch {
+            what,
+            expected,
+            found,
+        })
+    }
+}
+
+fn check_finite(what: &'static str, index: usize, value: f64) -> Result<(), SolveError> {
+    if value.is_finite() {
+        Ok(())
+    } else {
+        Err(SolveError::NonFinite { what, index, value })
+    }
+}
+
+/// `x += α p`, `r −= α q`; returns `‖r‖²` (fixed grouping).
+fn update_xr(alpha: f64, p: &[f64], q: &[f64], x: &mut [f64], r: &mut [f64]) -> f64 {
+    let partial: Vec<f64> = x
+        .par_chunks_mut(CHUNK)
+        .zip(r.par_chunks_mut(CHUNK))
+        .zip(p.par_chunks(CHUNK).zip(q.par_chunks(CHUNK)))
+        .map(|((xs, rs), (ps, qs))| {
+            let mut s = 0.0;
+            for k in 0..xs.len() {
+                xs[k] += alpha * ps[k];
+                rs[k] -= alpha * qs[k];
+                s += rs[k] * rs[k];
+            }
+            s
+        })
+        .collect();
+    partial.iter().sum()
+}
+
+/// `p = z + β p`.
+fn update_p(beta: f64, z: &[f64], p: &mut [f64]) {
+    p.par_chunks_mut(CHUNK)
+        .zip(z.par_chunks(CHUNK))
+        .for_each(|(ps, zs)| {
+            for (pi, zi) in ps.iter_mut().zip(zs) {
+                *pi = zi + beta * *pi;
+            }
+        });
+}
