@@ -147,21 +147,47 @@ pub fn reversed_corner_area(
     beta: f64,
     sigma: f64,
 ) -> f64 {
-    let Some(m) = hinged_corner(pc_min, pc_max, theta_r, theta_a, beta, sigma) else {
-        return 0.0;
+    reversed_corner(pc, pc_min, pc_max, theta_r, theta_a, beta, sigma).map_or(0.0, |m| m.area(beta))
+}
+
+/// The corner meniscus of [`reversed_corner_area`]: `None` when no arc
+/// existed at `pc_min`.
+#[inline]
+pub fn reversed_corner(
+    pc: f64,
+    pc_min: f64,
+    pc_max: f64,
+    theta_r: f64,
+    theta_a: f64,
+    beta: f64,
+    sigma: f64,
+) -> Option<CornerMeniscus> {
+    let m = hinged_corner(pc_min, pc_max, theta_r, theta_a, beta, sigma)?;
+    let receding = |pc: f64| {
+        let r = sigma / pc;
+        CornerMeniscus {
+            r,
+            theta_h: theta_r,
+            b: r * (theta_r + beta).cos() / beta.sin(),
+            advancing: false,
+        }
     };
     if pc_min >= pc_max {
         // No reversal: still the receding drainage meniscus.
-        return corner_area(sigma / pc, theta_r, beta);
+        return Some(receding(pc));
     }
-    let sb = beta.sin();
-    let c = pc * m.b * sb / sigma;
+    let c = pc * m.b * beta.sin() / sigma;
     if c > (theta_r + beta).cos() {
         // Hinged back to θr: the meniscus recedes.
-        return corner_area(sigma / pc, theta_r, beta);
+        return Some(receding(pc));
     }
     let theta_h = c.clamp(-1.0, 1.0).acos() - beta;
-    corner_area_b(m.b, theta_h, beta)
+    Some(CornerMeniscus {
+        r: sigma / pc,
+        theta_h,
+        b: m.b,
+        advancing: false,
+    })
 }
 
 /// State of one corner meniscus in imbibition.

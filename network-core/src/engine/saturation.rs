@@ -7,10 +7,7 @@
 //! Water in element `e` = clay volume + resolved volume × water area
 //! fraction of the cross-section (prism model: the fraction of area is the
 //! fraction of volume). For an oil-filled element the water area is its
-//! corner water: at a capillary pressure at or above the element's highest
-//! drainage pressure the receding menisci of [`capillary::drainage_corner_water_area`];
-//! below it the hinging menisci pinned by drainage of
-//! [`capillary::imbibition_corner_water_area`]. Trapped phases keep the
+//! corner water ([`Engine::corner_menisci`]). Trapped phases keep the
 //! capillary pressure at which they were trapped. For a water-filled element
 //! with oil layers the oil area is that of the layers.
 
@@ -62,55 +59,76 @@ impl Sums {
 }
 
 impl Engine<'_> {
+    /// Capillary pressures that set the menisci of element `e`: the
+    /// pressure they see (frozen where trapped), the highest drainage
+    /// pressure and the lowest imbibition pressure behind them.
+    fn meniscus_pressures(&self, e: usize) -> (f64, f64, f64) {
+        let s = &self.dyn_.state;
+        let frozen = s.frozen_pc[e].is_finite();
+        let mut pc = if frozen { s.frozen_pc[e] } else { s.pc };
+        let mut pc_max = s.pc_max[e];
+        let pc_min = s.pc_min[e];
+        if s.oil[e] && self.mode == Mode::Drainage && !frozen && self.dyn_.connected[e] {
+            // Still receding with the invading phase; menisci that an
+            // imbibition left at `pc_min` do not re-advance in drainage.
+            if pc_min.is_finite() {
+                pc = pc.max(pc_min);
+            }
+            pc_max = pc_max.max(pc);
+        }
+        (pc, pc_max, pc_min)
+    }
+
+    /// The corner menisci of an oil-filled element (`None` for corners
+    /// without water). Receding drainage menisci at or above the highest
+    /// drainage pressure; hinging menisci pinned by drainage below it
+    /// ([`capillary::hinged_corner`]); after an imbibition, menisci hinging
+    /// back from where it left them ([`capillary::reversed_corner`]).
+    pub fn corner_menisci(&self, e: usize) -> [Option<capillary::CornerMeniscus>; 4] {
+        let mut out = [None; 4];
+        let s = &self.dyn_.state;
+        if !s.oil[e] || self.wet[e] == 0 {
+            return out;
+        }
+        let (pc, pc_max, pc_min) = self.meniscus_pressures(e);
+        if pc_max <= 0.0 {
+            // Filled at a negative pressure with no pinned corner water.
+            return out;
+        }
+        let sigma = self.setup.sigma;
+        let theta_r = self.angles.pinned_receding[e];
+        let theta_a = self.angles.advancing[e];
+        let reversed = pc_min.is_finite() && pc >= pc_min && pc < pc_max;
+        for (i, &beta) in self.section(e).corners.iter().enumerate() {
+            if self.wet[e] & (1 << i) == 0 {
+                continue;
+            }
+            out[i] = if reversed {
+                capillary::reversed_corner(pc, pc_min, pc_max, theta_r, theta_a, beta, sigma)
+            } else {
+                capillary::hinged_corner(pc, pc_max, theta_r, theta_a, beta, sigma)
+            };
+        }
+        out
+    }
+
     /// Water area of element `e` at the current state, m² (capped at the
     /// cross-section), and the oil-layer area.
     pub fn element_areas(&self, e: usize) -> (f64, f64) {
         let s = &self.dyn_.state;
         let sec = self.section(e);
         let area = crate::geometry::area(sec.radius, sec.shape_factor);
-        let sigma = self.setup.sigma;
-        let mut pc = if s.frozen_pc[e].is_finite() {
-            s.frozen_pc[e]
-        } else {
-            s.pc
-        };
-        let theta_pin = self.angles.pinned_receding[e];
-        let mut pc_max = s.pc_max[e];
-        let pc_min = s.pc_min[e];
         if s.oil[e] {
-            if self.wet[e] == 0 {
-                return (0.0, 0.0);
-            }
-            if self.mode == Mode::Drainage && !s.frozen_pc[e].is_finite() && self.dyn_.connected[e]
-            {
-                // Still receding with the invading phase; menisci that an
-                // imbibition left at `pc_min` do not re-advance in drainage.
-                if pc_min.is_finite() {
-                    pc = pc.max(pc_min);
+            let mut a = 0.0;
+            for (i, m) in self.corner_menisci(e).iter().enumerate() {
+                if let Some(m) = m {
+                    a += m.area(sec.corners[i]);
                 }
-                pc_max = pc_max.max(pc);
             }
-            let theta_a = self.angles.advancing[e];
-            let a = if pc_max <= 0.0 {
-                // Filled at a negative pressure with no pinned corner water.
-                0.0
-            } else if pc_min.is_finite() && pc >= pc_min && pc < pc_max {
-                let mut a = 0.0;
-                for (i, &beta) in sec.corners.iter().enumerate() {
-                    if self.wet[e] & (1 << i) != 0 {
-                        a += capillary::reversed_corner_area(
-                            pc, pc_min, pc_max, theta_pin, theta_a, beta, sigma,
-                        );
-                    }
-                }
-                a
-            } else if pc >= pc_max {
-                capillary::drainage_corner_water_area(&sec, theta_pin, sigma, pc)
-            } else {
-                capillary::imbibition_corner_water_area(&sec, theta_pin, theta_a, pc_max, sigma, pc)
-            };
             (a.clamp(0.0, area), 0.0)
         } else if s.layers[e] != 0 {
+            let (pc, pc_max, _) = self.meniscus_pressures(e);
+            let theta_pin = self.angles.pinned_receding[e];
             let mut oil = 0.0;
             for (i, &beta) in sec.corners.iter().enumerate() {
                 if s.layers[e] & (1 << i) != 0 {
@@ -119,7 +137,7 @@ impl Engine<'_> {
                         self.angles.advancing[e],
                         beta,
                         pc_max,
-                        sigma,
+                        self.setup.sigma,
                         pc,
                     );
                 }
