@@ -68,7 +68,11 @@
 //! ```
 
 #![warn(missing_docs)]
+// Columns indexed by element are the data model: index loops over several
+// parallel arrays read better than zipped iterators.
+#![allow(clippy::needless_range_loop)]
 
+pub mod analysis;
 pub mod capillary;
 pub mod connectivity;
 pub mod engine;
@@ -81,6 +85,7 @@ pub mod io;
 pub mod network;
 pub mod numeric;
 pub mod progress;
+pub mod relperm;
 pub mod simulation;
 pub mod stats;
 pub mod study;

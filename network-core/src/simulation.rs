@@ -2,15 +2,21 @@
 //! results as plain data (serde). No file access: the CLI reads the inputs
 //! and [`crate::io`] writes the outputs.
 
+use std::collections::BTreeSet;
+
 use serde::{Deserialize, Serialize};
 
-use crate::engine::process::{ProcessOutcome, run_process};
+use crate::analysis::{self, ArchieSummary, EndPoints, ProcessFits};
+use crate::engine::process::{Point, ProcessOutcome, run_process_observed};
 use crate::engine::state::NO_GANGLION;
 use crate::engine::{Engine, Setup};
+use crate::flow::solver::SolveOptions;
+use crate::flow::{PermOptions, PermeabilityReport, permeability};
 use crate::geometry::Geometry;
 use crate::indices::{self, WettabilityIndices};
 use crate::network::Network;
 use crate::progress::Progress;
+use crate::relperm::{FlowPoint, RelpermSolver};
 use crate::study::{ProcessKind, Study};
 use crate::wettability::ContactAngles;
 
@@ -117,7 +123,7 @@ pub struct EndState {
 }
 
 /// Everything a run produces.
-#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct RunResults {
     /// The program.
     pub program: ProgramInfo,
@@ -141,6 +147,16 @@ pub struct RunResults {
     pub ganglion_stats: Option<GanglionStats>,
     /// Wettability indices (when imbibition is followed by drainage).
     pub wettability_indices: Option<WettabilityIndices>,
+    /// Single-phase permeability and formation factor along the flow axis.
+    pub single_phase: Option<PermeabilityReport>,
+    /// End points of the curves.
+    pub end_points: EndPoints,
+    /// Fitted relative-permeability models per process.
+    pub fits: Vec<ProcessFits>,
+    /// Archie exponents.
+    pub archie: Option<ArchieSummary>,
+    /// Seconds spent in flow solves for relative permeability.
+    pub flow_solve_seconds: f64,
     /// Warnings for the reader.
     pub warnings: Vec<String>,
     /// Recorded curves, per process.
@@ -178,11 +194,88 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
     let mut snr = None;
     let mut sn_end = None;
     let mut ganglia = None;
+    let axis = study.flow.axis.unwrap_or(network.info().flow_axis);
+    let solve = SolveOptions {
+        tolerance: study.flow.solver_tolerance,
+        ..SolveOptions::default()
+    };
+    let single_phase = match permeability(
+        network,
+        axis,
+        &PermOptions {
+            solve: solve.clone(),
+            brine_conductivity: study.fluids.water_conductivity_s_per_m,
+            clay_tortuosity: study.flow.clay_tortuosity,
+        },
+    ) {
+        Ok(r) => Some(r),
+        Err(e) => {
+            warnings.push(format!("single-phase flow: {e}"));
+            None
+        }
+    };
+    let mut relperm = if study.flow.relative_permeability && single_phase.is_some() {
+        match RelpermSolver::new(network, axis, solve, study.flow.clay_tortuosity) {
+            Ok(r) => Some(r),
+            Err(e) => {
+                warnings.push(format!("relative permeability skipped: {e}"));
+                None
+            }
+        }
+    } else {
+        None
+    };
     for (i, p) in study.processes.iter().enumerate() {
         if p.kind == ProcessKind::Imbibition && i == 1 {
             engine.alter_wettability(&study.wettability);
         }
-        let out = run_process(&mut engine, p.kind, p.stop, p.pc_steps, progress);
+        let before = engine.snapshot();
+        let mut out = run_process_observed(
+            &mut engine,
+            p.kind,
+            p.stop,
+            p.pc_steps,
+            progress,
+            &mut |_, _| {},
+        );
+        if let Some(rp) = relperm.as_mut() {
+            // Second, identical pass from the same start, solving for flow
+            // at the points spaced evenly in saturation.
+            let chosen = kr_selection(&out.points, p.kr_points);
+            engine.restore(before);
+            progress.start("flow solves", chosen.len() as u64);
+            let mut failures = Vec::new();
+            let mut flows: Vec<((u64, u64), FlowPoint)> = Vec::new();
+            let again = run_process_observed(
+                &mut engine,
+                p.kind,
+                p.stop,
+                p.pc_steps,
+                &crate::progress::Silent,
+                &mut |pt, eng| {
+                    if chosen.contains(&key(pt)) && !flows.iter().any(|(k, _)| *k == key(pt)) {
+                        match rp.point(eng) {
+                            Ok(f) => flows.push((key(pt), f)),
+                            Err(e) => failures.push(e.to_string()),
+                        }
+                        progress.advance(1);
+                    }
+                },
+            );
+            progress.finish();
+            debug_assert_eq!(again.points.len(), out.points.len());
+            out = again;
+            for pt in out.points.iter_mut() {
+                pt.flow = flows.iter().find(|(k, _)| *k == key(pt)).map(|(_, f)| *f);
+            }
+            if let Some(f) = failures.first() {
+                warnings.push(format!(
+                    "process {}: {} flow solve(s) failed, first: {f}",
+                    i + 1,
+                    failures.len()
+                ));
+            }
+        }
         if out.target_unreached {
             warnings.push(format!(
                 "process {} ({}): the saturation target was not reached; it ended at Sw = {:.4}",
@@ -264,12 +357,54 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         processes,
         ganglion_stats,
         wettability_indices,
+        end_points: analysis::end_points(&outcomes),
+        fits: analysis::process_fits(&outcomes),
+        archie: single_phase
+            .as_ref()
+            .map(|r| analysis::archie(r.porosity, r.formation_factor, &outcomes)),
+        flow_solve_seconds: relperm.as_ref().map_or(0.0, |r| r.solve_seconds),
+        single_phase,
         warnings,
         outcomes,
         ganglia,
         end_states,
         angles: Some(engine.angles.clone()),
     }
+}
+
+fn key(p: &Point) -> (u64, u64) {
+    (p.events, p.pc_pa.to_bits())
+}
+
+/// The points at which to solve for flow: `n` targets spaced evenly in
+/// water saturation between the first and last point, each taken at the
+/// nearest recorded point (duplicates merged; end points always included).
+fn kr_selection(points: &[Point], n: usize) -> BTreeSet<(u64, u64)> {
+    let mut out = BTreeSet::new();
+    if points.is_empty() || n == 0 {
+        return out;
+    }
+    let s0 = points[0].saturation.sw;
+    let s1 = points[points.len() - 1].saturation.sw;
+    out.insert(key(&points[0]));
+    out.insert(key(&points[points.len() - 1]));
+    for k in 0..n {
+        let t = if n == 1 {
+            s1
+        } else {
+            s0 + (s1 - s0) * k as f64 / (n - 1) as f64
+        };
+        let best = points
+            .iter()
+            .min_by(|a, b| {
+                (a.saturation.sw - t)
+                    .abs()
+                    .total_cmp(&(b.saturation.sw - t).abs())
+            })
+            .expect("non-empty");
+        out.insert(key(best));
+    }
+    out
 }
 
 fn curve(o: &ProcessOutcome) -> (Vec<f64>, Vec<f64>) {

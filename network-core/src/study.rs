@@ -188,6 +188,32 @@ impl Default for MechanismOptions {
     }
 }
 
+/// Relative-permeability and resistivity settings (table `[flow]`).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct FlowSpec {
+    /// Compute `k_rw`, `k_rn` and RI at `kr_points` points per process
+    /// (default true).
+    pub relative_permeability: bool,
+    /// Axis of the pressure drop (default: the network's flow axis).
+    pub axis: Option<crate::network::Axis>,
+    /// Factor by which clay water conducts current worse than free brine
+    /// (default 1).
+    pub clay_tortuosity: f64,
+    /// Relative residual of the flow solves (default 1e-9).
+    pub solver_tolerance: f64,
+}
+
+impl Default for FlowSpec {
+    fn default() -> Self {
+        FlowSpec {
+            relative_permeability: true,
+            axis: None,
+            clay_tortuosity: 1.0,
+            solver_tolerance: 1e-9,
+        }
+    }
+}
+
 /// A displacement process kind.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "kebab-case")]
@@ -253,6 +279,8 @@ pub struct Study {
     pub imbibition_faces: crate::engine::ImbibitionFaces,
     /// Mechanism options (table `[mechanisms]`).
     pub mechanisms: MechanismOptions,
+    /// Flow settings (table `[flow]`).
+    pub flow: FlowSpec,
     /// The processes, in order.
     pub processes: Vec<Process>,
 }
@@ -267,7 +295,17 @@ struct RawStudy {
     wettability: Option<RawWettability>,
     boundary: Option<RawBoundary>,
     mechanisms: Option<RawMechanisms>,
+    flow: Option<RawFlow>,
     process: Option<Vec<Spanned<RawProcess>>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawFlow {
+    relative_permeability: Option<bool>,
+    axis: Option<crate::network::Axis>,
+    clay_tortuosity: Option<Spanned<f64>>,
+    solver_tolerance: Option<Spanned<f64>>,
 }
 
 #[derive(Deserialize)]
@@ -597,6 +635,32 @@ impl Study {
                 },
             }
         };
+        let flow = {
+            let d = FlowSpec::default();
+            match raw.flow {
+                None => d,
+                Some(f) => FlowSpec {
+                    relative_permeability: f
+                        .relative_permeability
+                        .unwrap_or(d.relative_permeability),
+                    axis: f.axis,
+                    clay_tortuosity: c.number(
+                        "flow.clay_tortuosity",
+                        f.clay_tortuosity,
+                        d.clay_tortuosity,
+                        |x| x >= 1.0,
+                        "at least 1",
+                    ),
+                    solver_tolerance: c.number(
+                        "flow.solver_tolerance",
+                        f.solver_tolerance,
+                        d.solver_tolerance,
+                        |x| x > 0.0 && x < 1e-2,
+                        "in (0, 0.01)",
+                    ),
+                },
+            }
+        };
         let mut processes = Vec::new();
         let raw_processes = raw.process.unwrap_or_default();
         if raw_processes.is_empty() {
@@ -687,6 +751,7 @@ impl Study {
                 outlet,
                 imbibition_faces,
                 mechanisms,
+                flow,
                 processes,
             })
         } else {

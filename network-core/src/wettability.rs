@@ -22,8 +22,8 @@ use crate::study::{OilWetSelection, WettabilitySpec};
 const STREAM_RECEDING: u64 = 0x7265_6365_6465;
 const STREAM_ADVANCING: u64 = 0x6164_7661_6e63;
 const STREAM_OIL_WET: u64 = 0x6f69_6c77_6574;
-const STREAM_OW_ADVANCING: u64 = 0x6f77_6164_76;
-const STREAM_OW_RECEDING: u64 = 0x6f77_7265_63;
+const STREAM_OW_ADVANCING: u64 = 0x006f_7761_6476;
+const STREAM_OW_RECEDING: u64 = 0x006f_7772_6563;
 
 /// Degrees to radians.
 #[inline]

@@ -1,5 +1,6 @@
 //! Primary drainage on networks: invasion order, percolation threshold,
 //! saturation accounting and determinism.
+#![allow(clippy::needless_range_loop)]
 
 mod support;
 

@@ -1,12 +1,13 @@
 //! Imbibition on networks: Roof's criterion, trapping trends with contact
 //! angle and initial saturation, magnitudes, conservation and determinism.
+#![allow(clippy::needless_range_loop)]
 
 mod support;
 
 use network_core::engine::process::run_process;
 use network_core::engine::{Engine, ImbibitionFaces, Setup};
 use network_core::fit::{LandMethod, LandNormalisation, fit_land};
-use network_core::generate::{LatticeSpec, WeibullRange, generate};
+use network_core::generate::{LatticeSpec, generate};
 use network_core::geometry::Geometry;
 use network_core::progress::Silent;
 use network_core::simulation::{RunResults, run_study};

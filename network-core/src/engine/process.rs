@@ -32,6 +32,8 @@ pub struct Point {
     pub saturation: Saturation,
     /// Events applied since the process started.
     pub events: u64,
+    /// Relative permeabilities and resistivity index, where computed.
+    pub flow: Option<crate::relperm::FlowPoint>,
 }
 
 /// What one process did.
@@ -121,14 +123,26 @@ fn levels(start: f64, end: f64, n: usize) -> Vec<f64> {
 }
 
 /// Runs one process (the engine must be idle) and returns its outcome.
-///
-/// `first_pc_hint` bounds the pressure range of a saturation target.
 pub fn run_process(
     engine: &mut Engine<'_>,
     kind: ProcessKind,
     stop: StopAt,
     pc_steps: usize,
     progress: &dyn Progress,
+) -> ProcessOutcome {
+    run_process_observed(engine, kind, stop, pc_steps, progress, &mut |_, _| {})
+}
+
+/// [`run_process`] calling `observer` with every candidate point and the
+/// engine in that state (points inside a level that a saturation target
+/// later discards are observed too; match points by `events` and `pc_pa`).
+pub fn run_process_observed(
+    engine: &mut Engine<'_>,
+    kind: ProcessKind,
+    stop: StopAt,
+    pc_steps: usize,
+    progress: &dyn Progress,
+    observer: &mut dyn FnMut(&Point, &Engine<'_>),
 ) -> ProcessOutcome {
     match kind {
         ProcessKind::Drainage => engine.begin_drainage(),
@@ -191,7 +205,9 @@ pub fn run_process(
         pc_pa: start_pc,
         saturation: engine.saturation(),
         events: 0,
+        flow: None,
     }];
+    observer(&points[0], engine);
     let reached = |sw: f64, target: f64| {
         if ascending {
             sw <= target
@@ -225,11 +241,14 @@ pub fn run_process(
             let b = eng.bulk_oil_fraction();
             if (b - last_bulk).abs() >= ds {
                 last_bulk = b;
-                extra.push(Point {
+                let p = Point {
                     pc_pa: eng.dyn_.state.pc,
                     saturation: eng.saturation(),
                     events: eng.dyn_.events,
-                });
+                    flow: None,
+                };
+                observer(&p, eng);
+                extra.push(p);
             }
         });
         let sat = engine.saturation();
@@ -239,20 +258,26 @@ pub fn run_process(
         {
             let (pc_final, sat_final) = bisect(engine, snap, prev_pc, level, t, ascending);
             points.extend(extra.into_iter().filter(|p| !reached(p.saturation.sw, t)));
-            points.push(Point {
+            let p = Point {
                 pc_pa: pc_final,
                 saturation: sat_final,
                 events: engine.dyn_.events,
-            });
+                flow: None,
+            };
+            observer(&p, engine);
+            points.push(p);
             progress.finish();
             return finish(engine, kind, points, false);
         }
         points.extend(extra);
-        points.push(Point {
+        let p = Point {
             pc_pa: level,
             saturation: sat,
             events: engine.dyn_.events,
-        });
+            flow: None,
+        };
+        observer(&p, engine);
+        points.push(p);
         last_bulk = engine.bulk_oil_fraction();
         prev_pc = level;
     }

@@ -163,7 +163,7 @@ impl Engine<'_> {
                     let (aw, ao_layer) = self.element_areas(e);
                     let area = self.setup.geometry.area(e);
                     let w = self.clay[e] + v * aw / area;
-                    let o = v - v * aw / area;
+                    let o = v * (area - aw) / area;
                     acc.water += w;
                     acc.oil += o;
                     if s.oil_trapped[e] {

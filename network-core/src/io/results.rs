@@ -19,14 +19,18 @@ fn io_err(path: &Path, e: std::io::Error) -> WriteError {
 /// The `curves.csv` text: one row per recorded point.
 pub fn curves_csv(results: &RunResults) -> String {
     let mut s = String::from(
-        "process,kind,step,pc_pa,sw,sn,sn_trapped,sw_trapped,sw_corners,sn_layers,events\n",
+        "process,kind,step,pc_pa,sw,sn,sn_trapped,sw_trapped,sw_corners,sn_layers,events,krw,krn,ri\n",
     );
     for (i, o) in results.outcomes.iter().enumerate() {
         for (k, p) in o.points.iter().enumerate() {
             let t = &p.saturation;
+            let (krw, krn, ri) = match p.flow {
+                Some(f) => (f.krw.to_string(), f.krn.to_string(), f.ri.to_string()),
+                None => (String::new(), String::new(), String::new()),
+            };
             let _ = writeln!(
                 s,
-                "{},{},{},{},{},{},{},{},{},{},{}",
+                "{},{},{},{},{},{},{},{},{},{},{},{krw},{krn},{ri}",
                 i + 1,
                 o.kind.as_str(),
                 k,

@@ -1,0 +1,317 @@
+//! Relative permeability and resistivity index at a displacement state.
+//!
+//! At a recorded point every element gets a conductance per phase:
+//! - the phase filling the centre: `g = k A_p² G/μ` with the element's
+//!   shape factor `G`, Poiseuille factor `k` (Patzek & Silin 2001, J.
+//!   Colloid Interface Sci. 236:295–304) and the area `A_p` the phase holds
+//!   there (common practice, e.g. Valvatne & Blunt 2004);
+//! - water in the corners of an oil-filled element: the no-slip corner-film
+//!   conductance of Patzek & Kristensen (2001, J. Colloid Interface Sci.
+//!   236:305–317) per corner ([`capillary::corner_conductance_b`]);
+//! - oil in layers: the same corner-film form applied to the layer's area
+//!   and outer contact (an approximation: no published layer conductance is
+//!   implemented; it overstates the layer's conductance);
+//! - a trapped phase conducts nothing.
+//!
+//! Element values combine per conduit by the series rule
+//! ([`flow::conduit_conductances`]) and one Kirchhoff solve per phase gives
+//! its flow between the faces; only the phase's clusters that join inlet
+//! and outlet carry it. `k_r = Q_p / Q_single-phase` at the same pressure
+//! drop and viscosity. The resistivity index `RI = R_t/R_o = I_o/I_t`
+//! comes from the same solve on the water's electrical conductance
+//! `σ_w (A_w + A_clay/τ)` (Archie 1942 defines `RI = R_t/R_o`).
+
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+use crate::capillary;
+use crate::engine::Engine;
+use crate::flow::solver::{FlowSolution, PressureSystem, SolveError, SolveOptions};
+use crate::flow::{self, FlowError, conduit_conductances, element_clay_areas};
+use crate::geometry::Shape;
+use crate::network::{Axis, Network};
+
+/// Flow results at one recorded point.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct FlowPoint {
+    /// Water relative permeability.
+    pub krw: f64,
+    /// Non-aqueous relative permeability.
+    pub krn: f64,
+    /// Resistivity index `R_t/R_o` (infinite when the water does not span).
+    pub ri: f64,
+    /// Conjugate-gradient iterations of the three solves.
+    pub iterations: usize,
+}
+
+/// Per-element conductances of each phase at one state.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PhaseConductances {
+    /// Water, hydraulic (unit viscosity), m⁴/(Pa·s)·Pa·s = m⁴.
+    pub water: Vec<f64>,
+    /// Non-aqueous phase, hydraulic (unit viscosity).
+    pub oil: Vec<f64>,
+    /// Water, electrical (unit brine conductivity, clay included), m².
+    pub electrical: Vec<f64>,
+}
+
+/// Conductances of every element at the engine's current state (unit
+/// viscosity and unit brine conductivity; `clay_tortuosity` as in
+/// [`flow::element_electrical_conductances`]).
+pub fn phase_conductances(engine: &Engine<'_>, clay_tortuosity: f64) -> PhaseConductances {
+    let net = engine.setup().network;
+    let geom = engine.setup().geometry;
+    let clay = element_clay_areas(net);
+    let s = engine.state();
+    let n = net.n_elements();
+    let per: Vec<(f64, f64, f64)> = (0..n)
+        .into_par_iter()
+        .map(|e| {
+            let shape = geom.shape[e];
+            let k = shape.conductance_factor();
+            let g = geom.shape_factor[e];
+            let area = geom.area(e);
+            let (aw, ao_layer) = engine.element_areas(e);
+            let elec = aw + clay[e] / clay_tortuosity;
+            let elec = if s.water_trapped[e] { 0.0 } else { elec };
+            if s.oil[e] {
+                let mut gw = 0.0;
+                if !s.water_trapped[e] {
+                    let corners = engine.section(e).corners;
+                    for (i, m) in engine.corner_menisci(e).iter().enumerate() {
+                        if let Some(m) = m {
+                            let beta = corners[i];
+                            gw += capillary::corner_conductance_b(
+                                m.area(beta),
+                                m.b,
+                                m.theta_h,
+                                beta,
+                                1.0,
+                            );
+                        }
+                    }
+                }
+                let go = if s.oil_trapped[e] {
+                    0.0
+                } else {
+                    capillary::bulk_conductance(k, area - aw, g, 1.0)
+                };
+                (gw, go, elec)
+            } else {
+                let gw = if s.water_trapped[e] {
+                    0.0
+                } else {
+                    capillary::bulk_conductance(k, aw, g, 1.0)
+                };
+                let mut go = 0.0;
+                if ao_layer > 0.0 && !s.oil_trapped[e] && shape != Shape::Circle {
+                    let corners = engine.section(e).corners;
+                    let n_layers = s.layers[e].count_ones().max(1) as f64;
+                    for (i, &beta) in corners.iter().enumerate() {
+                        if s.layers[e] & (1 << i) != 0 {
+                            // Layer area split evenly over the layered corners.
+                            let a = ao_layer / n_layers;
+                            let b = (a / capillary::corner_area_b(
+                                1.0,
+                                std::f64::consts::FRAC_PI_2 - beta,
+                                beta,
+                            ))
+                            .sqrt();
+                            go += capillary::corner_conductance_b(
+                                a,
+                                b,
+                                std::f64::consts::FRAC_PI_2 - beta,
+                                beta,
+                                1.0,
+                            );
+                        }
+                    }
+                }
+                (gw, go, elec)
+            }
+        })
+        .collect();
+    PhaseConductances {
+        water: per.iter().map(|x| x.0).collect(),
+        oil: per.iter().map(|x| x.1).collect(),
+        electrical: per.iter().map(|x| x.2).collect(),
+    }
+}
+
+/// Reusable solver state for relative permeability along one axis: the
+/// pressure systems (one per phase, each keeping its multigrid hierarchy
+/// and last solution for warm starts) and the single-phase references.
+pub struct RelpermSolver {
+    water: PressureSystem,
+    oil: PressureSystem,
+    electric: PressureSystem,
+    inlet: Vec<bool>,
+    outlet: Vec<bool>,
+    active: Vec<bool>,
+    conduit: Vec<f64>,
+    q_single: f64,
+    i_single: f64,
+    last_water: Option<Vec<f64>>,
+    last_oil: Option<Vec<f64>>,
+    last_electric: Option<Vec<f64>>,
+    opts: SolveOptions,
+    clay_tortuosity: f64,
+    /// Seconds spent in solves (for the cost report).
+    pub solve_seconds: f64,
+}
+
+fn solve_phase(
+    sys: &mut PressureSystem,
+    conduit: &[f64],
+    active: &[bool],
+    inlet: &[bool],
+    outlet: &[bool],
+    warm: &mut Option<Vec<f64>>,
+    opts: &SolveOptions,
+) -> Result<(f64, usize), FlowError> {
+    match sys.solve(
+        conduit,
+        active,
+        inlet,
+        outlet,
+        1.0,
+        0.0,
+        warm.as_deref(),
+        opts,
+    ) {
+        Ok(FlowSolution {
+            pressure,
+            inflow,
+            outflow,
+            iterations,
+            ..
+        }) => {
+            *warm = Some(pressure);
+            Ok((0.5 * (inflow + outflow), iterations))
+        }
+        Err(SolveError::NoSpanningCluster { .. }) => {
+            *warm = None;
+            Ok((0.0, 0))
+        }
+        Err(e) => Err(FlowError::Hydraulic(e)),
+    }
+}
+
+impl RelpermSolver {
+    /// Sets up the solves along `axis` and computes the single-phase
+    /// references (one hydraulic and one electrical solve).
+    pub fn new(
+        network: &Network,
+        axis: Axis,
+        opts: SolveOptions,
+        clay_tortuosity: f64,
+    ) -> Result<RelpermSolver, FlowError> {
+        let (inlet, outlet) = crate::connectivity::face_masks(network, axis);
+        let mut s = RelpermSolver {
+            water: PressureSystem::new(network),
+            oil: PressureSystem::new(network),
+            electric: PressureSystem::new(network),
+            inlet,
+            outlet,
+            active: vec![true; network.n_pores()],
+            conduit: vec![0.0; network.n_throats()],
+            q_single: 0.0,
+            i_single: 0.0,
+            last_water: None,
+            last_oil: None,
+            last_electric: None,
+            opts,
+            clay_tortuosity,
+            solve_seconds: 0.0,
+        };
+        let g = flow::element_hydraulic_conductances(network, 1.0);
+        conduit_conductances(network, &g, &mut s.conduit)?;
+        let mut warm = None;
+        let (q, _) = solve_phase(
+            &mut s.water,
+            &s.conduit,
+            &s.active,
+            &s.inlet,
+            &s.outlet,
+            &mut warm,
+            &s.opts,
+        )?;
+        let ge = flow::element_electrical_conductances(network, 1.0, clay_tortuosity);
+        conduit_conductances(network, &ge, &mut s.conduit)?;
+        let mut warm_e = None;
+        let (i, _) = solve_phase(
+            &mut s.electric,
+            &s.conduit,
+            &s.active,
+            &s.inlet,
+            &s.outlet,
+            &mut warm_e,
+            &s.opts,
+        )?;
+        if !(q > 0.0 && i > 0.0) {
+            return Err(FlowError::NoSpanningCluster {
+                axis,
+                n_inlet: s.inlet.iter().filter(|&&x| x).count(),
+                n_outlet: s.outlet.iter().filter(|&&x| x).count(),
+                n_components: crate::connectivity::Components::of(network).len(),
+            });
+        }
+        s.q_single = q;
+        s.i_single = i;
+        s.last_water = warm;
+        s.last_electric = warm_e;
+        Ok(s)
+    }
+
+    /// Relative permeabilities and resistivity index at the engine's state.
+    pub fn point(&mut self, engine: &Engine<'_>) -> Result<FlowPoint, FlowError> {
+        let t0 = std::time::Instant::now();
+        let net = engine.setup().network;
+        let pc = phase_conductances(engine, self.clay_tortuosity);
+        conduit_conductances(net, &pc.water, &mut self.conduit)?;
+        let (qw, iw) = solve_phase(
+            &mut self.water,
+            &self.conduit,
+            &self.active,
+            &self.inlet,
+            &self.outlet,
+            &mut self.last_water,
+            &self.opts,
+        )?;
+        conduit_conductances(net, &pc.oil, &mut self.conduit)?;
+        let (qo, io) = solve_phase(
+            &mut self.oil,
+            &self.conduit,
+            &self.active,
+            &self.inlet,
+            &self.outlet,
+            &mut self.last_oil,
+            &self.opts,
+        )?;
+        conduit_conductances(net, &pc.electrical, &mut self.conduit)?;
+        let (ie, ii) = solve_phase(
+            &mut self.electric,
+            &self.conduit,
+            &self.active,
+            &self.inlet,
+            &self.outlet,
+            &mut self.last_electric,
+            &self.opts,
+        )
+        .map_err(|e| match e {
+            FlowError::Hydraulic(s) => FlowError::Electrical(s),
+            other => other,
+        })?;
+        self.solve_seconds += t0.elapsed().as_secs_f64();
+        Ok(FlowPoint {
+            krw: qw / self.q_single,
+            krn: qo / self.q_single,
+            ri: if ie > 0.0 {
+                self.i_single / ie
+            } else {
+                f64::INFINITY
+            },
+            iterations: iw + io + ii,
+        })
+    }
+}
