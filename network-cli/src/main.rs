@@ -34,6 +34,8 @@ enum Command {
     Convert(commands::convert::Args),
     Perm(commands::perm::Args),
     Run(commands::run::Args),
+    Sweep(commands::sweep::Args),
+    Collect(commands::sweep::CollectArgs),
 }
 
 fn main() -> ExitCode {
@@ -53,6 +55,8 @@ fn main() -> ExitCode {
         Command::Convert(a) => commands::convert::run(a, &progress),
         Command::Perm(a) => commands::perm::run(a, &progress),
         Command::Run(a) => commands::run::run(a, &progress),
+        Command::Sweep(a) => commands::sweep::run(a, &progress),
+        Command::Collect(a) => commands::sweep::collect(a, &progress),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -89,6 +89,7 @@ pub mod relperm;
 pub mod simulation;
 pub mod stats;
 pub mod study;
+pub mod sweep;
 pub mod validate;
 pub mod wettability;
 

@@ -262,7 +262,10 @@ pub struct Process {
 /// A validated study.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct Study {
-    /// Network path as written (relative to the study file).
+    /// Network path as written (relative to the study file): a CSV folder,
+    /// a binary `.gnet` file, or a generator parameter file (`.toml`,
+    /// see [`crate::generate::LatticeSpec`]) from which the network is
+    /// generated.
     pub network: String,
     /// Seed of every random draw of the run (default 1).
     pub seed: u64,
@@ -297,6 +300,9 @@ struct RawStudy {
     mechanisms: Option<RawMechanisms>,
     flow: Option<RawFlow>,
     process: Option<Vec<Spanned<RawProcess>>>,
+    /// Checked by [`crate::sweep::SweepStudy`]; ignored by a single run.
+    #[allow(dead_code)]
+    sweep: Option<toml::Value>,
 }
 
 #[derive(Deserialize)]

@@ -6,6 +6,7 @@ pub mod generate;
 pub mod inspect;
 pub mod perm;
 pub mod run;
+pub mod sweep;
 
 use std::path::Path;
 
@@ -22,4 +23,26 @@ pub fn load(path: &Path, progress: &Bars) -> Result<Loaded> {
         progress.note(&format!("warning: {w}"));
     }
     Ok(loaded)
+}
+
+/// The network of a study: loaded from a CSV folder or `.gnet` file, or
+/// generated from a parameter file (`.toml`) with its seed plus
+/// `realisation`. Returns the network and its content hash.
+pub fn study_network(
+    study_path: &Path,
+    study: &network_core::study::Study,
+    realisation: usize,
+    progress: &Bars,
+) -> Result<(network_core::Network, String)> {
+    let path = run::network_path(study_path, study);
+    let net = if path.extension().is_some_and(|e| e.eq_ignore_ascii_case("toml")) {
+        let mut spec = generate::read_spec(&path)?;
+        spec.seed += realisation as u64;
+        network_core::generate::generate(&spec, &network_core::progress::Silent)
+            .with_context(|| format!("cannot generate the network of {}", path.display()))?
+    } else {
+        load(&path, progress)?.network
+    };
+    let hash = io::network_hash(&net);
+    Ok((net, hash))
 }

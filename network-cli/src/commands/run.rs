@@ -55,10 +55,9 @@ pub fn network_path(study_path: &Path, study: &Study) -> PathBuf {
 
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     let study = read_study(&args.study)?;
-    let net_path = network_path(&args.study, &study);
-    let loaded = super::load(&net_path, progress)?;
-    let mut results = run_study(&loaded.network, &study, progress);
-    results.network.hash = io::network_hash(&loaded.network);
+    let (network, hash) = super::study_network(&args.study, &study, 0, progress)?;
+    let mut results = run_study(&network, &study, progress);
+    results.network.hash = hash;
     io::results::write_run(&results, &args.output)
         .with_context(|| format!("cannot write results to {}", args.output.display()))?;
     if !progress.quiet() {

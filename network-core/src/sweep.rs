@@ -1,0 +1,634 @@
+//! Sweeps: many independent cases from one study — initial water
+//! saturations (the initial–residual trapping curve), lists of any study
+//! parameter, and realisations — and their statistics.
+//!
+//! A study with a `[sweep]` table:
+//! ```toml
+//! [sweep]
+//! initial_water_saturations = [0.8, 0.6, 0.4, 0.2]   # or: initial_saturation_points = 6
+//! realisations = 4
+//! relative_permeability = false                     # kr per case (slower)
+//! [sweep.parameters]
+//! "wettability.advancing_contact_angle_deg" = [[20.0, 40.0], [50.0, 70.0]]
+//! "fluids.interfacial_tension_n_per_m" = [0.02, 0.03]
+//! ```
+//! Cases are the Cartesian product of parameter values × initial water
+//! saturations × realisations, numbered in that nesting order (realisation
+//! fastest). Each case is a complete study (the base study with the values
+//! set at their dotted paths, parsed and validated like any study), so a
+//! case runs on its own and its result does not depend on which other
+//! cases run or in what order. Realisation `r` uses seed `seed + r` for
+//! every random draw of the run (contact angles, triangle shapes,
+//! cooperative draws) and, for a generated network, for the network.
+
+use std::collections::BTreeMap;
+
+use serde::{Deserialize, Serialize};
+
+use crate::fit::{LandMethod, LandNormalisation, fit_land};
+use crate::simulation::RunResults;
+use crate::study::{Study, StudyError, StudyErrors};
+#[cfg(test)]
+use crate::study::StopAt;
+
+/// The `[sweep]` table.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct SweepSpec {
+    /// Initial water saturations at which primary drainage stops (empty: as
+    /// the study says).
+    pub initial_water_saturations: Vec<f64>,
+    /// Parameter lists by dotted path, in path order.
+    pub parameters: Vec<(String, Vec<toml::Value>)>,
+    /// Number of realisations (≥ 1).
+    pub realisations: usize,
+    /// Compute relative permeability in every case.
+    pub relative_permeability: bool,
+}
+
+/// One case of a sweep.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct Case {
+    /// Case number.
+    pub index: usize,
+    /// Parameter values set (path, value as TOML text).
+    pub parameters: Vec<(String, String)>,
+    /// Initial water saturation of the primary drainage, if swept.
+    pub initial_water_saturation: Option<f64>,
+    /// Realisation number.
+    pub realisation: usize,
+    /// Index of the parameter combination (cases sharing it differ only in
+    /// initial saturation and realisation).
+    pub group: usize,
+    /// The case's study, as TOML text.
+    pub study_text: String,
+    /// A hash of `study_text` (identifies finished results on resume).
+    pub study_hash: String,
+}
+
+/// A study with its sweep: the base TOML and the sweep specification.
+#[derive(Clone, Debug)]
+pub struct SweepStudy {
+    base: toml::Table,
+    /// The sweep table.
+    pub spec: SweepSpec,
+    /// The base study (validated).
+    pub study: Study,
+}
+
+fn line_of(text: &str, key: &str) -> Option<usize> {
+    text.lines()
+        .position(|l| l.trim_start().starts_with(key) || l.contains(&format!("\"{key}\"")))
+        .map(|i| i + 1)
+}
+
+fn err(text: &str, key: &str, message: impl Into<String>) -> StudyErrors {
+    let short = key.rsplit('.').next().unwrap_or(key);
+    StudyErrors(vec![StudyError {
+        key: key.into(),
+        line: line_of(text, short),
+        message: message.into(),
+    }])
+}
+
+/// Sets `value` at a dotted `path` of a TOML table (tables are created as
+/// needed; `process[2].until_sw` addresses the second `[[process]]`).
+fn set_path(table: &mut toml::Table, path: &str, value: toml::Value) -> Result<(), String> {
+    let parts: Vec<&str> = path.split('.').collect();
+    let mut cur = table;
+    for (k, part) in parts.iter().enumerate() {
+        let last = k + 1 == parts.len();
+        let (name, index) = match part.find('[') {
+            Some(i) if part.ends_with(']') => {
+                let n: usize = part[i + 1..part.len() - 1]
+                    .parse()
+                    .map_err(|_| format!("`{part}`: index must be a whole number"))?;
+                (&part[..i], Some(n))
+            }
+            _ => (*part, None),
+        };
+        match index {
+            Some(n) => {
+                let arr = cur
+                    .get_mut(name)
+                    .and_then(|v| v.as_array_mut())
+                    .ok_or_else(|| format!("`{name}` is not a list of tables"))?;
+                let item = arr
+                    .get_mut(n.wrapping_sub(1))
+                    .ok_or_else(|| format!("`{name}[{n}]` does not exist (1-based)"))?;
+                let t = item.as_table_mut().ok_or_else(|| format!("`{name}[{n}]` is not a table"))?;
+                if last {
+                    return Err(format!("`{path}` names a table, not a value"));
+                }
+                cur = t;
+            }
+            None if last => {
+                cur.insert(name.to_string(), value);
+                return Ok(());
+            }
+            None => {
+                let entry = cur
+                    .entry(name.to_string())
+                    .or_insert_with(|| toml::Value::Table(toml::Table::new()));
+                cur = entry
+                    .as_table_mut()
+                    .ok_or_else(|| format!("`{name}` is a value, not a table"))?;
+            }
+        }
+    }
+    Ok(())
+}
+
+fn hash_text(text: &str) -> String {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in text.bytes() {
+        h = crate::numeric::splitmix64(h ^ b as u64);
+    }
+    format!("{h:016x}")
+}
+
+impl SweepStudy {
+    /// Parses a study file with a `[sweep]` table.
+    pub fn parse(text: &str) -> Result<SweepStudy, StudyErrors> {
+        let mut base: toml::Table = text.parse().map_err(|e: toml::de::Error| {
+            StudyErrors(vec![StudyError {
+                key: String::new(),
+                line: e.span().map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1),
+                message: e.message().trim().to_string(),
+            }])
+        })?;
+        let sweep = base.remove("sweep");
+        let base_text = toml::to_string(&base).map_err(|e| err(text, "", e.to_string()))?;
+        let study = Study::parse(&base_text).map_err(|mut es| {
+            // Re-point lines at the original text.
+            for e in &mut es.0 {
+                let short = e.key.rsplit('.').next().unwrap_or(&e.key).to_string();
+                e.line = if short.is_empty() { e.line } else { line_of(text, &short) };
+            }
+            es
+        })?;
+        let mut spec = SweepSpec {
+            realisations: 1,
+            ..SweepSpec::default()
+        };
+        let Some(sweep) = sweep else {
+            return Err(err(text, "sweep", "a sweep study needs a [sweep] table"));
+        };
+        let Some(sweep) = sweep.as_table() else {
+            return Err(err(text, "sweep", "must be a table"));
+        };
+        for (k, v) in sweep {
+            match k.as_str() {
+                "initial_water_saturations" => {
+                    let arr = v
+                        .as_array()
+                        .ok_or_else(|| err(text, "sweep.initial_water_saturations", "must be a list"))?;
+                    for x in arr {
+                        let f = x.as_float().or_else(|| x.as_integer().map(|i| i as f64));
+                        match f {
+                            Some(f) if f > 0.0 && f < 1.0 => spec.initial_water_saturations.push(f),
+                            _ => {
+                                return Err(err(
+                                    text,
+                                    "sweep.initial_water_saturations",
+                                    format!("value {x} must be a saturation in (0, 1)"),
+                                ));
+                            }
+                        }
+                    }
+                }
+                "initial_saturation_points" => {
+                    let n = v.as_integer().filter(|n| (2..=200).contains(n)).ok_or_else(|| {
+                        err(text, "sweep.initial_saturation_points", "must be a whole number in [2, 200]")
+                    })?;
+                    // Evenly spaced in (0, 1): 0.9 … 0.1 for n = 9.
+                    spec.initial_water_saturations =
+                        (1..=n).map(|k| 1.0 - k as f64 / (n + 1) as f64).collect();
+                }
+                "realisations" => {
+                    spec.realisations = v
+                        .as_integer()
+                        .filter(|n| (1..=10_000).contains(n))
+                        .ok_or_else(|| err(text, "sweep.realisations", "must be a whole number in [1, 10000]"))?
+                        as usize;
+                }
+                "relative_permeability" => {
+                    spec.relative_permeability = v
+                        .as_bool()
+                        .ok_or_else(|| err(text, "sweep.relative_permeability", "must be true or false"))?;
+                }
+                "parameters" => {
+                    let t = v
+                        .as_table()
+                        .ok_or_else(|| err(text, "sweep.parameters", "must be a table of path = [values]"))?;
+                    for (path, vals) in t {
+                        let list = vals.as_array().filter(|a| !a.is_empty()).ok_or_else(|| {
+                            err(text, &format!("sweep.parameters.{path}"), "must be a non-empty list of values")
+                        })?;
+                        spec.parameters.push((path.clone(), list.clone()));
+                    }
+                }
+                other => {
+                    return Err(err(
+                        text,
+                        &format!("sweep.{other}"),
+                        "unknown key; expected initial_water_saturations, initial_saturation_points, \
+                         realisations, relative_permeability or parameters",
+                    ));
+                }
+            }
+        }
+        if !spec.initial_water_saturations.is_empty() && study.processes.len() < 2 {
+            return Err(err(
+                text,
+                "sweep.initial_water_saturations",
+                "needs a drainage followed by an imbibition in the study",
+            ));
+        }
+        let s = SweepStudy { base, spec, study };
+        // Validate every case up front, so a bad value fails before any run.
+        let cases = s.cases_checked(text)?;
+        if cases.is_empty() {
+            return Err(err(text, "sweep", "the sweep has no cases"));
+        }
+        Ok(s)
+    }
+
+    /// The parameter combinations, in order.
+    fn combinations(&self) -> Vec<Vec<(String, toml::Value)>> {
+        let mut combos: Vec<Vec<(String, toml::Value)>> = vec![Vec::new()];
+        for (path, values) in &self.spec.parameters {
+            let mut next = Vec::new();
+            for c in &combos {
+                for v in values {
+                    let mut c2 = c.clone();
+                    c2.push((path.clone(), v.clone()));
+                    next.push(c2);
+                }
+            }
+            combos = next;
+        }
+        combos
+    }
+
+    fn cases_checked(&self, original: &str) -> Result<Vec<Case>, StudyErrors> {
+        let mut out = Vec::new();
+        let swis: Vec<Option<f64>> = if self.spec.initial_water_saturations.is_empty() {
+            vec![None]
+        } else {
+            self.spec.initial_water_saturations.iter().map(|&s| Some(s)).collect()
+        };
+        let base_seed = self.study.seed;
+        for (group, combo) in self.combinations().into_iter().enumerate() {
+            for &swi in &swis {
+                for r in 0..self.spec.realisations {
+                    let mut t = self.base.clone();
+                    for (path, v) in &combo {
+                        set_path(&mut t, path, v.clone())
+                            .map_err(|m| err(original, &format!("sweep.parameters.{path}"), m))?;
+                    }
+                    if let Some(s) = swi {
+                        let p = t
+                            .get_mut("process")
+                            .and_then(|p| p.as_array_mut())
+                            .and_then(|a| a.first_mut())
+                            .and_then(|p| p.as_table_mut())
+                            .ok_or_else(|| err(original, "process", "no drainage to stop"))?;
+                        p.remove("until_pc_pa");
+                        p.insert("until_sw".into(), toml::Value::Float(s));
+                    }
+                    t.insert("seed".into(), toml::Value::Integer((base_seed + r as u64) as i64));
+                    if !self.spec.relative_permeability {
+                        set_path(&mut t, "flow.relative_permeability", toml::Value::Boolean(false))
+                            .map_err(|m| err(original, "flow", m))?;
+                    }
+                    let study_text = toml::to_string(&t).map_err(|e| err(original, "", e.to_string()))?;
+                    Study::parse(&study_text).map_err(|es| {
+                        let mut es = es;
+                        for e in &mut es.0 {
+                            e.message = format!("in sweep case {}: {}", out.len(), e.message);
+                            e.line = None;
+                        }
+                        es
+                    })?;
+                    out.push(Case {
+                        index: out.len(),
+                        parameters: combo.iter().map(|(p, v)| (p.clone(), v.to_string())).collect(),
+                        initial_water_saturation: swi,
+                        realisation: r,
+                        group,
+                        study_hash: hash_text(&study_text),
+                        study_text,
+                    });
+                }
+            }
+        }
+        Ok(out)
+    }
+
+    /// Every case of the sweep, in order.
+    pub fn cases(&self) -> Vec<Case> {
+        self.cases_checked("").expect("validated when parsed")
+    }
+}
+
+impl Case {
+    /// The case's study.
+    pub fn study(&self) -> Study {
+        Study::parse(&self.study_text).expect("validated when the sweep was parsed")
+    }
+}
+
+/// A recorded curve of one process, kept per case for bands.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct CaseCurve {
+    /// Process kind.
+    pub kind: crate::study::ProcessKind,
+    /// Capillary pressure, Pa.
+    pub pc_pa: Vec<f64>,
+    /// Water saturation.
+    pub sw: Vec<f64>,
+    /// `k_rw` where computed.
+    pub krw: Vec<Option<f64>>,
+    /// `k_rn` where computed.
+    pub krn: Vec<Option<f64>>,
+}
+
+/// What one case produced (written per case, merged by `collect`).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct CaseResult {
+    /// The case.
+    pub case: Case,
+    /// Initial non-aqueous saturation.
+    pub sni: Option<f64>,
+    /// Residual (trapped) non-aqueous saturation.
+    pub snr: Option<f64>,
+    /// Water saturation at the end of primary drainage.
+    pub swi: Option<f64>,
+    /// `k_rw` at the end of the first imbibition.
+    pub krw_at_snr: Option<f64>,
+    /// `k_rn` at the end of primary drainage.
+    pub krn_at_swi: Option<f64>,
+    /// Amott water index.
+    pub amott_water: Option<f64>,
+    /// Trapped ganglia.
+    pub ganglia: Option<usize>,
+    /// Curves of every process.
+    pub curves: Vec<CaseCurve>,
+    /// Warnings of the run.
+    pub warnings: Vec<String>,
+}
+
+impl CaseResult {
+    /// Condenses a run.
+    pub fn from_run(case: Case, r: &RunResults) -> CaseResult {
+        let fin = |x: f64| x.is_finite().then_some(x);
+        CaseResult {
+            sni: r.sni,
+            snr: r.snr,
+            swi: r.end_points.swi,
+            krw_at_snr: r.end_points.krw_at_snr,
+            krn_at_swi: r.end_points.krn_at_swi,
+            amott_water: r.wettability_indices.and_then(|w| fin(w.amott_water)),
+            ganglia: r.ganglion_stats.as_ref().map(|g| g.count),
+            curves: r
+                .outcomes
+                .iter()
+                .map(|o| CaseCurve {
+                    kind: o.kind,
+                    pc_pa: o.points.iter().map(|p| p.pc_pa).collect(),
+                    sw: o.points.iter().map(|p| p.saturation.sw).collect(),
+                    krw: o.points.iter().map(|p| p.flow.map(|f| f.krw)).collect(),
+                    krn: o.points.iter().map(|p| p.flow.map(|f| f.krn)).collect(),
+                })
+                .collect(),
+            warnings: r.warnings.clone(),
+            case,
+        }
+    }
+}
+
+/// Mean, standard deviation and the 5th–95th percentile band of a sample.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct Spread {
+    /// Sample size.
+    pub n: usize,
+    /// Mean.
+    pub mean: f64,
+    /// Standard deviation (n − 1 in the denominator; 0 for one value).
+    pub std: f64,
+    /// 5th percentile (linear interpolation between order statistics).
+    pub p05: f64,
+    /// 95th percentile.
+    pub p95: f64,
+}
+
+impl Spread {
+    /// The spread of the finite values of `v` (`None` when there are none).
+    pub fn of(v: &[f64]) -> Option<Spread> {
+        let mut x: Vec<f64> = v.iter().copied().filter(|x| x.is_finite()).collect();
+        if x.is_empty() {
+            return None;
+        }
+        x.sort_by(f64::total_cmp);
+        let n = x.len();
+        let mean = x.iter().sum::<f64>() / n as f64;
+        let var = if n > 1 {
+            x.iter().map(|a| (a - mean).powi(2)).sum::<f64>() / (n - 1) as f64
+        } else {
+            0.0
+        };
+        let q = |p: f64| {
+            let h = p * (n - 1) as f64;
+            let lo = h.floor() as usize;
+            let hi = h.ceil() as usize;
+            x[lo] + (h - lo as f64) * (x[hi] - x[lo])
+        };
+        Some(Spread {
+            n,
+            mean,
+            std: var.sqrt(),
+            p05: q(0.05),
+            p95: q(0.95),
+        })
+    }
+}
+
+/// One point of an initial–residual curve.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct TrappingPoint {
+    /// Target initial water saturation.
+    pub initial_water_saturation: Option<f64>,
+    /// Initial non-aqueous saturation over realisations.
+    pub sni: Option<Spread>,
+    /// Residual non-aqueous saturation over realisations.
+    pub snr: Option<Spread>,
+}
+
+/// Statistics of one parameter combination.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct GroupSummary {
+    /// Group index.
+    pub group: usize,
+    /// Parameter values of the group.
+    pub parameters: Vec<(String, String)>,
+    /// Number of finished cases.
+    pub cases: usize,
+    /// The initial–residual curve, one point per initial saturation.
+    pub trapping_curve: Vec<TrappingPoint>,
+    /// Land coefficient by least squares of `1/S_nr − 1/S_ni` over every
+    /// case of the group (Land 1968; saturations as fractions of the pore
+    /// volume).
+    pub land_coefficient: Option<f64>,
+    /// RMS of the Land fit in `S_nr`.
+    pub land_rmse_snr: Option<f64>,
+    /// Residual saturation over all cases of the group.
+    pub snr: Option<Spread>,
+    /// `k_rw` at `S_nr` over all cases.
+    pub krw_at_snr: Option<Spread>,
+    /// Amott water index over all cases.
+    pub amott_water: Option<Spread>,
+}
+
+/// Everything a sweep produced.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct SweepSummary {
+    /// Number of cases in the sweep.
+    pub cases_total: usize,
+    /// Cases with results.
+    pub cases_done: usize,
+    /// Land coefficient of the first group (the headline number).
+    pub land_coefficient: Option<f64>,
+    /// Per parameter combination.
+    pub groups: Vec<GroupSummary>,
+}
+
+/// Statistics of finished cases (any order; sorted by case index first).
+pub fn summarise(total: usize, results: &[CaseResult]) -> SweepSummary {
+    let mut by_group: BTreeMap<usize, Vec<&CaseResult>> = BTreeMap::new();
+    let mut sorted: Vec<&CaseResult> = results.iter().collect();
+    sorted.sort_by_key(|r| r.case.index);
+    for r in &sorted {
+        by_group.entry(r.case.group).or_default().push(r);
+    }
+    let mut groups = Vec::new();
+    for (g, rs) in by_group {
+        let mut by_swi: BTreeMap<u64, Vec<&CaseResult>> = BTreeMap::new();
+        for r in &rs {
+            let k = r.case.initial_water_saturation.map_or(u64::MAX, |s| (s * 1e9).round() as u64);
+            by_swi.entry(k).or_default().push(r);
+        }
+        let mut curve = Vec::new();
+        for (_, cs) in by_swi.iter().rev() {
+            let sni: Vec<f64> = cs.iter().filter_map(|r| r.sni).collect();
+            let snr: Vec<f64> = cs.iter().filter_map(|r| r.snr).collect();
+            curve.push(TrappingPoint {
+                initial_water_saturation: cs[0].case.initial_water_saturation,
+                sni: Spread::of(&sni),
+                snr: Spread::of(&snr),
+            });
+        }
+        let (sni, snr): (Vec<f64>, Vec<f64>) = rs
+            .iter()
+            .filter_map(|r| Some((r.sni?, r.snr?)))
+            .filter(|(i, r)| *r > 0.0 && r <= i)
+            .unzip();
+        let land = if sni.len() >= 2 {
+            fit_land(&sni, &snr, LandMethod::Unweighted, LandNormalisation::PoreVolume).ok()
+        } else {
+            None
+        };
+        let pick = |f: &dyn Fn(&CaseResult) -> Option<f64>| {
+            Spread::of(&rs.iter().filter_map(|r| f(r)).collect::<Vec<_>>())
+        };
+        groups.push(GroupSummary {
+            group: g,
+            parameters: rs[0].case.parameters.clone(),
+            cases: rs.len(),
+            trapping_curve: curve,
+            land_coefficient: land.map(|l| l.c),
+            land_rmse_snr: land.map(|l| l.rmse_snr),
+            snr: pick(&|r| r.snr),
+            krw_at_snr: pick(&|r| r.krw_at_snr),
+            amott_water: pick(&|r| r.amott_water),
+        });
+    }
+    SweepSummary {
+        cases_total: total,
+        cases_done: results.len(),
+        land_coefficient: groups.first().and_then(|g| g.land_coefficient),
+        groups,
+    }
+}
+
+/// A one-line description of a case (for listings).
+pub fn describe(case: &Case) -> String {
+    let mut parts: Vec<String> = case.parameters.iter().map(|(p, v)| format!("{p} = {v}")).collect();
+    if let Some(s) = case.initial_water_saturation {
+        parts.push(format!("initial Sw = {s}"));
+    }
+    parts.push(format!("realisation {}", case.realisation));
+    parts.join(", ")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const TEXT: &str = r#"
+network = "net"
+seed = 10
+[wettability]
+receding_contact_angle_deg = [0.0, 10.0]
+advancing_contact_angle_deg = [30.0, 50.0]
+[[process]]
+kind = "drainage"
+until_pc_pa = 1.0e4
+[[process]]
+kind = "imbibition"
+until_pc_pa = -1.0e4
+[sweep]
+initial_water_saturations = [0.8, 0.4]
+realisations = 3
+[sweep.parameters]
+"wettability.advancing_contact_angle_deg" = [[20.0, 40.0], [50.0, 70.0]]
+"#;
+
+    #[test]
+    fn cases_are_the_product_in_nesting_order() {
+        let s = SweepStudy::parse(TEXT).unwrap();
+        let cases = s.cases();
+        assert_eq!(cases.len(), 2 * 2 * 3);
+        assert_eq!(cases[0].realisation, 0);
+        assert_eq!(cases[1].realisation, 1);
+        assert_eq!(cases[3].initial_water_saturation, Some(0.4));
+        assert_eq!(cases[6].group, 1);
+        let st = cases[7].study();
+        assert_eq!(st.seed, 11);
+        assert_eq!(st.processes[0].stop, StopAt::Sw(0.8));
+        assert_eq!(st.wettability.advancing_contact_angle_deg, [50.0, 70.0]);
+        assert!(!st.flow.relative_permeability);
+        // Same text, same hash; different cases differ.
+        assert_eq!(cases[7].study_hash, s.cases()[7].study_hash);
+        assert_ne!(cases[7].study_hash, cases[8].study_hash);
+    }
+
+    #[test]
+    fn bad_sweep_values_are_refused_with_the_key() {
+        let bad = TEXT.replace("[0.8, 0.4]", "[0.8, 1.4]");
+        let e = SweepStudy::parse(&bad).unwrap_err();
+        assert_eq!(e.0[0].key, "sweep.initial_water_saturations");
+        let bad = TEXT.replace("[[20.0, 40.0], [50.0, 70.0]]", "[[20.0, 400.0]]");
+        let e = SweepStudy::parse(&bad).unwrap_err();
+        assert!(e.to_string().contains("advancing_contact_angle_deg"), "{e}");
+    }
+
+    #[test]
+    fn spread_of_known_values() {
+        // Direct: mean 2.5, sample std sqrt(5/3), 5th/95th percentiles by
+        // linear interpolation between order statistics: 1.15, 3.85.
+        let s = Spread::of(&[4.0, 1.0, 3.0, 2.0]).unwrap();
+        assert!((s.mean - 2.5).abs() < 1e-15);
+        assert!((s.std - (5.0f64 / 3.0).sqrt()).abs() < 1e-15);
+        assert!((s.p05 - 1.15).abs() < 1e-12 && (s.p95 - 3.85).abs() < 1e-12);
+    }
+}
