@@ -27,9 +27,9 @@ use serde::{Deserialize, Serialize};
 
 use crate::fit::{LandMethod, LandNormalisation, fit_land};
 use crate::simulation::RunResults;
-use crate::study::{Study, StudyError, StudyErrors};
 #[cfg(test)]
 use crate::study::StopAt;
+use crate::study::{Study, StudyError, StudyErrors};
 
 /// The `[sweep]` table.
 #[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
@@ -115,7 +115,9 @@ fn set_path(table: &mut toml::Table, path: &str, value: toml::Value) -> Result<(
                 let item = arr
                     .get_mut(n.wrapping_sub(1))
                     .ok_or_else(|| format!("`{name}[{n}]` does not exist (1-based)"))?;
-                let t = item.as_table_mut().ok_or_else(|| format!("`{name}[{n}]` is not a table"))?;
+                let t = item
+                    .as_table_mut()
+                    .ok_or_else(|| format!("`{name}[{n}]` is not a table"))?;
                 if last {
                     return Err(format!("`{path}` names a table, not a value"));
                 }
@@ -152,7 +154,9 @@ impl SweepStudy {
         let mut base: toml::Table = text.parse().map_err(|e: toml::de::Error| {
             StudyErrors(vec![StudyError {
                 key: String::new(),
-                line: e.span().map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1),
+                line: e
+                    .span()
+                    .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1),
                 message: e.message().trim().to_string(),
             }])
         })?;
@@ -162,7 +166,11 @@ impl SweepStudy {
             // Re-point lines at the original text.
             for e in &mut es.0 {
                 let short = e.key.rsplit('.').next().unwrap_or(&e.key).to_string();
-                e.line = if short.is_empty() { e.line } else { line_of(text, &short) };
+                e.line = if short.is_empty() {
+                    e.line
+                } else {
+                    line_of(text, &short)
+                };
             }
             es
         })?;
@@ -179,9 +187,9 @@ impl SweepStudy {
         for (k, v) in sweep {
             match k.as_str() {
                 "initial_water_saturations" => {
-                    let arr = v
-                        .as_array()
-                        .ok_or_else(|| err(text, "sweep.initial_water_saturations", "must be a list"))?;
+                    let arr = v.as_array().ok_or_else(|| {
+                        err(text, "sweep.initial_water_saturations", "must be a list")
+                    })?;
                     for x in arr {
                         let f = x.as_float().or_else(|| x.as_integer().map(|i| i as f64));
                         match f {
@@ -197,9 +205,16 @@ impl SweepStudy {
                     }
                 }
                 "initial_saturation_points" => {
-                    let n = v.as_integer().filter(|n| (2..=200).contains(n)).ok_or_else(|| {
-                        err(text, "sweep.initial_saturation_points", "must be a whole number in [2, 200]")
-                    })?;
+                    let n = v
+                        .as_integer()
+                        .filter(|n| (2..=200).contains(n))
+                        .ok_or_else(|| {
+                            err(
+                                text,
+                                "sweep.initial_saturation_points",
+                                "must be a whole number in [2, 200]",
+                            )
+                        })?;
                     // Evenly spaced in (0, 1): 0.9 … 0.1 for n = 9.
                     spec.initial_water_saturations =
                         (1..=n).map(|k| 1.0 - k as f64 / (n + 1) as f64).collect();
@@ -208,21 +223,34 @@ impl SweepStudy {
                     spec.realisations = v
                         .as_integer()
                         .filter(|n| (1..=10_000).contains(n))
-                        .ok_or_else(|| err(text, "sweep.realisations", "must be a whole number in [1, 10000]"))?
-                        as usize;
+                        .ok_or_else(|| {
+                            err(
+                                text,
+                                "sweep.realisations",
+                                "must be a whole number in [1, 10000]",
+                            )
+                        })? as usize;
                 }
                 "relative_permeability" => {
-                    spec.relative_permeability = v
-                        .as_bool()
-                        .ok_or_else(|| err(text, "sweep.relative_permeability", "must be true or false"))?;
+                    spec.relative_permeability = v.as_bool().ok_or_else(|| {
+                        err(text, "sweep.relative_permeability", "must be true or false")
+                    })?;
                 }
                 "parameters" => {
-                    let t = v
-                        .as_table()
-                        .ok_or_else(|| err(text, "sweep.parameters", "must be a table of path = [values]"))?;
+                    let t = v.as_table().ok_or_else(|| {
+                        err(
+                            text,
+                            "sweep.parameters",
+                            "must be a table of path = [values]",
+                        )
+                    })?;
                     for (path, vals) in t {
                         let list = vals.as_array().filter(|a| !a.is_empty()).ok_or_else(|| {
-                            err(text, &format!("sweep.parameters.{path}"), "must be a non-empty list of values")
+                            err(
+                                text,
+                                &format!("sweep.parameters.{path}"),
+                                "must be a non-empty list of values",
+                            )
                         })?;
                         spec.parameters.push((path.clone(), list.clone()));
                     }
@@ -275,7 +303,11 @@ impl SweepStudy {
         let swis: Vec<Option<f64>> = if self.spec.initial_water_saturations.is_empty() {
             vec![None]
         } else {
-            self.spec.initial_water_saturations.iter().map(|&s| Some(s)).collect()
+            self.spec
+                .initial_water_saturations
+                .iter()
+                .map(|&s| Some(s))
+                .collect()
         };
         let base_seed = self.study.seed;
         for (group, combo) in self.combinations().into_iter().enumerate() {
@@ -296,12 +328,20 @@ impl SweepStudy {
                         p.remove("until_pc_pa");
                         p.insert("until_sw".into(), toml::Value::Float(s));
                     }
-                    t.insert("seed".into(), toml::Value::Integer((base_seed + r as u64) as i64));
+                    t.insert(
+                        "seed".into(),
+                        toml::Value::Integer((base_seed + r as u64) as i64),
+                    );
                     if !self.spec.relative_permeability {
-                        set_path(&mut t, "flow.relative_permeability", toml::Value::Boolean(false))
-                            .map_err(|m| err(original, "flow", m))?;
+                        set_path(
+                            &mut t,
+                            "flow.relative_permeability",
+                            toml::Value::Boolean(false),
+                        )
+                        .map_err(|m| err(original, "flow", m))?;
                     }
-                    let study_text = toml::to_string(&t).map_err(|e| err(original, "", e.to_string()))?;
+                    let study_text =
+                        toml::to_string(&t).map_err(|e| err(original, "", e.to_string()))?;
                     Study::parse(&study_text).map_err(|es| {
                         let mut es = es;
                         for e in &mut es.0 {
@@ -312,7 +352,10 @@ impl SweepStudy {
                     })?;
                     out.push(Case {
                         index: out.len(),
-                        parameters: combo.iter().map(|(p, v)| (p.clone(), v.to_string())).collect(),
+                        parameters: combo
+                            .iter()
+                            .map(|(p, v)| (p.clone(), v.to_string()))
+                            .collect(),
                         initial_water_saturation: swi,
                         realisation: r,
                         group,
@@ -514,7 +557,10 @@ pub fn summarise(total: usize, results: &[CaseResult]) -> SweepSummary {
     for (g, rs) in by_group {
         let mut by_swi: BTreeMap<u64, Vec<&CaseResult>> = BTreeMap::new();
         for r in &rs {
-            let k = r.case.initial_water_saturation.map_or(u64::MAX, |s| (s * 1e9).round() as u64);
+            let k = r
+                .case
+                .initial_water_saturation
+                .map_or(u64::MAX, |s| (s * 1e9).round() as u64);
             by_swi.entry(k).or_default().push(r);
         }
         let mut curve = Vec::new();
@@ -533,7 +579,13 @@ pub fn summarise(total: usize, results: &[CaseResult]) -> SweepSummary {
             .filter(|(i, r)| *r > 0.0 && r <= i)
             .unzip();
         let land = if sni.len() >= 2 {
-            fit_land(&sni, &snr, LandMethod::Unweighted, LandNormalisation::PoreVolume).ok()
+            fit_land(
+                &sni,
+                &snr,
+                LandMethod::Unweighted,
+                LandNormalisation::PoreVolume,
+            )
+            .ok()
         } else {
             None
         };
@@ -562,7 +614,11 @@ pub fn summarise(total: usize, results: &[CaseResult]) -> SweepSummary {
 
 /// A one-line description of a case (for listings).
 pub fn describe(case: &Case) -> String {
-    let mut parts: Vec<String> = case.parameters.iter().map(|(p, v)| format!("{p} = {v}")).collect();
+    let mut parts: Vec<String> = case
+        .parameters
+        .iter()
+        .map(|(p, v)| format!("{p} = {v}"))
+        .collect();
     if let Some(s) = case.initial_water_saturation {
         parts.push(format!("initial Sw = {s}"));
     }

@@ -90,7 +90,7 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         (spec.nx, spec.ny, spec.nz) = parse_size(s)?;
     }
     if let Some(s) = args.spacing_um {
-        spec.spacing_m = s * 1e-6;
+        spec.spacing_m = s / 1e6;
     }
     if let Some(z) = args.coordination {
         spec.target_coordination = z;

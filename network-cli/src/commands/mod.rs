@@ -35,7 +35,10 @@ pub fn study_network(
     progress: &Bars,
 ) -> Result<(network_core::Network, String)> {
     let path = run::network_path(study_path, study);
-    let net = if path.extension().is_some_and(|e| e.eq_ignore_ascii_case("toml")) {
+    let net = if path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("toml"))
+    {
         let mut spec = generate::read_spec(&path)?;
         spec.seed += realisation as u64;
         network_core::generate::generate(&spec, &network_core::progress::Silent)

@@ -81,7 +81,10 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     let text = std::fs::read_to_string(&args.study)
         .with_context(|| format!("cannot read study {}", args.study.display()))?;
     let sweep = SweepStudy::parse(&text).map_err(|e| {
-        let lines: Vec<String> = e.0.iter().map(|x| format!("{}: {x}", args.study.display())).collect();
+        let lines: Vec<String> =
+            e.0.iter()
+                .map(|x| format!("{}: {x}", args.study.display()))
+                .collect();
         anyhow::anyhow!("the sweep was refused:\n  {}", lines.join("\n  "))
     })?;
     let cases = sweep.cases();
@@ -95,7 +98,8 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         .with_context(|| format!("cannot create {}", args.output.display()))?;
     let listing = serde_json::to_string_pretty(&cases)? + "\n";
     let lp = args.output.join("sweep-cases.json");
-    write_atomic(&lp, listing.as_bytes()).with_context(|| format!("cannot write {}", lp.display()))?;
+    write_atomic(&lp, listing.as_bytes())
+        .with_context(|| format!("cannot write {}", lp.display()))?;
     if let Some(k) = args.case {
         let Some(c) = cases.get(k) else {
             bail!("--case {k}: the sweep has cases 0 to {}", cases.len() - 1);
@@ -104,7 +108,10 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         progress.note(&format!("case {k} done: {}", describe(c)));
         return Ok(());
     }
-    let todo: Vec<&Case> = cases.iter().filter(|c| read_case(&args.output, c).is_none()).collect();
+    let todo: Vec<&Case> = cases
+        .iter()
+        .filter(|c| read_case(&args.output, c).is_none())
+        .collect();
     progress.note(&format!(
         "{} cases, {} already finished, {} to run",
         cases.len(),
@@ -118,7 +125,10 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     for chunk in todo.chunks(threads) {
         chunk.par_iter().for_each(|c| {
             if let Err(e) = run_case(&args.study, &args.output, c) {
-                failures.lock().expect("lock").push(format!("case {}: {e:#}", c.index));
+                failures
+                    .lock()
+                    .expect("lock")
+                    .push(format!("case {}: {e:#}", c.index));
             }
             progress.advance(1);
         });
@@ -148,7 +158,8 @@ fn trapping_csv(s: &SweepSummary) -> String {
             out += &format!(
                 "{},{},{},{},{},{},{},{},{}\n",
                 g.group,
-                p.initial_water_saturation.map_or(String::new(), |x| x.to_string()),
+                p.initial_water_saturation
+                    .map_or(String::new(), |x| x.to_string()),
                 i.mean,
                 i.std,
                 r.mean,
@@ -163,10 +174,17 @@ fn trapping_csv(s: &SweepSummary) -> String {
 }
 
 fn cases_csv(results: &[CaseResult]) -> String {
-    let mut out = String::from("case,group,realisation,initial_water_saturation,sni,snr,swi,krw_at_snr,amott_water,parameters\n");
+    let mut out = String::from(
+        "case,group,realisation,initial_water_saturation,sni,snr,swi,krw_at_snr,amott_water,parameters\n",
+    );
     let o = |x: Option<f64>| x.map_or(String::new(), |v| v.to_string());
     for r in results {
-        let params: Vec<String> = r.case.parameters.iter().map(|(p, v)| format!("{p}={v}")).collect();
+        let params: Vec<String> = r
+            .case
+            .parameters
+            .iter()
+            .map(|(p, v)| format!("{p}={v}"))
+            .collect();
         out += &format!(
             "{},{},{},{},{},{},{},{},{},\"{}\"\n",
             r.case.index,
@@ -186,9 +204,10 @@ fn cases_csv(results: &[CaseResult]) -> String {
 
 fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
     let lp = out.join("sweep-cases.json");
-    let text = std::fs::read_to_string(&lp).with_context(|| format!("cannot read {}", lp.display()))?;
-    let cases: Vec<Case> =
-        serde_json::from_str(&text).with_context(|| format!("{} is not a sweep case list", lp.display()))?;
+    let text =
+        std::fs::read_to_string(&lp).with_context(|| format!("cannot read {}", lp.display()))?;
+    let cases: Vec<Case> = serde_json::from_str(&text)
+        .with_context(|| format!("{} is not a sweep case list", lp.display()))?;
     let mut results = Vec::new();
     let mut missing = Vec::new();
     for c in &cases {
@@ -199,25 +218,42 @@ fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
     }
     let summary = summarise(cases.len(), &results);
     for (name, body) in [
-        ("summary.json", serde_json::to_string_pretty(&summary)? + "\n"),
+        (
+            "summary.json",
+            serde_json::to_string_pretty(&summary)? + "\n",
+        ),
         ("trapping-curve.csv", trapping_csv(&summary)),
         ("cases.csv", cases_csv(&results)),
     ] {
         let p = out.join(name);
-        write_atomic(&p, body.as_bytes()).with_context(|| format!("cannot write {}", p.display()))?;
+        write_atomic(&p, body.as_bytes())
+            .with_context(|| format!("cannot write {}", p.display()))?;
     }
     if !missing.is_empty() {
-        progress.note(&format!("{} case(s) not finished yet: {:?}", missing.len(), missing));
+        progress.note(&format!(
+            "{} case(s) not finished yet: {:?}",
+            missing.len(),
+            missing
+        ));
     }
     if !progress.quiet() {
         for g in &summary.groups {
-            let params: Vec<String> = g.parameters.iter().map(|(p, v)| format!("{p} = {v}")).collect();
+            let params: Vec<String> = g
+                .parameters
+                .iter()
+                .map(|(p, v)| format!("{p} = {v}"))
+                .collect();
             eprintln!(
                 "group {} ({}): {} cases, Land C {}",
                 g.group,
-                if params.is_empty() { "base".to_string() } else { params.join(", ") },
+                if params.is_empty() {
+                    "base".to_string()
+                } else {
+                    params.join(", ")
+                },
                 g.cases,
-                g.land_coefficient.map_or("n/a".into(), |c| format!("{c:.3}"))
+                g.land_coefficient
+                    .map_or("n/a".into(), |c| format!("{c:.3}"))
             );
         }
         eprintln!("results in {}", out.display());

@@ -1,0 +1,388 @@
+//! The `ganglion` program end to end, on the bundled sample networks.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn root() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .parent()
+        .unwrap()
+        .to_path_buf()
+}
+
+fn ganglion(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_ganglion"))
+        .args(args)
+        .current_dir(root())
+        .output()
+        .expect("ganglion runs")
+}
+
+fn ok(args: &[&str]) -> Output {
+    let o = ganglion(args);
+    assert!(
+        o.status.success(),
+        "ganglion {args:?} failed:\n{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    o
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("ganglion-cli-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn s(p: &Path) -> &str {
+    p.to_str().unwrap()
+}
+
+fn no_temp_files(dir: &Path) {
+    for e in walk(dir) {
+        let name = e.file_name().unwrap().to_string_lossy().to_string();
+        assert!(
+            !name.contains(".tmp") && !name.starts_with('.'),
+            "leftover {}",
+            e.display()
+        );
+    }
+}
+
+fn walk(dir: &Path) -> Vec<PathBuf> {
+    let mut out = Vec::new();
+    for e in std::fs::read_dir(dir).unwrap() {
+        let p = e.unwrap().path();
+        if p.is_dir() {
+            out.extend(walk(&p));
+        } else {
+            out.push(p);
+        }
+    }
+    out
+}
+
+#[test]
+fn generate_gives_identical_bytes_with_one_and_two_threads() {
+    let d = scratch("gen");
+    for t in ["1", "2"] {
+        ok(&[
+            "--quiet",
+            "--threads",
+            t,
+            "generate",
+            "-o",
+            s(&d.join(format!("net{t}"))),
+            "--size",
+            "12x10x9",
+            "--seed",
+            "5",
+        ]);
+        ok(&[
+            "--quiet",
+            "--threads",
+            t,
+            "generate",
+            "-o",
+            s(&d.join(format!("net{t}.gnet"))),
+            "--size",
+            "12x10x9",
+            "--seed",
+            "5",
+        ]);
+    }
+    for f in ["pores.csv", "throats.csv", "network.toml"] {
+        let a = std::fs::read(d.join("net1").join(f)).unwrap();
+        let b = std::fs::read(d.join("net2").join(f)).unwrap();
+        assert_eq!(a, b, "{f} differs between 1 and 2 threads");
+    }
+    assert_eq!(
+        std::fs::read(d.join("net1.gnet")).unwrap(),
+        std::fs::read(d.join("net2.gnet")).unwrap()
+    );
+    no_temp_files(&d);
+}
+
+#[test]
+fn inspect_and_perm_print_the_documented_json_keys() {
+    let o = ok(&["inspect", "sample-networks/tiny-lattice", "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    for k in [
+        "pores",
+        "throats",
+        "porosity",
+        "mean_coordination",
+        "spanning",
+        "isolated_pores",
+    ] {
+        assert!(!v[k].is_null(), "inspect --json lacks {k}");
+    }
+    assert_eq!(v["pores"], 216);
+    let o = ok(&[
+        "perm",
+        "sample-networks/tiny-lattice",
+        "--axis",
+        "x",
+        "--json",
+    ]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    for k in [
+        "permeability_m2",
+        "permeability_md",
+        "porosity",
+        "formation_factor",
+        "flow_imbalance",
+        "solver_iterations",
+    ] {
+        assert!(!v[k].is_null(), "perm --json lacks {k}");
+    }
+    assert!(v["flow_imbalance"].as_f64().unwrap() < 1e-8);
+}
+
+#[test]
+fn convert_round_trips_a_network_bit_for_bit() {
+    let d = scratch("convert");
+    ok(&[
+        "--quiet",
+        "convert",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&d.join("t.gnet")),
+    ]);
+    ok(&[
+        "--quiet",
+        "convert",
+        s(&d.join("t.gnet")),
+        "-o",
+        s(&d.join("back")),
+    ]);
+    for f in ["pores.csv", "throats.csv"] {
+        let a = std::fs::read(root().join("sample-networks/tiny-lattice").join(f)).unwrap();
+        let b = std::fs::read(d.join("back").join(f)).unwrap();
+        assert_eq!(a, b, "{f}");
+    }
+}
+
+fn write_study(dir: &Path, body: &str) -> PathBuf {
+    let p = dir.join("study.toml");
+    let net = root().join("sample-networks/tiny-lattice");
+    std::fs::write(&p, format!("network = {:?}\n{body}", s(&net))).unwrap();
+    p
+}
+
+const SMALL_STUDY: &str = r#"
+seed = 3
+[wettability]
+receding_contact_angle_deg = [0.0, 10.0]
+advancing_contact_angle_deg = [30.0, 50.0]
+[[process]]
+kind = "drainage"
+until_sw = 0.2
+pc_steps = 20
+kr_points = 6
+[[process]]
+kind = "imbibition"
+until_pc_pa = -2.0e4
+kr_points = 6
+"#;
+
+#[test]
+fn run_writes_summary_curves_and_ganglia() {
+    let d = scratch("run");
+    let st = write_study(&d, SMALL_STUDY);
+    let out = d.join("out");
+    ok(&["--quiet", "run", s(&st), "-o", s(&out)]);
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap()).unwrap();
+    for k in [
+        "sni",
+        "snr",
+        "pore_volume_m3",
+        "processes",
+        "study",
+        "program",
+        "network",
+        "end_points",
+        "fits",
+    ] {
+        assert!(!v[k].is_null(), "summary lacks {k}");
+    }
+    assert!(!v["network"]["hash"].as_str().unwrap().is_empty());
+    let p0 = &v["processes"][0];
+    for k in ["kind", "final_pc_pa", "final_sw", "breakthrough_pc_pa"] {
+        assert!(p0.get(k).is_some(), "process lacks {k}");
+    }
+    assert!((p0["final_sw"].as_f64().unwrap() - 0.2).abs() < 0.02);
+    let curves = std::fs::read_to_string(out.join("curves.csv")).unwrap();
+    let header: Vec<&str> = curves.lines().next().unwrap().split(',').collect();
+    for c in ["process", "step", "pc_pa", "sw", "krw", "krn", "ri"] {
+        assert!(header.contains(&c), "curves.csv lacks {c}");
+    }
+    let ganglia = std::fs::read_to_string(out.join("ganglia.csv")).unwrap();
+    assert!(ganglia.starts_with("id,volume_m3,pores,throats,"));
+    no_temp_files(&out);
+}
+
+#[test]
+fn bad_inputs_exit_with_one_and_name_the_problem() {
+    let d = scratch("bad");
+    // A network whose pores.csv has a negative radius on line 3.
+    let net = d.join("net");
+    ok(&[
+        "--quiet",
+        "convert",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&net),
+    ]);
+    let pores = std::fs::read_to_string(net.join("pores.csv")).unwrap();
+    let mut lines: Vec<String> = pores.lines().map(str::to_owned).collect();
+    let header: Vec<&str> = lines[0].split(',').collect();
+    let col = header.iter().position(|&h| h == "radius_m").unwrap();
+    let mut f: Vec<String> = lines[2].split(',').map(str::to_owned).collect();
+    f[col] = "-1e-6".into();
+    lines[2] = f.join(",");
+    std::fs::write(net.join("pores.csv"), lines.join("\n") + "\n").unwrap();
+    let o = ganglion(&["inspect", s(&net)]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("pores.csv:3") && err.contains("radius_m"),
+        "{err}"
+    );
+    // A study with a negative tension.
+    let st = write_study(
+        &d,
+        &SMALL_STUDY.replace(
+            "seed = 3",
+            "seed = 3\n[fluids]\ninterfacial_tension_n_per_m = -0.1",
+        ),
+    );
+    let o = ganglion(&["run", s(&st), "-o", s(&d.join("out"))]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("fluids.interfacial_tension_n_per_m") && err.contains("line 5"),
+        "{err}"
+    );
+    assert!(
+        !d.join("out").exists(),
+        "a refused study left output behind"
+    );
+    // A usage error.
+    let o = ganglion(&["inspect"]);
+    assert_eq!(o.status.code(), Some(2));
+    let o = ganglion(&["frobnicate"]);
+    assert_eq!(o.status.code(), Some(2));
+}
+
+const SWEEP: &str = r#"
+seed = 3
+[wettability]
+receding_contact_angle_deg = [0.0, 10.0]
+advancing_contact_angle_deg = [30.0, 50.0]
+[boundary]
+imbibition_faces = "both"
+[[process]]
+kind = "drainage"
+until_pc_pa = 1.0e5
+[[process]]
+kind = "imbibition"
+until_pc_pa = -1.0e5
+[sweep]
+initial_water_saturations = [0.8, 0.5, 0.2]
+realisations = 2
+"#;
+
+#[test]
+fn sweep_resumes_and_merges_cases_run_one_by_one_in_any_order() {
+    let d = scratch("sweep");
+    let st = write_study(&d, SWEEP);
+    // Reference: a whole sweep with two threads and one with one thread.
+    let full = d.join("full");
+    ok(&["--quiet", "--threads", "2", "sweep", s(&st), "-o", s(&full)]);
+    let one = d.join("one");
+    ok(&["--quiet", "--threads", "1", "sweep", s(&st), "-o", s(&one)]);
+    let reference = std::fs::read_to_string(full.join("summary.json")).unwrap();
+    assert_eq!(
+        reference,
+        std::fs::read_to_string(one.join("summary.json")).unwrap()
+    );
+    // Cases one at a time, backwards, then collect.
+    let parts = d.join("parts");
+    let list = ok(&["sweep", s(&st), "-o", s(&parts), "--list-cases"]);
+    let n = String::from_utf8_lossy(&list.stdout).lines().count();
+    assert_eq!(n, 6);
+    for k in (0..n).rev() {
+        ok(&[
+            "--quiet",
+            "sweep",
+            s(&st),
+            "-o",
+            s(&parts),
+            "--case",
+            &k.to_string(),
+        ]);
+    }
+    ok(&["--quiet", "collect", s(&parts)]);
+    assert_eq!(
+        reference,
+        std::fs::read_to_string(parts.join("summary.json")).unwrap()
+    );
+    // An interrupted sweep (two cases done) restarted: only the rest runs.
+    let resumed = d.join("resumed");
+    ok(&["--quiet", "sweep", s(&st), "-o", s(&resumed), "--case", "1"]);
+    ok(&["--quiet", "sweep", s(&st), "-o", s(&resumed), "--case", "4"]);
+    let before = std::fs::metadata(resumed.join("cases/case-00001.json"))
+        .unwrap()
+        .modified()
+        .unwrap();
+    let o = ok(&["sweep", s(&st), "-o", s(&resumed)]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("6 cases, 2 already finished, 4 to run"),
+        "{err}"
+    );
+    let after = std::fs::metadata(resumed.join("cases/case-00001.json"))
+        .unwrap()
+        .modified()
+        .unwrap();
+    assert_eq!(before, after, "a finished case was recomputed");
+    assert_eq!(
+        reference,
+        std::fs::read_to_string(resumed.join("summary.json")).unwrap()
+    );
+    no_temp_files(&resumed);
+}
+
+#[test]
+fn readme_main_command_runs_on_the_bundled_sample() {
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    let line = readme
+        .lines()
+        .find(|l| {
+            l.trim_start()
+                .starts_with("cargo run --release -p network-cli -- run ")
+        })
+        .expect("README names the main command");
+    let args: Vec<&str> = line
+        .split("-- ")
+        .nth(1)
+        .unwrap()
+        .split_whitespace()
+        .collect();
+    // Same command, into a scratch folder.
+    let d = scratch("readme");
+    let mut a: Vec<String> = args.iter().map(|x| x.to_string()).collect();
+    let o = a
+        .iter()
+        .position(|x| x == "-o")
+        .expect("-o in the main command");
+    a[o + 1] = s(&d.join("out")).to_string();
+    let mut full = vec!["--quiet".to_string()];
+    full.extend(a);
+    let refs: Vec<&str> = full.iter().map(String::as_str).collect();
+    ok(&refs);
+    assert!(d.join("out/summary.json").exists());
+}

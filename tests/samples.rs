@@ -1,0 +1,157 @@
+//! The bundled sample networks and demo studies.
+
+use std::path::{Path, PathBuf};
+
+use network_core::Axis;
+use network_core::flow::{PermOptions, permeability};
+use network_core::generate::{LatticeSpec, generate};
+use network_core::io::read_network;
+use network_core::progress::Silent;
+use network_core::simulation::run_study;
+use network_core::study::Study;
+use network_core::sweep::{CaseResult, SweepStudy, summarise};
+
+fn root() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .parent()
+        .unwrap()
+        .to_path_buf()
+}
+
+/// The generator parameters of each sample, as in sample-networks/README.md.
+fn sample_specs() -> Vec<(&'static str, &'static str, LatticeSpec)> {
+    let base = LatticeSpec::default();
+    vec![
+        (
+            "kestrel-sandstone",
+            "Kestrel Ridge sandstone (invented)",
+            LatticeSpec {
+                nx: 20,
+                ny: 20,
+                nz: 20,
+                spacing_m: 85e-6,
+                target_coordination: 4.0,
+                seed: 11,
+                ..base.clone()
+            },
+        ),
+        (
+            "saltmere-aquifer",
+            "Saltmere aquifer sandstone (invented)",
+            LatticeSpec {
+                nx: 16,
+                ny: 16,
+                nz: 16,
+                spacing_m: 85e-6,
+                target_coordination: 4.5,
+                clay_fraction: 0.05,
+                seed: 23,
+                ..base.clone()
+            },
+        ),
+        (
+            "tiny-lattice",
+            "tiny lattice",
+            LatticeSpec {
+                nx: 6,
+                ny: 6,
+                nz: 6,
+                spacing_m: 85e-6,
+                target_coordination: 4.0,
+                seed: 3,
+                ..base
+            },
+        ),
+    ]
+}
+
+#[test]
+fn sample_networks_are_what_their_documented_commands_make() {
+    for (dir, name, spec) in sample_specs() {
+        let loaded = read_network(&root().join("sample-networks").join(dir)).expect(dir);
+        assert!(loaded.warnings.is_empty(), "{dir}: {:?}", loaded.warnings);
+        let made = generate(&spec, &Silent).unwrap();
+        let (info, pores, throats) = loaded.network.into_parts();
+        let (_, p2, t2) = made.into_parts();
+        assert_eq!(info.name, name);
+        assert!(
+            pores == p2 && throats == t2,
+            "{dir} differs from its generator command"
+        );
+    }
+}
+
+#[test]
+fn generated_sample_is_isotropic_within_fifteen_percent() {
+    // A statistically isotropic lattice has the same permeability along
+    // every axis up to sampling noise (common practice: ±15 % at 8000 pores).
+    let net = read_network(&root().join("sample-networks/kestrel-sandstone"))
+        .unwrap()
+        .network;
+    let k: Vec<f64> = [Axis::X, Axis::Y, Axis::Z]
+        .iter()
+        .map(|&a| {
+            permeability(&net, a, &PermOptions::default())
+                .unwrap()
+                .permeability_m2
+        })
+        .collect();
+    let (lo, hi) = (
+        k.iter().copied().fold(f64::INFINITY, f64::min),
+        k.iter().copied().fold(0.0, f64::max),
+    );
+    assert!(hi / lo < 1.15, "K = {k:?}");
+}
+
+fn study_path(name: &str) -> PathBuf {
+    root().join("studies").join(name)
+}
+
+fn network_of(study_file: &Path, study: &Study) -> network_core::Network {
+    let p = study_file.parent().unwrap().join(&study.network);
+    read_network(&p).unwrap().network
+}
+
+#[test]
+fn every_demo_study_parses_and_names_an_existing_network() {
+    for entry in std::fs::read_dir(root().join("studies")).unwrap() {
+        let p = entry.unwrap().path();
+        if p.extension().is_some_and(|e| e == "toml") {
+            let text = std::fs::read_to_string(&p).unwrap();
+            let study = Study::parse(&text).unwrap_or_else(|e| panic!("{}: {e}", p.display()));
+            let _ = network_of(&p, &study);
+            if text.contains("[sweep]") {
+                SweepStudy::parse(&text).unwrap_or_else(|e| panic!("{}: {e}", p.display()));
+            }
+        }
+    }
+}
+
+#[test]
+fn water_wet_demo_trapping_curve_rises_with_a_sandstone_land_coefficient() {
+    // Land (1968): the initial–residual curve of a water-wet rock rises
+    // monotonically. Water-wet consolidated sandstones show Land
+    // coefficients of about 1–3 (Pentland et al. 2011, GRL 38:L06401;
+    // Krevor et al. 2015, IJGGC 40:221–237; approximate range).
+    let p = study_path("kestrel-trapping.toml");
+    let text = std::fs::read_to_string(&p).unwrap();
+    let sweep = SweepStudy::parse(&text).unwrap();
+    let net = network_of(&p, &sweep.study);
+    let cases = sweep.cases();
+    let results: Vec<CaseResult> = cases
+        .iter()
+        .map(|c| CaseResult::from_run(c.clone(), &run_study(&net, &c.study(), &Silent)))
+        .collect();
+    let s = summarise(cases.len(), &results);
+    let g = &s.groups[0];
+    let curve: Vec<(f64, f64)> = g
+        .trapping_curve
+        .iter()
+        .map(|t| (t.sni.unwrap().mean, t.snr.unwrap().mean))
+        .collect();
+    for w in curve.windows(2) {
+        assert!(w[1].0 > w[0].0 && w[1].1 > w[0].1, "not rising: {curve:?}");
+    }
+    let c = s.land_coefficient.unwrap();
+    assert!((1.0..=3.0).contains(&c), "Land C = {c} ({curve:?})");
+}
