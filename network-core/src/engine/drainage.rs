@@ -59,8 +59,7 @@ impl Engine<'_> {
         }
         for e in 0..n_e {
             if self.dyn_.connected[e] {
-                let mut nb = Vec::with_capacity(8);
-                self.for_each_neighbour(e, |n| nb.push(n));
+                let nb = self.neighbours(e);
                 for n in nb {
                     self.push_drainage(n);
                 }
@@ -170,32 +169,33 @@ impl Engine<'_> {
             }
         }
         // Reconnect unconnected non-aqueous clusters touched by e.
-        let mut stack = vec![e];
+        let nb = self.neighbours(e);
         let mut reconnected = Vec::new();
-        while let Some(x) = stack.pop() {
-            let before = stack.len();
-            self.reconnect_from(x, &mut stack);
-            reconnected.extend_from_slice(&stack[before..]);
-        }
-        if !reconnected.is_empty() {
+        if nb
+            .iter()
+            .any(|&n| self.dyn_.state.conducts_oil(n) && !self.dyn_.connected[n])
+        {
+            let mut stack = vec![e];
+            while let Some(x) = stack.pop() {
+                let before = stack.len();
+                self.reconnect_from(x, &mut stack);
+                reconnected.extend_from_slice(&stack[before..]);
+            }
             self.dyn_.counts.reconnections += 1;
         }
         // New accessible neighbours.
-        let mut nb = Vec::with_capacity(8);
-        self.for_each_neighbour(e, |n| nb.push(n));
         for &n in &nb {
             self.push_drainage(n);
         }
         for &x in &reconnected {
-            let mut nb2 = Vec::with_capacity(8);
-            self.for_each_neighbour(x, |n| nb2.push(n));
+            let nb2 = self.neighbours(x);
             for n in nb2 {
                 self.push_drainage(n);
             }
         }
         // Water trapping: e no longer passes water unless its corners do.
         if self.wet[e] == 0 {
-            let seeds: Vec<usize> = nb
+            let seeds: super::Neighbours = nb
                 .iter()
                 .copied()
                 .filter(|&n| self.conducts_water(n))

@@ -121,8 +121,7 @@ impl Engine<'_> {
             reach[p] = true;
         }
         while let Some(x) = stack.pop() {
-            let mut nb = Vec::with_capacity(8);
-            self.for_each_neighbour(x, |n| nb.push(n));
+            let nb = self.neighbours(x);
             for n in nb {
                 if !reach[n] && self.conducts_free_oil(n) {
                     reach[n] = true;
@@ -138,8 +137,7 @@ impl Engine<'_> {
                 while k < piece.len() {
                     let x = piece[k] as usize;
                     k += 1;
-                    let mut nb = Vec::with_capacity(8);
-                    self.for_each_neighbour(x, |n| nb.push(n));
+                    let nb = self.neighbours(x);
                     for n in nb {
                         if !reach[n] && self.conducts_free_oil(n) {
                             reach[n] = true;
@@ -345,11 +343,10 @@ impl Engine<'_> {
                 self.queue_layer_collapse(e);
             }
         }
-        let mut nb = Vec::with_capacity(8);
-        self.for_each_neighbour(e, |n| nb.push(n));
+        let nb = self.neighbours(e);
         self.release_water(&nb);
         if !self.dyn_.state.conducts_oil(e) {
-            let seeds: Vec<usize> = nb
+            let seeds: super::Neighbours = nb
                 .iter()
                 .copied()
                 .filter(|&n| self.conducts_free_oil(n))
@@ -381,9 +378,8 @@ impl Engine<'_> {
             self.queue_layer_collapse(e);
             return;
         }
-        let mut nb = Vec::with_capacity(8);
-        self.for_each_neighbour(e, |n| nb.push(n));
-        let seeds: Vec<usize> = nb
+        let nb = self.neighbours(e);
+        let seeds: super::Neighbours = nb
             .iter()
             .copied()
             .filter(|&n| self.conducts_free_oil(n))
@@ -430,8 +426,7 @@ impl Engine<'_> {
         self.dyn_.counts.reconnections += 1;
         let mut released = stack.clone();
         while let Some(x) = stack.pop() {
-            let mut nb = Vec::with_capacity(8);
-            self.for_each_neighbour(x, |n| nb.push(n));
+            let nb = self.neighbours(x);
             for n in nb {
                 let s = &mut self.dyn_.state;
                 if s.water_trapped[n] {
@@ -445,8 +440,8 @@ impl Engine<'_> {
             }
         }
         for x in released {
-            let mut nb = vec![x];
-            self.for_each_neighbour(x, |n| nb.push(n));
+            let mut nb = self.neighbours(x);
+            nb.push(x);
             for n in nb {
                 if self.dyn_.state.oil[n] {
                     self.update_imbibition(n);

@@ -306,6 +306,14 @@ impl<'a> Engine<'a> {
         }
     }
 
+    /// The neighbours of element `e` as a small inline list.
+    #[inline]
+    pub fn neighbours(&self, e: usize) -> Neighbours {
+        let mut v = Neighbours::new();
+        self.for_each_neighbour(e, |n| v.push(n));
+        v
+    }
+
     /// The pore's face tag (throats are interior).
     #[inline]
     pub fn boundary(&self, e: usize) -> Boundary {
@@ -337,3 +345,6 @@ impl<'a> Engine<'a> {
 }
 
 const SQUARE_CORNERS: [f64; 4] = [std::f64::consts::FRAC_PI_4; 4];
+
+/// Neighbours of one element, inline up to 16 (spills to the heap beyond).
+pub type Neighbours = smallvec::SmallVec<[usize; 16]>;

@@ -83,6 +83,9 @@ pub struct Event {
 pub struct ThresholdQueue {
     heap: BinaryHeap<Entry>,
     version: Vec<u32>,
+    /// The pending threshold and kind of each element (NaN: none), so an
+    /// unchanged threshold is not pushed again.
+    pending: Vec<(f64, EventKind)>,
     order: Order,
 }
 
@@ -92,6 +95,7 @@ impl ThresholdQueue {
         ThresholdQueue {
             heap: BinaryHeap::new(),
             version: vec![0; n_elements],
+            pending: vec![(f64::NAN, EventKind::Piston); n_elements],
             order,
         }
     }
@@ -106,7 +110,11 @@ impl ThresholdQueue {
     /// Replaces whatever event element `e` had queued by `kind` at `pc`.
     /// Non-finite thresholds just cancel the element's pending event.
     pub fn set(&mut self, e: usize, pc: f64, kind: EventKind) {
+        if self.pending[e] == (pc, kind) {
+            return;
+        }
         self.version[e] = self.version[e].wrapping_add(1);
+        self.pending[e] = (if pc.is_finite() { pc } else { f64::NAN }, kind);
         if pc.is_finite() {
             self.heap.push(Entry {
                 key: self.key(pc),
@@ -120,6 +128,7 @@ impl ThresholdQueue {
     /// Cancels element `e`'s pending event.
     pub fn cancel(&mut self, e: usize) {
         self.version[e] = self.version[e].wrapping_add(1);
+        self.pending[e].0 = f64::NAN;
     }
 
     fn drop_stale(&mut self) {
@@ -150,6 +159,7 @@ impl ThresholdQueue {
         let ev = self.peek()?;
         self.heap.pop();
         self.version[ev.element] = self.version[ev.element].wrapping_add(1);
+        self.pending[ev.element].0 = f64::NAN;
         Some(ev)
     }
 

@@ -30,6 +30,8 @@ pub struct SplitSearch {
     queues: Vec<VecDeque<u32>>,
     parent: Vec<usize>,
     status: Vec<Status>,
+    progressed: Vec<bool>,
+    frontier: Vec<usize>,
     /// Elements visited over all searches (for the cost report).
     pub visited_total: u64,
     /// Number of searches run.
@@ -47,6 +49,8 @@ impl SplitSearch {
             queues: Vec::new(),
             parent: Vec::new(),
             status: Vec::new(),
+            progressed: Vec::new(),
+            frontier: Vec::new(),
             visited_total: 0,
             searches: 0,
         }
@@ -124,7 +128,8 @@ impl SplitSearch {
             self.reset();
             return;
         }
-        let mut frontier: Vec<usize> = Vec::new();
+        let mut frontier = std::mem::take(&mut self.frontier);
+        let mut progressed = std::mem::take(&mut self.progressed);
         loop {
             // Decide whether to stop.
             let mut active_roots = 0usize;
@@ -142,7 +147,8 @@ impl SplitSearch {
                 break;
             }
             // One step of every search whose piece is undecided.
-            let mut progressed = vec![false; n];
+            progressed.clear();
+            progressed.resize(n, false);
             for i in 0..n {
                 let root = self.find(i);
                 if self.status[root] != Status::Active {
@@ -184,6 +190,8 @@ impl SplitSearch {
                 }
             }
         }
+        self.frontier = frontier;
+        self.progressed = progressed;
         // Report exhausted pieces.
         let mut piece: Vec<u32> = Vec::new();
         for root in 0..n {
