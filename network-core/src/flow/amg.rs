@@ -622,7 +622,7 @@ fn smoothed_prolongator(a: &Csr, d: &[f64], agg: &[u32], n_agg: usize, theta: f6
 /// that influence and depend on nothing strongly are F-points with no
 /// interpolation (the smoother resolves them).
 ///
-/// Direct interpolation (Stüben 2001, §A.2), with
+/// Direct interpolation (Stüben 2001), with
 /// positive off-diagonals added to the diagonal:
 ///
 /// $$P_{ij} = -\alpha_i \frac{a_{ij}}{a_{ii} + \sum_k a_{ik}^+},\qquad
