@@ -5,8 +5,11 @@
 //! (`-- 100 rs-amg`) to run only those. Prints, per
 //! preconditioner: cold-solve iterations, residual and time; a warm re-solve
 //! after changing 1% of the conduit conductances (random factor in
-//! [0.5, 2]) against a cold solve of the same changed system; and the peak
-//! resident memory (VmHWM) of the process after each size.
+//! [0.5, 2]) against a cold solve of the same changed system; the heap of
+//! the pressure system; the peak resident memory (VmHWM) of the process
+//! right after the cold solve ("HWM MB"; for the first solver of a size
+//! this is network + one system + setup transients; later rows carry the
+//! peak of earlier ones, when two systems were alive for the comparison).
 
 use std::f64::consts::PI;
 use std::time::Instant;
@@ -209,7 +212,7 @@ fn main() {
             cases.retain(|c| filters.iter().any(|f| c.0.starts_with(f.as_str())));
         }
         println!(
-            "{:<18} {:>5} {:>8} {:>6} {:>5} | {:>13} | {:>5} {:>13} | {:>5} {:>13} {:>7} | {:>6}",
+            "{:<18} {:>5} {:>8} {:>6} {:>5} | {:>13} | {:>5} {:>13} | {:>5} {:>13} {:>7} | {:>6} {:>7}",
             "solver",
             "iters",
             "resid",
@@ -221,7 +224,8 @@ fn main() {
             "w it",
             "warm wall/cpu",
             "speedup",
-            "sys MB"
+            "sys MB",
+            "HWM MB"
         );
         let timed = |f: &mut dyn FnMut() -> FlowSolution| {
             let (t, c) = (Instant::now(), cpu_seconds());
@@ -239,6 +243,7 @@ fn main() {
                     .expect("cold solve")
             });
             let sys_mb = sys.heap_bytes() as f64 / 1e6;
+            let hwm_one = peak_rss_mb();
             let (warm, t_warm, c_warm) = timed(&mut || {
                 sys.solve(
                     &changed,
@@ -261,7 +266,7 @@ fn main() {
             assert!(cold.imbalance < 1e-8 && warm.imbalance < 1e-8);
             assert!((warm.inflow - cold2.inflow).abs() <= 1e-8 * cold2.inflow);
             println!(
-                "{name:<18} {:>5} {:>8.1e} {:>6} {:>5.2} | {:>6.3}/{:<6.2} | {:>5} {:>6.3}/{:<6.2} | {:>5} {:>6.3}/{:<6.2} {:>7.2} | {:>6.0}",
+                "{name:<18} {:>5} {:>8.1e} {:>6} {:>5.2} | {:>6.3}/{:<6.2} | {:>5} {:>6.3}/{:<6.2} | {:>5} {:>6.3}/{:<6.2} {:>7.2} | {:>6.0} {:>7.0}",
                 cold.iterations,
                 cold.relative_residual,
                 cold.amg_levels,
@@ -275,7 +280,8 @@ fn main() {
                 t_warm,
                 c_warm,
                 t_cold2 / t_warm,
-                sys_mb
+                sys_mb,
+                hwm_one
             );
         }
         println!(

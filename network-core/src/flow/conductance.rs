@@ -30,8 +30,8 @@ use crate::geometry::{Shape, area};
 /// depends on the shape class ([`Shape::from_shape_factor`]): 1/2 for the
 /// circle (exact, Hagen–Poiseuille), 0.5623 for the square, 3/5 for
 /// triangles (exact for the equilateral one, an approximation for others)
-/// (Patzek & Silin 2001, J. Colloid Interface Sci. 236:295–304,
-/// doi:10.1006/jcis.2000.7413). The element's own `G` and `A` are used.
+/// (Patzek & Silin 2001, J. Colloid Interface Sci. 236:295–304). The
+/// element's own `G` and `A` are used.
 ///
 /// Valid for laminar (creeping) flow of a Newtonian fluid filling the whole
 /// cross-section.

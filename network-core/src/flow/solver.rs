@@ -224,6 +224,8 @@ struct KeptAmg {
     amg: Amg,
     opts: AmgOptions,
     unknown: Vec<bool>,
+    /// Conductance scale of the matrix the hierarchy was built from.
+    scale: f64,
     /// Iterations per decade of residual reduction of the building solve.
     build_rate: f64,
     stale: bool,
@@ -363,7 +365,25 @@ impl PressureSystem {
             .par_iter_mut()
             .enumerate()
             .for_each(|(i, u)| *u = flowing[i] && !inlet[i] && !outlet[i]);
-        self.assemble(conduit_g, &flowing, &fixed);
+        // Whether the kept multigrid hierarchy serves this solve.
+        let keep = match &opts.preconditioner {
+            Preconditioner::Amg(a_opts) => {
+                opts.reuse_hierarchy
+                    && self.amg.as_ref().is_some_and(|k| {
+                        !k.stale && k.opts == *a_opts && k.unknown == self.op.unknown
+                    })
+            }
+            Preconditioner::Jacobi => false,
+        };
+        // The matrix is scaled by the largest conductance (the solution does
+        // not change), so that values near 1 reach the single-precision
+        // multigrid levels whatever the units; a kept hierarchy keeps the
+        // scale it was built with.
+        let scale = match (&self.amg, keep) {
+            (Some(k), true) => k.scale,
+            _ => conduit_g.par_iter().copied().reduce(|| 0.0, f64::max),
+        };
+        self.assemble(conduit_g, 1.0 / scale, &flowing, &fixed);
         let n_unknowns = self.op.unknown.iter().filter(|&&u| u).count();
 
         // Preconditioner.
@@ -380,10 +400,6 @@ impl PressureSystem {
                     .for_each(|(i, v)| *v = if u[i] { 1.0 / d[i] } else { 0.0 });
             }
             Preconditioner::Amg(a_opts) => {
-                let keep = opts.reuse_hierarchy
-                    && self.amg.as_ref().is_some_and(|k| {
-                        !k.stale && k.opts == *a_opts && k.unknown == self.op.unknown
-                    });
                 if keep {
                     if let Some(k) = self.amg.as_mut() {
                         k.amg.refresh_fine(&self.op);
@@ -395,6 +411,7 @@ impl PressureSystem {
                         amg,
                         opts: a_opts.clone(),
                         unknown: self.op.unknown.clone(),
+                        scale,
                         build_rate: 0.0,
                         stale: false,
                     });
@@ -540,10 +557,12 @@ impl PressureSystem {
             .collect())
     }
 
-    /// Writes the diagonal, off-diagonal values and right-hand side.
+    /// Writes the diagonal, off-diagonal values and right-hand side of the
+    /// system with conductances multiplied by `inv_scale`.
     fn assemble(
         &mut self,
         conduit_g: &[f64],
+        inv_scale: f64,
         flowing: &[bool],
         fixed: &(dyn Fn(usize) -> Option<f64> + Sync),
     ) {
@@ -586,7 +605,7 @@ impl PressureSystem {
                     let (mut sd, mut sb) = (0.0, 0.0);
                     for h in range {
                         let j = nbr[h] as usize;
-                        let g = conduit_g[thr[h] as usize];
+                        let g = conduit_g[thr[h] as usize] * inv_scale;
                         let mut o = 0.0;
                         if flowing[j] && g > 0.0 {
                             sd += g;
