@@ -12,15 +12,19 @@
 //! | array | type | meaning |
 //! |---|---|---|
 //! | `radius_m` | Float64 | inscribed radius, m |
-//! | `occupancy` | UInt8 | [`OCCUPANCY_WATER`] 0, [`OCCUPANCY_NONAQUEOUS`] 1 (centre holds the non-aqueous phase), [`OCCUPANCY_LAYERS`] 2 (water centre with non-aqueous corner layers) |
+//! | `occupancy` | Int8 | [`OCCUPANCY_WATER`] 0, [`OCCUPANCY_NONAQUEOUS`] 1 (centre holds the non-aqueous phase), [`OCCUPANCY_LAYERS`] 2 (water centre with non-aqueous corner layers) |
 //! | `ganglion_id` | Int32 | trapped ganglion, `-1` none |
 //! | `contact_angle_deg` | Float64 | advancing contact angle, degrees (only with angles) |
 //! | `pressure` | Float64 | the caller's per-pore values (only when given); non-finite values are written as [`PRESSURE_MISSING`] |
-//! | `pressure_known` | UInt8 | 1 where `pressure` is finite, 0 where it holds the sentinel (only with `pressure`) |
-//! | `boundary` | UInt8 | 0 interior, 1 inlet, 2 outlet |
+//! | `pressure_known` | Int8 | 1 where `pressure` is finite, 0 where it holds the sentinel (only with `pressure`) |
+//! | `boundary` | Int8 | 0 interior, 1 inlet, 2 outlet |
 //!
 //! Cell data (one value per throat): `radius_m`, `occupancy`,
 //! `ganglion_id`, `contact_angle_deg`, same meanings.
+//!
+//! The small codes are signed (`Int8`), not `UInt8`: VTK's mappers take
+//! unsigned-char scalars as colours by default, signed ones through the
+//! colour map.
 //!
 //! Ganglion ids are renumbered `0, 1, …` in order of the lowest element
 //! index (pores first, then throats) holding each ganglion, the numbering
@@ -153,7 +157,7 @@ pub fn write_vtp(
     float_array(&mut s, "radius_m", 1, &pores.radius);
     int_array(
         &mut s,
-        "UInt8",
+        "Int8",
         "occupancy",
         occ[..n_p].iter().map(|&v| v as i64),
     );
@@ -174,14 +178,14 @@ pub fn write_vtp(
         float_array(&mut s, "pressure", 1, &values);
         int_array(
             &mut s,
-            "UInt8",
+            "Int8",
             "pressure_known",
             p.iter().map(|v| v.is_finite() as i64),
         );
     }
     int_array(
         &mut s,
-        "UInt8",
+        "Int8",
         "boundary",
         pores.boundary.iter().map(|&b| b as u8 as i64),
     );
@@ -191,7 +195,7 @@ pub fn write_vtp(
     float_array(&mut s, "radius_m", 1, &throats.radius);
     int_array(
         &mut s,
-        "UInt8",
+        "Int8",
         "occupancy",
         occ[n_p..].iter().map(|&v| v as i64),
     );

@@ -413,6 +413,18 @@ fn vtp_parses_back_with_the_network_counts_and_value_ranges() {
         ] {
             assert!(names.contains(&(s.into(), n.into())), "missing {s}/{n}");
         }
+        // Types: small codes signed (mapped through colour maps), ids 32-bit.
+        for (sec, name, ty) in [
+            ("PointData", "occupancy", "Int8"),
+            ("CellData", "occupancy", "Int8"),
+            ("PointData", "boundary", "Int8"),
+            ("PointData", "ganglion_id", "Int32"),
+            ("CellData", "ganglion_id", "Int32"),
+            ("Lines", "connectivity", "Int64"),
+            ("Points", "coordinates_m", "Float64"),
+        ] {
+            assert_eq!(v.get(sec, name).0, ty, "{sec}/{name}");
+        }
         // Lengths: one value per pore / throat (three per point).
         let (_, comps, xyz) = v.get("Points", "coordinates_m");
         assert_eq!((*comps, xyz.len()), (3, 3 * n_p));
