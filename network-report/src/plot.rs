@@ -144,6 +144,8 @@ pub enum SeriesStyle {
     Markers,
     /// Solid line with markers.
     LineMarkers,
+    /// Dashed line with markers.
+    DashedMarkers,
 }
 
 /// One data series of a plot.
@@ -160,6 +162,9 @@ pub struct Series {
     /// Optional uncertainty band `(lower, upper)`, each the length of `x`,
     /// drawn as a translucent fill in the series colour.
     pub band: Option<(Vec<f64>, Vec<f64>)>,
+    /// Colour `(r, g, b)`; `None` takes the next colour of [`PALETTE`] by
+    /// the series' position.
+    pub colour: Option<(u8, u8, u8)>,
 }
 
 impl Series {
@@ -171,12 +176,19 @@ impl Series {
             y,
             style: SeriesStyle::Line,
             band: None,
+            colour: None,
         }
     }
 
     /// The same series drawn with `style`.
     pub fn with_style(mut self, style: SeriesStyle) -> Series {
         self.style = style;
+        self
+    }
+
+    /// The same series drawn in colour `(r, g, b)`.
+    pub fn with_colour(mut self, colour: (u8, u8, u8)) -> Series {
+        self.colour = Some(colour);
         self
     }
 
@@ -401,7 +413,7 @@ fn prepare(spec: &PlotSpec) -> Result<Prepared, PlotError> {
         .iter()
         .enumerate()
         .map(|(k, s)| {
-            let (r, g, b) = PALETTE[k % PALETTE.len()];
+            let (r, g, b) = s.colour.unwrap_or(PALETTE[k % PALETTE.len()]);
             let ok = |i: usize| plottable(s.x[i], x.scale) && plottable(s.y[i], y.scale);
             // Runs of consecutive plottable points.
             let mut runs: Vec<Vec<usize>> = Vec::new();
@@ -419,14 +431,20 @@ fn prepare(spec: &PlotSpec) -> Result<Prepared, PlotError> {
             let mut lines = Vec::new();
             if matches!(
                 s.style,
-                SeriesStyle::Line | SeriesStyle::Dashed | SeriesStyle::LineMarkers
+                SeriesStyle::Line
+                    | SeriesStyle::Dashed
+                    | SeriesStyle::LineMarkers
+                    | SeriesStyle::DashedMarkers
             ) {
                 for run in &runs {
                     let pts: Vec<(f64, f64)> = run.iter().map(|&i| (s.x[i], s.y[i])).collect();
                     lines.extend(clip_polyline(&pts, x, y));
                 }
             }
-            let markers = if matches!(s.style, SeriesStyle::Markers | SeriesStyle::LineMarkers) {
+            let markers = if matches!(
+                s.style,
+                SeriesStyle::Markers | SeriesStyle::LineMarkers | SeriesStyle::DashedMarkers
+            ) {
                 runs.iter()
                     .flatten()
                     .map(|&i| (s.x[i], s.y[i]))
@@ -782,7 +800,7 @@ where
 
     let line_w = px(2.0).max(1);
     let marker_r = px(3.5).max(2);
-    let sample_len = px(18.0).max(9) as i32;
+    let sample_len = px(28.0).max(14) as i32;
     let mut any_label = false;
     for (s, p) in spec.series.iter().zip(&prepared.series) {
         let colour = p.colour;
@@ -793,28 +811,31 @@ where
             .map_err(render_err)?;
         let stroke = ShapeStyle::from(&colour).stroke_width(line_w);
         let style = s.style;
-        // Legend sample: an 18-px line (solid, or two dashes) and a dot for
-        // the marker styles, relative to the legend anchor.
+        // Legend sample: a 28-px line (solid, or two dashes) and a dot for
+        // the marker styles, relative to the legend anchor. With markers the
+        // dashes are short, so the gaps beside the dot stay visible.
         let legend = move |c: (i32, i32)| {
             let line = ShapeStyle::from(&colour).stroke_width(line_w);
             let none = ShapeStyle::from(&TRANSPARENT);
-            let (first, gap, second) = match style {
-                SeriesStyle::Line | SeriesStyle::LineMarkers => (line, 0, line),
-                SeriesStyle::Dashed => (line, sample_len / 3, line),
+            let (first, dash, second) = match style {
+                SeriesStyle::Line | SeriesStyle::LineMarkers => (line, sample_len / 2, line),
+                SeriesStyle::Dashed => (line, sample_len * 2 / 5, line),
+                SeriesStyle::DashedMarkers => (line, sample_len / 5, line),
                 SeriesStyle::Markers => (none, 0, none),
             };
             let dot = match style {
-                SeriesStyle::Markers | SeriesStyle::LineMarkers => colour.filled(),
+                SeriesStyle::Markers | SeriesStyle::LineMarkers | SeriesStyle::DashedMarkers => {
+                    colour.filled()
+                }
                 _ => none,
             };
-            let third = sample_len / 3;
             EmptyElement::at(c)
-                + PathElement::new(vec![(0, 0), (third, 0)], first)
-                + PathElement::new(vec![(third + gap, 0), (sample_len, 0)], second)
+                + PathElement::new(vec![(0, 0), (dash, 0)], first)
+                + PathElement::new(vec![(sample_len - dash, 0), (sample_len, 0)], second)
                 + Circle::new((sample_len / 2, 0), marker_r, dot)
         };
         let anno = match s.style {
-            SeriesStyle::Dashed => chart
+            SeriesStyle::Dashed | SeriesStyle::DashedMarkers => chart
                 .draw_series(p.lines.iter().map(|l| {
                     DashedPathElement::new(l.clone(), px(7.0).max(2), px(5.0).max(2), stroke)
                 }))
@@ -845,6 +866,7 @@ where
             .configure_series_labels()
             .position(legend_corner(prepared))
             .margin(px(10.0))
+            .legend_area_size(px(40.0))
             .background_style(WHITE.mix(0.9))
             .border_style(AXIS_COLOUR.stroke_width(1))
             .label_font(text(12.0 * scale, &AXIS_COLOUR))
@@ -854,12 +876,14 @@ where
     Ok(())
 }
 
-/// The corner of the plotting area for the legend: the one whose corner
-/// box (35 % of the width, 30 % of the height) holds the fewest drawn
-/// points; ties go to upper right, upper left, lower right, lower left.
+/// The place of the legend in the plotting area: the one of six boxes
+/// (35 % of the width, 30 % of the height: the four corners, then the
+/// middle of the top and of the bottom edge) holding the fewest drawn
+/// points; ties go to upper right, upper left, lower right, lower left,
+/// upper middle, lower middle.
 fn legend_corner(p: &Prepared) -> SeriesLabelPosition {
     let frac = |v: f64, a: Axis| (a.value_to_axis(v) - a.lo()) / (a.hi() - a.lo());
-    let mut counts = [0usize; 4];
+    let mut counts = [0usize; 6];
     let mut points: Vec<(f64, f64)> = Vec::new();
     for s in &p.series {
         points.extend(s.markers.iter().copied());
@@ -884,21 +908,31 @@ fn legend_corner(p: &Prepared) -> SeriesLabelPosition {
     for (x, y) in points {
         let (u, v) = (frac(x, p.x), frac(y, p.y));
         let (right, left, top, bottom) = (u >= 0.65, u <= 0.35, v >= 0.7, v <= 0.3);
-        for (k, inside) in [right && top, left && top, right && bottom, left && bottom]
-            .into_iter()
-            .enumerate()
+        let middle = (0.325..=0.675).contains(&u);
+        for (k, inside) in [
+            right && top,
+            left && top,
+            right && bottom,
+            left && bottom,
+            middle && top,
+            middle && bottom,
+        ]
+        .into_iter()
+        .enumerate()
         {
             if inside {
                 counts[k] += 1;
             }
         }
     }
-    let best = (0..4).min_by_key(|&k| (counts[k], k)).unwrap_or(0);
+    let best = (0..6).min_by_key(|&k| (counts[k], k)).unwrap_or(0);
     match best {
         0 => SeriesLabelPosition::UpperRight,
         1 => SeriesLabelPosition::UpperLeft,
         2 => SeriesLabelPosition::LowerRight,
-        _ => SeriesLabelPosition::LowerLeft,
+        3 => SeriesLabelPosition::LowerLeft,
+        4 => SeriesLabelPosition::UpperMiddle,
+        _ => SeriesLabelPosition::LowerMiddle,
     }
 }
 

@@ -234,4 +234,42 @@ fn legend_goes_to_the_emptiest_corner() {
     };
     let p = prepare(&falling).unwrap();
     assert!(matches!(legend_corner(&p), SeriesLabelPosition::UpperRight));
+    // Relative-permeability-like curves, x² rising and (1 − x)² falling,
+    // fill all four corners; the top middle stays empty (y ≤ 0.3 there).
+    let x: Vec<f64> = (0..=20).map(|i| i as f64 / 20.0).collect();
+    let crossing = PlotSpec {
+        series: vec![
+            Series::line("w", x.clone(), x.iter().map(|v| v * v).collect()),
+            Series::line(
+                "n",
+                x.clone(),
+                x.iter().map(|v| (1.0 - v) * (1.0 - v)).collect(),
+            )
+            .with_style(SeriesStyle::DashedMarkers),
+        ],
+        ..PlotSpec::default()
+    };
+    let p = prepare(&crossing).unwrap();
+    assert!(matches!(
+        legend_corner(&p),
+        SeriesLabelPosition::UpperMiddle
+    ));
+}
+
+#[test]
+fn series_colour_overrides_the_palette() {
+    let spec = PlotSpec {
+        series: vec![
+            Series::line("a", vec![0.0, 1.0], vec![0.0, 1.0]).with_colour((0x12, 0x34, 0x56)),
+            Series::line("b", vec![0.0, 1.0], vec![1.0, 0.0]),
+        ],
+        ..PlotSpec::default()
+    };
+    let p = prepare(&spec).unwrap();
+    assert_eq!(p.series[0].colour, RGBColor(0x12, 0x34, 0x56));
+    // The second series keeps the palette colour of its position.
+    let (r, g, b) = PALETTE[1];
+    assert_eq!(p.series[1].colour, RGBColor(r, g, b));
+    let svg = render_svg(&spec).unwrap().to_ascii_uppercase();
+    assert!(svg.contains("#123456"));
 }

@@ -1,0 +1,153 @@
+//! Every human-facing file of a run written into one folder: figures, the
+//! saturation-function tables, the HTML report and the 3-D states. The
+//! only module of this crate that touches the file system.
+
+use std::path::{Path, PathBuf};
+
+use network_core::Network;
+use network_core::io::atomic::write_atomic;
+use network_core::simulation::RunResults;
+use thiserror::Error;
+
+use crate::figures::run_figures;
+use crate::html::run_report;
+use crate::plot::{PlotError, render_png, render_svg};
+use crate::run_tables::saturation_tables;
+use crate::tables::TableError;
+use crate::vtk::{VtkError, write_vtp};
+
+/// PNG size of [`write_run_artifacts`], pixels (1.5 × the SVG size).
+pub const PNG_SIZE: (u32, u32) = (1200, 840);
+
+/// What [`write_run_artifacts`] writes besides the SVG figures, the tables
+/// and the report.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct ArtifactOptions {
+    /// Also write each figure as PNG ([`PNG_SIZE`]). Default `true`.
+    pub png: bool,
+    /// Write the end state of each process as `.vtp`. Default `true`.
+    pub vtk: bool,
+    /// Rows of each saturation-function table (≥ 2). Default 21.
+    pub table_points: usize,
+}
+
+impl Default for ArtifactOptions {
+    fn default() -> Self {
+        ArtifactOptions {
+            png: true,
+            vtk: true,
+            table_points: 21,
+        }
+    }
+}
+
+/// Why a report file could not be made or written; every variant names
+/// the file.
+#[non_exhaustive]
+#[derive(Debug, Error)]
+pub enum ReportError {
+    /// The output folder could not be created, or a file not written.
+    #[error("cannot write {}: {source}", path.display())]
+    Io {
+        /// The folder or file.
+        path: PathBuf,
+        /// The cause.
+        source: std::io::Error,
+    },
+    /// A figure could not be drawn.
+    #[error("figure {file}: {source}")]
+    Plot {
+        /// File name of the figure.
+        file: String,
+        /// The cause.
+        source: PlotError,
+    },
+    /// A table could not be built or written.
+    #[error("table {file}: {source}")]
+    Table {
+        /// File name of the table.
+        file: String,
+        /// The cause.
+        source: TableError,
+    },
+    /// A 3-D state could not be written.
+    #[error("3-D state {file}: {source}")]
+    Vtk {
+        /// File name of the state.
+        file: String,
+        /// The cause.
+        source: VtkError,
+    },
+}
+
+/// Writes into `dir` (created if missing), each file atomically
+/// ([`write_atomic`]):
+///
+/// - `<stem>.svg` for every figure of [`run_figures`], and `<stem>.png`
+///   when `opts.png`;
+/// - the tables of [`saturation_tables`] (`table-drainage.csv`, …);
+/// - `report.html` ([`run_report`]);
+/// - `state-<k>-<kind>.vtp` for process `k` (1-based) when `opts.vtk`
+///   ([`write_vtp`], with the contact angles after the run and no
+///   pressure).
+///
+/// Returns the paths written, in that order. `network` must be the network
+/// of the run (its sizes are checked against the states).
+pub fn write_run_artifacts(
+    results: &RunResults,
+    network: &Network,
+    dir: &Path,
+    opts: &ArtifactOptions,
+) -> Result<Vec<PathBuf>, ReportError> {
+    std::fs::create_dir_all(dir).map_err(|source| ReportError::Io {
+        path: dir.to_path_buf(),
+        source,
+    })?;
+    let mut written = Vec::new();
+    let mut put = |name: &str, bytes: &[u8]| -> Result<(), ReportError> {
+        let path = dir.join(name);
+        write_atomic(&path, bytes).map_err(|source| ReportError::Io {
+            path: path.clone(),
+            source,
+        })?;
+        written.push(path);
+        Ok(())
+    };
+    let figures = run_figures(results);
+    for f in &figures {
+        let file = format!("{}.svg", f.name);
+        let svg = render_svg(&f.spec).map_err(|source| ReportError::Plot {
+            file: file.clone(),
+            source,
+        })?;
+        put(&file, svg.as_bytes())?;
+        if opts.png {
+            let file = format!("{}.png", f.name);
+            let png = render_png(&f.spec, PNG_SIZE.0, PNG_SIZE.1).map_err(|source| {
+                ReportError::Plot {
+                    file: file.clone(),
+                    source,
+                }
+            })?;
+            put(&file, &png)?;
+        }
+    }
+    for (name, text) in saturation_tables(results, opts.table_points)? {
+        put(&name, text.as_bytes())?;
+    }
+    put("report.html", run_report(results, &figures).as_bytes())?;
+    if opts.vtk {
+        for (k, (state, outcome)) in results.end_states.iter().zip(&results.outcomes).enumerate() {
+            let file = format!("state-{}-{}.vtp", k + 1, outcome.kind.as_str());
+            let text =
+                write_vtp(network, state, results.angles.as_ref(), None).map_err(|source| {
+                    ReportError::Vtk {
+                        file: file.clone(),
+                        source,
+                    }
+                })?;
+            put(&file, text.as_bytes())?;
+        }
+    }
+    Ok(written)
+}

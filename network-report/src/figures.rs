@@ -1,0 +1,302 @@
+//! The standard figures of a study run, as [`PlotSpec`]s ready for
+//! [`crate::plot::render_svg`] or [`crate::plot::render_png`].
+//!
+//! | stem | content | axes |
+//! |---|---|---|
+//! | `pc-sw` | capillary pressure of every process | Sw linear, Pc (kPa) linear |
+//! | `kr-sw` | `k_rw` and `k_rn` of every process at the computed points | linear |
+//! | `kr-sw-log` | the same | Sw linear, kr log |
+//! | `ri-sw` | resistivity index of every process, Archie line | log–log |
+//! | `ganglion-sizes` | trapped ganglia per pore-count bin | pores log, count linear |
+//!
+//! A figure without data is left out: the kr figures when no process has
+//! computed relative permeabilities, `ri-sw` when no point has a finite
+//! resistivity index, `ganglion-sizes` when no imbibition ran or nothing
+//! was trapped.
+//!
+//! Each process keeps one colour of [`PALETTE`] across the figures
+//! (process `k` takes colour `k`). In the kr figures the water curve is a
+//! solid line with markers and the non-aqueous curve a dashed line with
+//! markers; markers sit only at the points where the flow was solved. The
+//! ganglion figure has one unlabelled series and no legend.
+
+use network_core::analysis::Fitted;
+use network_core::engine::process::ProcessOutcome;
+use network_core::simulation::RunResults;
+use network_core::study::ProcessKind;
+
+use crate::plot::{PALETTE, PlotSpec, Scale, Series, SeriesStyle};
+
+/// One standard figure of a run.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Figure {
+    /// File stem, e.g. `"pc-sw"` (see the [module docs](self)).
+    pub name: &'static str,
+    /// Short title (the chart carries it too).
+    pub title: String,
+    /// One or two sentences for a report saying what is drawn.
+    pub caption: String,
+    /// What to draw.
+    pub spec: PlotSpec,
+}
+
+/// Water-saturation axis label.
+pub const SW_LABEL: &str = "Water saturation Sw (fraction of pore volume)";
+
+/// The standard figures of `results` (see the [module docs](self)), in the
+/// order of the table there.
+pub fn run_figures(results: &RunResults) -> Vec<Figure> {
+    let label = &results.study.fluids.nonaqueous_label;
+    let mut out = Vec::new();
+    if !results.outcomes.is_empty() {
+        out.push(pc_figure(results));
+    }
+    let has_kr = results
+        .outcomes
+        .iter()
+        .any(|o| o.points.iter().any(|p| p.flow.is_some()));
+    if has_kr {
+        out.push(kr_figure(results, label, Scale::Linear));
+        out.push(kr_figure(results, label, Scale::Log));
+    }
+    let has_ri = results.outcomes.iter().any(|o| {
+        o.points
+            .iter()
+            .any(|p| p.flow.is_some_and(|f| f.ri.is_finite() && f.ri > 0.0))
+    });
+    if has_ri {
+        out.push(ri_figure(results));
+    }
+    if let Some(stats) = &results.ganglion_stats
+        && stats.pores_histogram.iter().any(|&c| c > 0)
+    {
+        out.push(ganglion_figure(&stats.pores_histogram, label));
+    }
+    out
+}
+
+/// A process's name for legends and tables: its 1-based number and kind,
+/// `"1 primary drainage"`, `"2 imbibition"`, `"3 secondary drainage"`;
+/// later ones count on (`"5 drainage no. 3"`).
+pub fn process_label(outcomes_kinds: &[ProcessKind], index: usize) -> String {
+    let kind = outcomes_kinds[index];
+    let nth = outcomes_kinds[..=index]
+        .iter()
+        .filter(|&&k| k == kind)
+        .count();
+    let name = match (kind, nth) {
+        (ProcessKind::Drainage, 1) => "primary drainage".to_string(),
+        (ProcessKind::Drainage, 2) => "secondary drainage".to_string(),
+        (ProcessKind::Imbibition, 1) => "imbibition".to_string(),
+        (ProcessKind::Imbibition, 2) => "second imbibition".to_string(),
+        (k, n) => format!("{} no. {n}", k.as_str()),
+    };
+    format!("{} {name}", index + 1)
+}
+
+/// The colour of process `index` in every figure.
+pub fn process_colour(index: usize) -> (u8, u8, u8) {
+    PALETTE[index % PALETTE.len()]
+}
+
+fn kinds(results: &RunResults) -> Vec<ProcessKind> {
+    results.outcomes.iter().map(|o| o.kind).collect()
+}
+
+fn pc_figure(results: &RunResults) -> Figure {
+    let kinds = kinds(results);
+    let series = results
+        .outcomes
+        .iter()
+        .enumerate()
+        .map(|(i, o)| {
+            let (sw, pc): (Vec<f64>, Vec<f64>) = o
+                .points
+                .iter()
+                .map(|p| (p.saturation.sw, p.pc_pa / 1.0e3))
+                .unzip();
+            Series::line(process_label(&kinds, i), sw, pc).with_colour(process_colour(i))
+        })
+        .collect();
+    let title = "Capillary pressure".to_string();
+    Figure {
+        name: "pc-sw",
+        title: title.clone(),
+        caption: "Capillary pressure Pc = Pn − Pw against water saturation at every recorded \
+                  point of each process; negative Pc is forced displacement of the \
+                  non-aqueous phase."
+            .into(),
+        spec: PlotSpec {
+            title,
+            x_label: SW_LABEL.into(),
+            y_label: "Capillary pressure Pc = Pn − Pw (kPa)".into(),
+            x_range: Some((0.0, 1.0)),
+            series,
+            ..PlotSpec::default()
+        },
+    }
+}
+
+/// `(sw, krw, krn, ri)` at the points where the flow was solved, in
+/// process order.
+fn flow_points(o: &ProcessOutcome) -> (Vec<f64>, Vec<f64>, Vec<f64>, Vec<f64>) {
+    let mut cols = (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    for p in &o.points {
+        if let Some(f) = p.flow {
+            cols.0.push(p.saturation.sw);
+            cols.1.push(f.krw);
+            cols.2.push(f.krn);
+            cols.3.push(f.ri);
+        }
+    }
+    cols
+}
+
+fn kr_figure(results: &RunResults, label: &str, y_scale: Scale) -> Figure {
+    let kinds = kinds(results);
+    let mut series = Vec::new();
+    for (i, o) in results.outcomes.iter().enumerate() {
+        let (sw, krw, krn, _) = flow_points(o);
+        if sw.is_empty() {
+            continue;
+        }
+        let name = process_label(&kinds, i);
+        let c = process_colour(i);
+        series.push(
+            Series::line(format!("k_rw, {name}"), sw.clone(), krw)
+                .with_style(SeriesStyle::LineMarkers)
+                .with_colour(c),
+        );
+        series.push(
+            Series::line(format!("k_r,{label}, {name}"), sw, krn)
+                .with_style(SeriesStyle::DashedMarkers)
+                .with_colour(c),
+        );
+    }
+    let (name, title, y_range) = match y_scale {
+        Scale::Linear => ("kr-sw", "Relative permeability", Some((0.0, 1.0))),
+        Scale::Log => ("kr-sw-log", "Relative permeability (log scale)", None),
+    };
+    let caption = format!(
+        "Relative permeability of water (solid lines) and {label} (dashed lines) at the \
+         points where the flow was solved (markers), one colour per process{}.",
+        match y_scale {
+            Scale::Linear => "",
+            Scale::Log => "; zero values cannot be shown on the log axis",
+        }
+    );
+    Figure {
+        name,
+        title: title.into(),
+        caption,
+        spec: PlotSpec {
+            title: title.into(),
+            x_label: SW_LABEL.into(),
+            y_label: "Relative permeability kr (fraction)".into(),
+            y_scale,
+            x_range: Some((0.0, 1.0)),
+            y_range,
+            series,
+            ..PlotSpec::default()
+        },
+    }
+}
+
+fn ri_figure(results: &RunResults) -> Figure {
+    let kinds = kinds(results);
+    let mut series = Vec::new();
+    let mut sw_min = f64::INFINITY;
+    for (i, o) in results.outcomes.iter().enumerate() {
+        let (sw, _, _, ri) = flow_points(o);
+        if sw.is_empty() {
+            continue;
+        }
+        for (&s, &r) in sw.iter().zip(&ri) {
+            if s > 0.0 && r.is_finite() && r > 0.0 {
+                sw_min = sw_min.min(s);
+            }
+        }
+        series.push(
+            Series::line(process_label(&kinds, i), sw, ri)
+                .with_style(SeriesStyle::LineMarkers)
+                .with_colour(process_colour(i)),
+        );
+    }
+    if let Some(a) = &results.archie
+        && let Fitted::Ok(fit) = &a.saturation_n
+        && sw_min.is_finite()
+        && sw_min < 1.0
+    {
+        // RI = b Sw^(−n) (b = 1 unless fitted), sampled evenly in log Sw.
+        let n_samples = 41;
+        let (lo, hi) = (sw_min.log10(), 0.0);
+        let sw: Vec<f64> = (0..n_samples)
+            .map(|k| 10f64.powf(lo + (hi - lo) * k as f64 / (n_samples - 1) as f64))
+            .collect();
+        let ri: Vec<f64> = sw
+            .iter()
+            .map(|s| fit.prefactor * s.powf(-fit.exponent))
+            .collect();
+        series.push(
+            Series::line(
+                format!("Archie fit RI = Sw^(−n), n = {:.3}", fit.exponent),
+                sw,
+                ri,
+            )
+            .with_style(SeriesStyle::Dashed)
+            .with_colour(PALETTE[PALETTE.len() - 1]),
+        );
+    }
+    let title = "Resistivity index".to_string();
+    Figure {
+        name: "ri-sw",
+        title: title.clone(),
+        caption: "Resistivity index RI = Rt/Ro against water saturation at the points where \
+                  the flow was solved, one colour per process; dashed black: Archie's law \
+                  fitted to the primary-drainage points, where the fit succeeded. Points \
+                  where the water does not span the sample (infinite RI) are not shown."
+            .into(),
+        spec: PlotSpec {
+            title,
+            x_label: SW_LABEL.into(),
+            y_label: "Resistivity index RI = Rt/Ro (–)".into(),
+            x_scale: Scale::Log,
+            y_scale: Scale::Log,
+            series,
+            ..PlotSpec::default()
+        },
+    }
+}
+
+fn ganglion_figure(histogram: &[usize], label: &str) -> Figure {
+    let x: Vec<f64> = (0..histogram.len()).map(|k| 2f64.powi(k as i32)).collect();
+    let y: Vec<f64> = histogram.iter().map(|&c| c as f64).collect();
+    let title = format!("Trapped {label} ganglia by size");
+    let y_max = y.iter().copied().fold(0.0, f64::max);
+    // Half a bin of room either side on the log axis.
+    let x_max = 2f64.powi(histogram.len() as i32 - 1);
+    Figure {
+        name: "ganglion-sizes",
+        title: title.clone(),
+        caption: format!(
+            "Number of trapped {label} ganglia at the end of the first imbibition in bins of \
+             pore count: bin k holds ganglia of 2^k to 2^(k+1) − 1 pores and is drawn at 2^k; \
+             the first bin also holds ganglia held in throats only."
+        ),
+        spec: PlotSpec {
+            title,
+            x_label: "Pores per ganglion (bins from 2^k to 2^(k+1) − 1, at 2^k)".into(),
+            y_label: "Number of ganglia".into(),
+            x_scale: Scale::Log,
+            x_range: Some((0.7, x_max * 1.4)),
+            y_range: Some((0.0, (y_max * 1.1).max(1.0))),
+            // One series: no legend (empty label); the caption says it.
+            series: vec![
+                Series::line("", x, y)
+                    .with_style(SeriesStyle::LineMarkers)
+                    .with_colour(PALETTE[0]),
+            ],
+            ..PlotSpec::default()
+        },
+    }
+}

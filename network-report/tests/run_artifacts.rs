@@ -1,0 +1,677 @@
+//! Figures, tables, HTML report and 3-D states of one real small run
+//! (a seeded 6×6×6 lattice, primary drainage, imbibition with a partly
+//! oil-wet network, secondary drainage), checked by reading them back.
+
+use std::collections::{BTreeMap, BTreeSet};
+use std::path::PathBuf;
+use std::sync::LazyLock;
+
+use network_core::Network;
+use network_core::analysis::Fitted;
+use network_core::generate::{LatticeSpec, generate};
+use network_core::progress::Silent;
+use network_core::simulation::{RunResults, run_study};
+use network_core::study::Study;
+use network_report::html::{CAUTION_TEXT, escape, number};
+use network_report::plot::{Series, render_svg};
+use network_report::tables::{parse_csv, parse_keyword_table};
+use network_report::vtk::{PRESSURE_MISSING, VtkError};
+use network_report::{
+    ArtifactOptions, ReportError, run_figures, run_report, saturation_tables, write_run_artifacts,
+    write_vtp,
+};
+
+/// A network name that needs escaping everywhere it is printed.
+const NAME: &str = "lattice <6x6x6> & \"seed 3\"";
+
+const STUDY: &str = r#"
+network = "unused"
+seed = 2
+[fluids]
+nonaqueous_label = "CO2"
+[wettability]
+receding_contact_angle_deg = [0.0, 10.0]
+advancing_contact_angle_deg = [40.0, 60.0]
+oil_wet_fraction = 0.3
+oil_wet_advancing_contact_angle_deg = [110.0, 140.0]
+[[process]]
+kind = "drainage"
+until_pc_pa = 1.0e5
+pc_steps = 30
+kr_points = 10
+[[process]]
+kind = "imbibition"
+until_pc_pa = -1.0e5
+pc_steps = 30
+kr_points = 10
+[[process]]
+kind = "drainage"
+until_pc_pa = 1.0e5
+pc_steps = 30
+kr_points = 10
+"#;
+
+struct Run {
+    network: Network,
+    results: RunResults,
+}
+
+static RUN: LazyLock<Run> = LazyLock::new(|| {
+    let spec = LatticeSpec {
+        nx: 6,
+        ny: 6,
+        nz: 6,
+        seed: 3,
+        ..LatticeSpec::default()
+    };
+    let (mut info, pores, throats) = generate(&spec, &Silent).expect("lattice").into_parts();
+    info.name = NAME.to_string();
+    let network = Network::new(info, pores, throats).expect("valid");
+    let study = Study::parse(STUDY).expect("study");
+    let mut results = run_study(&network, &study, &Silent);
+    results.network.hash = network_core::io::network_hash(&network);
+    Run { network, results }
+});
+
+fn series<'a>(s: &'a [Series], label: &str) -> &'a Series {
+    s.iter()
+        .find(|x| x.label == label)
+        .unwrap_or_else(|| panic!("no series {label:?} in {:?}", labels(s)))
+}
+
+fn labels(s: &[Series]) -> Vec<&str> {
+    s.iter().map(|x| x.label.as_str()).collect()
+}
+
+#[test]
+fn the_run_exercises_every_report_part() {
+    // The fixture must hold what the other tests check: three processes
+    // with kr points, trapped ganglia, oil layers, a finite Archie n.
+    let r = &RUN.results;
+    assert_eq!(r.outcomes.len(), 3);
+    for o in &r.outcomes {
+        assert!(o.points.iter().filter(|p| p.flow.is_some()).count() >= 5);
+    }
+    assert!(!r.ganglia.is_empty());
+    assert!(r.end_states[1].layers.iter().any(|&l| l != 0));
+    assert!(matches!(
+        r.archie.as_ref().map(|a| &a.saturation_n),
+        Some(Fitted::Ok(_))
+    ));
+}
+
+#[test]
+fn figures_hold_every_process_series_with_the_run_data() {
+    let r = &RUN.results;
+    let figs = run_figures(r);
+    let names: Vec<&str> = figs.iter().map(|f| f.name).collect();
+    assert_eq!(
+        names,
+        ["pc-sw", "kr-sw", "kr-sw-log", "ri-sw", "ganglion-sizes"]
+    );
+    let procs = ["1 primary drainage", "2 imbibition", "3 secondary drainage"];
+
+    // (a) Pc in kPa at every recorded point.
+    let pc = &figs[0].spec;
+    assert!(pc.y_label.contains("(kPa)"), "{}", pc.y_label);
+    assert_eq!(labels(&pc.series), procs);
+    for (s, o) in pc.series.iter().zip(&r.outcomes) {
+        assert_eq!(s.x.len(), o.points.len());
+        for ((x, y), p) in s.x.iter().zip(&s.y).zip(&o.points) {
+            assert_eq!(*x, p.saturation.sw);
+            // kPa = Pa / 1000 (unit definition).
+            assert!((y * 1e3 - p.pc_pa).abs() <= 1e-9 * p.pc_pa.abs().max(1.0));
+        }
+    }
+
+    // (b), (c) krw and k_r,CO2 per process at the solved points only.
+    for f in &figs[1..3] {
+        for (i, name) in procs.iter().enumerate() {
+            let pts: Vec<_> = r.outcomes[i]
+                .points
+                .iter()
+                .filter_map(|p| p.flow.map(|fl| (p.saturation.sw, fl)))
+                .collect();
+            let w = series(&f.spec.series, &format!("k_rw, {name}"));
+            let n = series(&f.spec.series, &format!("k_r,CO2, {name}"));
+            assert_eq!(w.x, pts.iter().map(|p| p.0).collect::<Vec<_>>());
+            assert_eq!(w.y, pts.iter().map(|p| p.1.krw).collect::<Vec<_>>());
+            assert_eq!(n.y, pts.iter().map(|p| p.1.krn).collect::<Vec<_>>());
+            // Same colour for both phases of one process.
+            assert_eq!(w.colour, n.colour);
+        }
+    }
+    assert_eq!(figs[1].spec.y_scale, network_report::plot::Scale::Linear);
+    assert_eq!(figs[2].spec.y_scale, network_report::plot::Scale::Log);
+
+    // (d) RI per process and the Archie line RI = Sw^(−n).
+    let ri = &figs[3].spec;
+    for name in procs {
+        series(&ri.series, name);
+    }
+    let Some(Fitted::Ok(n_fit)) = r.archie.as_ref().map(|a| &a.saturation_n) else {
+        unreachable!("checked by the_run_exercises_every_report_part")
+    };
+    let archie = ri
+        .series
+        .iter()
+        .find(|s| s.label.starts_with("Archie"))
+        .expect("Archie line");
+    assert!(archie.label.contains(&format!("{:.3}", n_fit.exponent)));
+    // Archie (1942) with b = 1: RI(1) = 1 and RI(Sw) = Sw^(−n) at every sample.
+    assert_eq!(*archie.x.last().unwrap(), 1.0);
+    assert!((archie.y.last().unwrap() - 1.0).abs() < 1e-12);
+    for (s, v) in archie.x.iter().zip(&archie.y) {
+        let expect = (-n_fit.exponent * s.ln()).exp();
+        assert!((v - expect).abs() <= 1e-9 * expect, "{s} {v} {expect}");
+    }
+
+    // (e) Ganglion sizes: the bins add up to the number of ganglia.
+    let g = &figs[4].spec;
+    assert_eq!(g.series.len(), 1);
+    let total: f64 = g.series[0].y.iter().sum();
+    assert_eq!(total as usize, r.ganglia.len());
+    // Bin k starts at 2^k pores.
+    assert_eq!(g.series[0].x[..3], [1.0, 2.0, 4.0]);
+
+    // Every figure renders, and every legend label reaches the SVG.
+    for f in &figs {
+        let svg = render_svg(&f.spec).expect("renders");
+        for s in f.spec.series.iter().filter(|s| !s.label.is_empty()) {
+            assert!(svg.contains(&escape(&s.label)), "{}: {}", f.name, s.label);
+        }
+    }
+}
+
+fn element_text(n: roxmltree::Node<'_, '_>) -> String {
+    n.descendants()
+        .filter(|d| d.is_text())
+        .map(|d| d.text().unwrap_or(""))
+        .collect()
+}
+
+#[test]
+fn html_report_is_one_well_formed_file_with_every_figure_and_the_caution() {
+    let r = &RUN.results;
+    let figs = run_figures(r);
+    let html = run_report(r, &figs);
+
+    // One <svg> element per figure, balanced.
+    assert_eq!(html.matches("<svg").count(), figs.len());
+    assert_eq!(html.matches("</svg>").count(), figs.len());
+    // Nothing fetched from anywhere: no web address at all, no scripts,
+    // no external resources.
+    for bad in [
+        "http://", "https://", "<script", "src=", "@import", "url(", "<link",
+    ] {
+        assert!(!html.contains(bad), "report contains {bad:?}");
+    }
+    for t in CAUTION_TEXT {
+        assert!(html.contains(&escape(t)), "caution sentence missing: {t}");
+    }
+    assert!(html.contains("special core analysis"));
+    // The network name is escaped wherever it appears, never raw.
+    assert!(!html.contains(NAME));
+    assert!(html.contains(&escape(NAME)));
+
+    // The markup is well-formed XML, so a strict parser reads it.
+    let doc = roxmltree::Document::parse_with_options(
+        &html,
+        roxmltree::ParsingOptions {
+            allow_dtd: true,
+            ..Default::default()
+        },
+    )
+    .expect("well-formed");
+    let root = doc.root_element();
+    assert_eq!(root.tag_name().name(), "html");
+    // Every link is an anchor to a section of the page.
+    let ids: BTreeSet<&str> = doc
+        .descendants()
+        .filter_map(|n| n.attribute("id"))
+        .collect();
+    let hrefs: Vec<&str> = doc
+        .descendants()
+        .filter_map(|n| n.attribute("href"))
+        .collect();
+    assert!(!hrefs.is_empty());
+    for h in hrefs {
+        let target = h.strip_prefix('#').expect("in-page link");
+        assert!(ids.contains(target), "{h}");
+    }
+    let headings: Vec<String> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("h2"))
+        .map(element_text)
+        .collect();
+    for h in [
+        "Inputs",
+        "Network",
+        "Process results",
+        "End points and fitted models",
+        "Wettability indices",
+        "Trapped ganglia",
+        "Figures",
+        "Warnings",
+    ] {
+        assert!(
+            headings.iter().any(|x| x == h),
+            "section {h} in {headings:?}"
+        );
+    }
+    // Rows of the two-column tables: name → value.
+    let kv: BTreeMap<String, String> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("tr"))
+        .filter_map(|tr| {
+            let th = tr.children().find(|c| c.has_tag_name("th"))?;
+            let td = tr.children().find(|c| c.has_tag_name("td"))?;
+            Some((element_text(th), element_text(td)))
+        })
+        .collect();
+    let w = r.wettability_indices.as_ref().expect("indices");
+    // NaN prints as n/a; the oil index is 0 or NaN depending on the curve.
+    let expect = |v: f64| {
+        if v.is_nan() {
+            "n/a".to_string()
+        } else {
+            number(v, 4)
+        }
+    };
+    assert_eq!(kv["USBM index log10(A1/A2)"], expect(w.usbm));
+    assert_eq!(kv["Amott oil index Io"], expect(w.amott_oil));
+    assert_eq!(kv["Pores"], "216");
+    assert_eq!(kv["Name"], NAME);
+    let perm = r
+        .single_phase
+        .as_ref()
+        .expect("permeability")
+        .permeability_md;
+    assert_eq!(kv["Permeability (mD)"], number(perm, 4));
+    assert_eq!(kv["Number of trapped ganglia"], r.ganglia.len().to_string());
+    // Each figure has its caption.
+    let captions: Vec<String> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("figcaption"))
+        .map(element_text)
+        .collect();
+    assert_eq!(captions.len(), figs.len());
+    for (k, (c, f)) in captions.iter().zip(&figs).enumerate() {
+        assert!(c.starts_with(&format!("Figure {}. ", k + 1)), "{c}");
+        assert!(c.contains(&f.caption) && c.contains(&format!("{}.svg", f.name)));
+    }
+}
+
+#[test]
+fn number_prints_missing_values_as_na() {
+    assert_eq!(number(f64::NAN, 4), "n/a");
+    assert_eq!(number(0.25, 3), "0.250");
+    assert_eq!(number(131.647, 4), "131.6");
+    assert_eq!(number(1.5e-7, 3), "1.50e-7");
+}
+
+/// One parsed `.vtp` file: piece counts and arrays by section and name.
+struct Vtp {
+    points: usize,
+    lines: usize,
+    /// `(section, name)` → (type, components, values as text).
+    arrays: BTreeMap<(String, String), (String, usize, Vec<String>)>,
+}
+
+fn parse_vtp(text: &str) -> Vtp {
+    let doc = roxmltree::Document::parse(text).expect("well-formed XML");
+    let root = doc.root_element();
+    assert_eq!(root.tag_name().name(), "VTKFile");
+    assert_eq!(root.attribute("type"), Some("PolyData"));
+    let pieces: Vec<_> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("Piece"))
+        .collect();
+    assert_eq!(pieces.len(), 1);
+    let piece = pieces[0];
+    let count = |a: &str| -> usize { piece.attribute(a).expect(a).parse().expect(a) };
+    assert_eq!(count("NumberOfVerts"), 0);
+    assert_eq!(count("NumberOfPolys"), 0);
+    let mut arrays = BTreeMap::new();
+    for a in piece.descendants().filter(|n| n.has_tag_name("DataArray")) {
+        assert_eq!(a.attribute("format"), Some("ascii"));
+        let section = a.parent_element().unwrap().tag_name().name().to_string();
+        let name = a.attribute("Name").expect("named array").to_string();
+        let comps = a
+            .attribute("NumberOfComponents")
+            .map_or(1, |c| c.parse().unwrap());
+        let values = a
+            .text()
+            .unwrap_or("")
+            .split_whitespace()
+            .map(String::from)
+            .collect();
+        let ty = a.attribute("type").unwrap().to_string();
+        let old = arrays.insert((section, name), (ty, comps, values));
+        assert!(old.is_none(), "array written twice");
+    }
+    Vtp {
+        points: count("NumberOfPoints"),
+        lines: count("NumberOfLines"),
+        arrays,
+    }
+}
+
+impl Vtp {
+    fn get(&self, section: &str, name: &str) -> &(String, usize, Vec<String>) {
+        self.arrays
+            .get(&(section.to_string(), name.to_string()))
+            .unwrap_or_else(|| panic!("no {section}/{name}"))
+    }
+
+    fn f64s(&self, section: &str, name: &str) -> Vec<f64> {
+        let (ty, _, v) = self.get(section, name);
+        assert_eq!(ty, "Float64");
+        v.iter().map(|x| x.parse().expect("float")).collect()
+    }
+
+    fn ints(&self, section: &str, name: &str) -> Vec<i64> {
+        self.get(section, name)
+            .2
+            .iter()
+            .map(|x| x.parse().expect("integer"))
+            .collect()
+    }
+}
+
+#[test]
+fn vtp_parses_back_with_the_network_counts_and_value_ranges() {
+    let Run { network, results } = &*RUN;
+    let (n_p, n_t) = (network.n_pores(), network.n_throats());
+    let angles = results.angles.as_ref().expect("angles");
+    // A pressure field with missing values (NaN, ∞) to exercise the
+    // sentinel.
+    let mut pressure: Vec<f64> = (0..n_p).map(|i| 100.0 * i as f64).collect();
+    pressure[3] = f64::NAN;
+    pressure[7] = f64::INFINITY;
+    for (k, state) in results.end_states.iter().enumerate() {
+        let text = write_vtp(network, state, Some(angles), Some(&pressure)).expect("writes");
+        let v = parse_vtp(&text);
+        assert_eq!(v.points, n_p);
+        assert_eq!(v.lines, n_t);
+        let names: BTreeSet<(String, String)> = v.arrays.keys().cloned().collect();
+        for (s, n) in [
+            ("PointData", "radius_m"),
+            ("PointData", "occupancy"),
+            ("PointData", "ganglion_id"),
+            ("PointData", "contact_angle_deg"),
+            ("PointData", "pressure"),
+            ("PointData", "pressure_known"),
+            ("PointData", "boundary"),
+            ("CellData", "radius_m"),
+            ("CellData", "occupancy"),
+            ("CellData", "ganglion_id"),
+            ("CellData", "contact_angle_deg"),
+            ("Points", "coordinates_m"),
+            ("Lines", "connectivity"),
+            ("Lines", "offsets"),
+        ] {
+            assert!(names.contains(&(s.into(), n.into())), "missing {s}/{n}");
+        }
+        // Types: small codes signed (mapped through colour maps), ids 32-bit.
+        for (sec, name, ty) in [
+            ("PointData", "occupancy", "Int8"),
+            ("CellData", "occupancy", "Int8"),
+            ("PointData", "boundary", "Int8"),
+            ("PointData", "ganglion_id", "Int32"),
+            ("CellData", "ganglion_id", "Int32"),
+            ("Lines", "connectivity", "Int64"),
+            ("Points", "coordinates_m", "Float64"),
+        ] {
+            assert_eq!(v.get(sec, name).0, ty, "{sec}/{name}");
+        }
+        // Lengths: one value per pore / throat (three per point).
+        let (_, comps, xyz) = v.get("Points", "coordinates_m");
+        assert_eq!((*comps, xyz.len()), (3, 3 * n_p));
+        for (s, n) in [("PointData", n_p), ("CellData", n_t)] {
+            for name in ["radius_m", "occupancy", "ganglion_id", "contact_angle_deg"] {
+                assert_eq!(v.get(s, name).2.len(), n, "{s}/{name}");
+            }
+        }
+        // Values read back bit for bit, radii positive.
+        let rp = v.f64s("PointData", "radius_m");
+        let rt = v.f64s("CellData", "radius_m");
+        assert_eq!(rp, network.pores().radius);
+        assert_eq!(rt, network.throats().radius);
+        assert!(rp.iter().chain(&rt).all(|&r| r > 0.0));
+        let coords = v.f64s("Points", "coordinates_m");
+        for i in 0..n_p {
+            assert_eq!(coords[3 * i..3 * i + 3], network.pores().centre(i));
+        }
+        let conn = v.ints("Lines", "connectivity");
+        for (t, ends) in network.throats().pores.iter().enumerate() {
+            assert_eq!(conn[2 * t..2 * t + 2], [ends[0] as i64, ends[1] as i64]);
+        }
+        let offsets = v.ints("Lines", "offsets");
+        assert_eq!(offsets, (1..=n_t as i64).map(|k| 2 * k).collect::<Vec<_>>());
+        // Occupancy codes in {0, 1, 2} and matching the state.
+        let mut occ = v.ints("PointData", "occupancy");
+        occ.extend(v.ints("CellData", "occupancy"));
+        for (e, &o) in occ.iter().enumerate() {
+            let expect = if state.oil[e] {
+                1
+            } else if state.layers[e] != 0 {
+                2
+            } else {
+                0
+            };
+            assert_eq!(o, expect, "element {e}");
+        }
+        let mut angle = v.f64s("PointData", "contact_angle_deg");
+        angle.extend(v.f64s("CellData", "contact_angle_deg"));
+        assert!(angle.iter().all(|a| (0.0..=180.0).contains(a)));
+        let boundary = v.ints("PointData", "boundary");
+        assert!(boundary.iter().all(|b| (0..=2).contains(b)));
+        assert!(boundary.contains(&1) && boundary.contains(&2));
+        // The pressure sentinel and its mask.
+        let p = v.f64s("PointData", "pressure");
+        let known = v.ints("PointData", "pressure_known");
+        assert_eq!(
+            (p[3], p[7], known[3], known[7]),
+            (PRESSURE_MISSING, PRESSURE_MISSING, 0, 0)
+        );
+        assert_eq!((p[5], known[5]), (500.0, 1));
+        // Ganglion ids: -1 or 0..count, and for the first imbibition exactly
+        // the run's ganglia, with their pore and throat counts.
+        let mut gid = v.ints("PointData", "ganglion_id");
+        gid.extend(v.ints("CellData", "ganglion_id"));
+        let distinct: BTreeSet<i64> = gid.iter().copied().filter(|&g| g >= 0).collect();
+        assert!(gid.iter().all(|&g| g >= -1));
+        // Ids are dense from 0.
+        assert_eq!(
+            distinct.iter().copied().collect::<Vec<_>>(),
+            (0..distinct.len() as i64).collect::<Vec<_>>()
+        );
+        if k == 1 {
+            assert_eq!(distinct.len(), results.ganglia.len());
+            for g in &results.ganglia {
+                let pores = gid[..n_p].iter().filter(|&&x| x == g.id as i64).count();
+                let throats = gid[n_p..].iter().filter(|&&x| x == g.id as i64).count();
+                assert_eq!((pores, throats), (g.pores, g.throats), "ganglion {}", g.id);
+            }
+        }
+    }
+    // The first imbibition's state has oil layers (code 2).
+    let v = parse_vtp(&write_vtp(network, &results.end_states[1], None, None).unwrap());
+    let mut occ = v.ints("PointData", "occupancy");
+    occ.extend(v.ints("CellData", "occupancy"));
+    assert!(occ.contains(&2) && occ.contains(&1) && occ.contains(&0));
+    // Without angles and pressure those arrays are left out.
+    assert!(
+        !v.arrays
+            .keys()
+            .any(|(_, n)| n.starts_with("pressure") || n.starts_with("contact"))
+    );
+}
+
+#[test]
+fn vtp_refuses_columns_of_the_wrong_length() {
+    let Run { network, results } = &*RUN;
+    let short = vec![0.0; network.n_pores() - 1];
+    let e = write_vtp(network, &results.end_states[0], None, Some(&short)).unwrap_err();
+    assert_eq!(
+        e,
+        VtkError::LengthMismatch {
+            what: "pressure",
+            expected: network.n_pores(),
+            found: network.n_pores() - 1
+        }
+    );
+    let mut state = results.end_states[0].clone();
+    state.oil.pop();
+    assert!(matches!(
+        write_vtp(network, &state, None, None),
+        Err(VtkError::LengthMismatch {
+            what: "state.oil",
+            ..
+        })
+    ));
+}
+
+#[test]
+fn tables_read_back_equal_monotone_and_spanning_the_simulated_range() {
+    let r = &RUN.results;
+    let files = saturation_tables(r, 15).expect("tables");
+    let names: Vec<&str> = files.iter().map(|(n, _)| n.as_str()).collect();
+    assert_eq!(
+        names,
+        [
+            "table-drainage.csv",
+            "table-drainage.inc",
+            "table-imbibition.csv",
+            "table-imbibition.inc"
+        ]
+    );
+    for (pair, outcome) in files.chunks(2).zip([&r.outcomes[0], &r.outcomes[1]]) {
+        let (csv_name, csv) = &pair[0];
+        let (_, inc) = &pair[1];
+        // Headers name units, the source run and the end-point handling.
+        for text in [csv, inc] {
+            for needle in [
+                "lattice <6x6x6>",
+                &r.network.hash,
+                &format!("ganglion {}", r.program.version),
+                "end points:",
+                "CO2",
+                "isotonic",
+            ] {
+                assert!(text.contains(needle), "{csv_name}: {needle:?}");
+            }
+        }
+        assert!(csv.contains("(Pa)") && inc.contains("(bar)"));
+        let rows = parse_csv(csv).expect("csv parses");
+        assert_eq!(rows.len(), 15);
+        let kw = parse_keyword_table(inc).expect("include parses");
+        assert_eq!(kw.keyword, "SWOF");
+        for i in 0..rows.len() {
+            // Include file: Sw with 6 decimals, others 7 significant digits
+            // (the writer's documented precision).
+            assert!((kw.rows.sw[i] - rows.sw[i]).abs() <= 5e-7);
+            for (a, b) in [
+                (kw.rows.krw[i], rows.krw[i]),
+                (kw.rows.krn[i], rows.krn[i]),
+                (kw.rows.pc_pa[i], rows.pc_pa[i]),
+            ] {
+                assert!((a - b).abs() <= 1e-6 * b.abs() + 1e-300, "{a} {b}");
+            }
+        }
+        // Monotone: Sw rising strictly, krw rising, krn and Pc falling.
+        for w in 0..rows.len() - 1 {
+            assert!(rows.sw[w] < rows.sw[w + 1]);
+            assert!(rows.krw[w] <= rows.krw[w + 1]);
+            assert!(rows.krn[w] >= rows.krn[w + 1]);
+            assert!(rows.pc_pa[w] >= rows.pc_pa[w + 1]);
+        }
+        // The table spans exactly the Sw range of the solved points, and
+        // krn = 0 at its top (the documented default end-point rule).
+        let sw: Vec<f64> = outcome
+            .points
+            .iter()
+            .filter(|p| p.flow.is_some())
+            .map(|p| p.saturation.sw)
+            .collect();
+        let lo = sw.iter().copied().fold(f64::INFINITY, f64::min);
+        let hi = sw.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        assert_eq!((rows.sw[0], rows.sw[14]), (lo, hi));
+        assert_eq!(rows.krn[14], 0.0);
+    }
+    // Too few rows requested: the error names the file.
+    match saturation_tables(r, 1) {
+        Err(ReportError::Table { file, .. }) => assert_eq!(file, "table-drainage.csv"),
+        other => panic!("expected a table error, got {other:?}"),
+    }
+}
+
+fn temp_dir(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("ganglion-report-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    d
+}
+
+#[test]
+fn artifacts_are_all_written_and_listed() {
+    let Run { network, results } = &*RUN;
+    let dir = temp_dir("artifacts");
+    let written = write_run_artifacts(
+        results,
+        network,
+        &dir.join("out"),
+        &ArtifactOptions {
+            png: true,
+            vtk: true,
+            table_points: 11,
+        },
+    )
+    .expect("written");
+    let mut names: Vec<String> = written
+        .iter()
+        .map(|p| p.file_name().unwrap().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    let mut expect: Vec<String> = ["pc-sw", "kr-sw", "kr-sw-log", "ri-sw", "ganglion-sizes"]
+        .iter()
+        .flat_map(|s| [format!("{s}.svg"), format!("{s}.png")])
+        .collect();
+    expect.extend(
+        [
+            "table-drainage.csv",
+            "table-drainage.inc",
+            "table-imbibition.csv",
+            "table-imbibition.inc",
+            "report.html",
+            "state-1-drainage.vtp",
+            "state-2-imbibition.vtp",
+            "state-3-drainage.vtp",
+        ]
+        .map(String::from),
+    );
+    expect.sort();
+    assert_eq!(names, expect);
+    // Exactly these files in the folder (no temporary files left behind).
+    let mut on_disk: Vec<String> = std::fs::read_dir(dir.join("out"))
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    on_disk.sort();
+    assert_eq!(on_disk, expect);
+    let png = std::fs::read(dir.join("out/pc-sw.png")).unwrap();
+    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
+    let html = std::fs::read_to_string(dir.join("out/report.html")).unwrap();
+    assert_eq!(html, run_report(results, &run_figures(results)));
+    let csv = std::fs::read_to_string(dir.join("out/table-imbibition.csv")).unwrap();
+    assert_eq!(parse_csv(&csv).unwrap().len(), 11);
+
+    // A file where the folder should be: an I/O error naming that path.
+    let blocker = dir.join("blocked");
+    std::fs::write(&blocker, b"x").unwrap();
+    match write_run_artifacts(results, network, &blocker, &ArtifactOptions::default()) {
+        Err(ReportError::Io { path, .. }) => assert_eq!(path, blocker),
+        other => panic!("expected an I/O error, got {other:?}"),
+    }
+    std::fs::remove_dir_all(&dir).unwrap();
+}
