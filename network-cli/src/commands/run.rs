@@ -13,9 +13,13 @@ use crate::progress::Bars;
 /// writing the results to a folder.
 ///
 /// OUT receives summary.json (inputs echoed, network hash, program version,
-/// per-process results), curves.csv (one row per recorded point) and
-/// ganglia.csv (trapped clusters of the non-aqueous phase). Every file is
-/// written atomically.
+/// per-process results, end points, fits), curves.csv (one row per recorded
+/// point, with krw, krn and RI where computed), ganglia.csv (trapped
+/// clusters of the non-aqueous phase), the figures (SVG and PNG), the
+/// saturation-function tables for drainage and imbibition (CSV and a
+/// simulator include file), report.html (one self-contained file) and the
+/// end state of every process as VTK PolyData (state-K-KIND.vtp). Every
+/// file is written atomically.
 ///
 /// Examples:
 ///   ganglion run sample-networks/studies/water-wet.toml -o out/
@@ -28,6 +32,15 @@ pub struct Args {
     /// Output folder (created if missing).
     #[arg(short, long, value_name = "OUT")]
     pub output: PathBuf,
+    /// Skip the PNG copies of the figures.
+    #[arg(long)]
+    pub no_png: bool,
+    /// Skip the VTK files of the end states.
+    #[arg(long)]
+    pub no_vtk: bool,
+    /// Rows of each saturation-function table.
+    #[arg(long, default_value_t = 21, value_name = "N")]
+    pub table_points: usize,
 }
 
 /// Reads and validates a study file.
@@ -54,12 +67,22 @@ pub fn network_path(study_path: &Path, study: &Study) -> PathBuf {
 }
 
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
+    if args.table_points < 2 {
+        anyhow::bail!("--table-points {}: must be at least 2", args.table_points);
+    }
     let study = read_study(&args.study)?;
     let (network, hash) = super::study_network(&args.study, &study, 0, progress)?;
     let mut results = run_study(&network, &study, progress);
     results.network.hash = hash;
     io::results::write_run(&results, &args.output)
         .with_context(|| format!("cannot write results to {}", args.output.display()))?;
+    let opts = network_report::ArtifactOptions {
+        png: !args.no_png,
+        vtk: !args.no_vtk,
+        table_points: args.table_points,
+    };
+    network_report::write_run_artifacts(&results, &network, &args.output, &opts)
+        .with_context(|| format!("cannot write the report files to {}", args.output.display()))?;
     if !progress.quiet() {
         for (i, p) in results.processes.iter().enumerate() {
             eprintln!(
