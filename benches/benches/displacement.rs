@@ -97,12 +97,24 @@ fn displacement(n: usize, repeats: usize) -> Timing {
         let base = peak_rss_bytes();
         let mut eng = Engine::new(setup, angles);
         let t = Instant::now();
-        let d = run_process(&mut eng, ProcessKind::Drainage, StopAt::Pc(1e5), 40, &Silent);
+        let d = run_process(
+            &mut eng,
+            ProcessKind::Drainage,
+            StopAt::Pc(1e5),
+            40,
+            &Silent,
+        );
         dr.push(t.elapsed().as_secs_f64());
         eng.alter_wettability(&study.wettability);
         let before = eng.trapping_cost();
         let t = Instant::now();
-        let i = run_process(&mut eng, ProcessKind::Imbibition, StopAt::Pc(-1e5), 40, &Silent);
+        let i = run_process(
+            &mut eng,
+            ProcessKind::Imbibition,
+            StopAt::Pc(-1e5),
+            40,
+            &Silent,
+        );
         im.push(t.elapsed().as_secs_f64());
         let after = eng.trapping_cost();
         visits = (after.0 - before.0, after.1 - before.1);
@@ -133,7 +145,13 @@ fn run_displacement(sizes: &[usize]) {
         let t = displacement(n, if n >= 80 { 1 } else { 3 });
         println!(
             "{:>9} {:>12.3} {:>13.3} {:>10} {:>14} {:>12} {:>14.0}",
-            t.n_pores, t.drainage_s, t.imbibition_s, t.events, t.trapping_visits, t.trapping_searches, t.peak_bytes_per_pore
+            t.n_pores,
+            t.drainage_s,
+            t.imbibition_s,
+            t.events,
+            t.trapping_visits,
+            t.trapping_searches,
+            t.peak_bytes_per_pore
         );
         rows.push(t);
     }
@@ -153,7 +171,10 @@ fn run_displacement(sizes: &[usize]) {
 
 fn run_kr(sizes: &[usize]) {
     println!("== full run: drainage + imbibition with 20 kr points each");
-    println!("{:>9} {:>10} {:>14} {:>12} {:>16}", "pores", "total s", "flow solves s", "solve share", "peak MB");
+    println!(
+        "{:>9} {:>10} {:>14} {:>12} {:>16}",
+        "pores", "total s", "flow solves s", "solve share", "peak MB"
+    );
     for &n in sizes {
         let net = lattice(n);
         let study = Study::parse(STUDY).unwrap();
@@ -170,6 +191,7 @@ fn run_kr(sizes: &[usize]) {
             100.0 * r.flow_solve_seconds / total,
             (peak_rss_bytes().saturating_sub(base)) as f64 / 1e6
         );
+        println!("  solves {:?}", r.flow_solve_stats);
         if !r.warnings.is_empty() {
             println!("  warnings: {:?}", r.warnings);
         }
@@ -198,7 +220,10 @@ fn run_sweep(n: usize) {
     }
     let t_sweep = t.elapsed().as_secs_f64();
     let s = summarise(cases.len(), &results);
-    println!("== sweep: 10 initial saturations × 4 realisations on {} pores ({threads} threads)", net.n_pores());
+    println!(
+        "== sweep: 10 initial saturations × 4 realisations on {} pores ({threads} threads)",
+        net.n_pores()
+    );
     println!(
         "one full run (kr included) {t_full:.2} s; sweep of {} cases {t_sweep:.2} s wall = {:.2}× one full run ({:.2}× per core); Land C {:?}",
         cases.len(),
@@ -210,10 +235,19 @@ fn run_sweep(n: usize) {
 }
 
 fn main() {
-    let args: Vec<String> = std::env::args().skip(1).filter(|a| !a.starts_with('-')).collect();
+    let args: Vec<String> = std::env::args()
+        .skip(1)
+        .filter(|a| !a.starts_with('-'))
+        .collect();
     let part = args.first().map(String::as_str).unwrap_or("all");
     let sizes: Vec<usize> = args.iter().filter_map(|a| a.parse().ok()).collect();
-    let pick = |d: &[usize]| if sizes.is_empty() { d.to_vec() } else { sizes.clone() };
+    let pick = |d: &[usize]| {
+        if sizes.is_empty() {
+            d.to_vec()
+        } else {
+            sizes.clone()
+        }
+    };
     match part {
         "drainage" | "imbibition" | "displacement" => run_displacement(&pick(&[22, 46, 100])),
         "kr" => run_kr(&pick(&[46, 100])),

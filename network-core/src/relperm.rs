@@ -158,9 +158,25 @@ pub struct RelpermSolver {
     clay_tortuosity: f64,
     /// Seconds spent in solves (for the cost report).
     pub solve_seconds: f64,
+    /// Solves run, multigrid hierarchies built, conjugate-gradient
+    /// iterations (for the cost report).
+    pub stats: SolveStats,
 }
 
+/// Counters of the flow solves of a run.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct SolveStats {
+    /// Pressure solves.
+    pub solves: usize,
+    /// Multigrid hierarchies built.
+    pub hierarchies_built: usize,
+    /// Conjugate-gradient iterations over all solves.
+    pub iterations: usize,
+}
+
+#[allow(clippy::too_many_arguments)]
 fn solve_phase(
+    stats: &mut SolveStats,
     sys: &mut PressureSystem,
     conduit: &[f64],
     active: &[bool],
@@ -184,8 +200,12 @@ fn solve_phase(
             inflow,
             outflow,
             iterations,
+            preconditioner_built,
             ..
         }) => {
+            stats.solves += 1;
+            stats.iterations += iterations;
+            stats.hierarchies_built += preconditioner_built as usize;
             *warm = Some(pressure);
             Ok((0.5 * (inflow + outflow), iterations))
         }
@@ -223,11 +243,13 @@ impl RelpermSolver {
             opts,
             clay_tortuosity,
             solve_seconds: 0.0,
+            stats: SolveStats::default(),
         };
         let g = flow::element_hydraulic_conductances(network, 1.0);
         conduit_conductances(network, &g, &mut s.conduit)?;
         let mut warm = None;
         let (q, _) = solve_phase(
+            &mut s.stats,
             &mut s.water,
             &s.conduit,
             &s.active,
@@ -240,6 +262,7 @@ impl RelpermSolver {
         conduit_conductances(network, &ge, &mut s.conduit)?;
         let mut warm_e = None;
         let (i, _) = solve_phase(
+            &mut s.stats,
             &mut s.electric,
             &s.conduit,
             &s.active,
@@ -270,6 +293,7 @@ impl RelpermSolver {
         let pc = phase_conductances(engine, self.clay_tortuosity);
         conduit_conductances(net, &pc.water, &mut self.conduit)?;
         let (qw, iw) = solve_phase(
+            &mut self.stats,
             &mut self.water,
             &self.conduit,
             &self.active,
@@ -280,6 +304,7 @@ impl RelpermSolver {
         )?;
         conduit_conductances(net, &pc.oil, &mut self.conduit)?;
         let (qo, io) = solve_phase(
+            &mut self.stats,
             &mut self.oil,
             &self.conduit,
             &self.active,
@@ -290,6 +315,7 @@ impl RelpermSolver {
         )?;
         conduit_conductances(net, &pc.electrical, &mut self.conduit)?;
         let (ie, ii) = solve_phase(
+            &mut self.stats,
             &mut self.electric,
             &self.conduit,
             &self.active,

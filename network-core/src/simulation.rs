@@ -157,6 +157,8 @@ pub struct RunResults {
     pub archie: Option<ArchieSummary>,
     /// Seconds spent in flow solves for relative permeability.
     pub flow_solve_seconds: f64,
+    /// Counters of those solves.
+    pub flow_solve_stats: crate::relperm::SolveStats,
     /// Warnings for the reader.
     pub warnings: Vec<String>,
     /// Recorded curves, per process.
@@ -363,6 +365,7 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
             .as_ref()
             .map(|r| analysis::archie(r.porosity, r.formation_factor, &outcomes)),
         flow_solve_seconds: relperm.as_ref().map_or(0.0, |r| r.solve_seconds),
+        flow_solve_stats: relperm.as_ref().map_or(Default::default(), |r| r.stats),
         single_phase,
         warnings,
         outcomes,
