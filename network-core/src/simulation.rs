@@ -155,7 +155,9 @@ pub struct RunResults {
     pub fits: Vec<ProcessFits>,
     /// Archie exponents.
     pub archie: Option<ArchieSummary>,
-    /// Seconds spent in flow solves for relative permeability.
+    /// Seconds spent in flow solves for relative permeability (wall time;
+    /// not written to `summary.json`, which depends only on the inputs).
+    #[serde(skip)]
     pub flow_solve_seconds: f64,
     /// Counters of those solves.
     pub flow_solve_stats: crate::relperm::SolveStats,

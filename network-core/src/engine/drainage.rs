@@ -65,6 +65,7 @@ impl Engine<'_> {
                 }
             }
         }
+        self.reaccount_all();
     }
 
     /// Marks the unconnected oil around `x` as connected, pushing onto
@@ -93,14 +94,18 @@ impl Engine<'_> {
     }
 
     fn reconnect_one(&mut self, n: usize, stack: &mut Vec<usize>) {
-        let s = &mut self.dyn_.state;
-        if s.conducts_oil(n) && !self.dyn_.connected[n] {
+        if self.dyn_.state.conducts_oil(n) && !self.dyn_.connected[n] {
+            self.release_account(n);
             self.dyn_.connected[n] = true;
+            let s = &mut self.dyn_.state;
             if s.oil_trapped[n] {
                 s.oil_trapped[n] = false;
-                s.frozen_pc[n] = f64::NAN;
+                if !s.water_trapped[n] {
+                    s.frozen_pc[n] = f64::NAN;
+                }
                 s.ganglion[n] = super::state::NO_GANGLION;
             }
+            self.reaccount(n);
             stack.push(n);
         }
     }
@@ -128,6 +133,7 @@ impl Engine<'_> {
     /// Fills element `e` with the non-aqueous phase at the current Pc.
     pub(super) fn fill_oil(&mut self, e: usize) {
         let pc = self.dyn_.state.pc;
+        self.release_account(e);
         {
             let d = &mut self.dyn_;
             let s = &mut d.state;
@@ -150,6 +156,7 @@ impl Engine<'_> {
             d.bulk_oil_volume += self.volume[e];
             d.events += 1;
         }
+        self.reaccount(e);
         if e < self.n_p {
             self.dyn_.counts.drainage_pores += 1;
         } else {
@@ -215,7 +222,7 @@ impl Engine<'_> {
             seeds,
             |x| self.conducts_water(x),
             |x| self.boundary(x) == Boundary::Outlet,
-            |x, f| self.for_each_neighbour(x, f),
+            |x| self.neighbours(x),
             one_must_escape,
             |p| pieces.push(p.to_vec()),
         );
@@ -225,6 +232,7 @@ impl Engine<'_> {
             self.dyn_.counts.trapped_water_clusters += 1;
             for &x in &piece {
                 let x = x as usize;
+                self.release_account(x);
                 let s = &mut self.dyn_.state;
                 s.water_trapped[x] = true;
                 if s.frozen_pc[x].is_nan() {
@@ -233,6 +241,7 @@ impl Engine<'_> {
                 if !s.oil[x] {
                     self.dyn_.queue.cancel(x);
                 }
+                self.reaccount(x);
             }
         }
     }
@@ -269,5 +278,6 @@ impl Engine<'_> {
             }
         }
         self.mode = Mode::Idle;
+        self.drop_accounts();
     }
 }

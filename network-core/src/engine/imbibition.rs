@@ -156,6 +156,7 @@ impl Engine<'_> {
                 self.queue_layer_collapse(e);
             }
         }
+        self.reaccount_all();
     }
 
     fn mark_oil_trapped(&mut self, piece: &[u32]) {
@@ -164,6 +165,7 @@ impl Engine<'_> {
         self.dyn_.counts.trapped_oil_clusters += 1;
         for &x in piece {
             let x = x as usize;
+            self.release_account(x);
             let s = &mut self.dyn_.state;
             s.oil_trapped[x] = true;
             s.ganglion[x] = id;
@@ -171,6 +173,7 @@ impl Engine<'_> {
                 s.frozen_pc[x] = pc;
             }
             self.dyn_.queue.cancel(x);
+            self.reaccount(x);
         }
     }
 
@@ -301,6 +304,7 @@ impl Engine<'_> {
             self.for_each_neighbour(e, |n| n_oil_throats += s.oil[n] as usize);
         }
         let at_outlet = self.boundary(e) == Boundary::Outlet;
+        self.release_account(e);
         {
             let d = &mut self.dyn_;
             d.state.oil[e] = false;
@@ -343,6 +347,7 @@ impl Engine<'_> {
                 self.queue_layer_collapse(e);
             }
         }
+        self.reaccount(e);
         let nb = self.neighbours(e);
         self.release_water(&nb);
         if !self.dyn_.state.conducts_oil(e) {
@@ -371,7 +376,9 @@ impl Engine<'_> {
                 }
             }
         }
+        self.release_account(e);
         self.dyn_.state.layers[e] = mask & !(1 << best.1);
+        self.reaccount(e);
         self.dyn_.counts.layer_collapses += 1;
         self.dyn_.events += 1;
         if self.dyn_.state.layers[e] != 0 {
@@ -397,7 +404,7 @@ impl Engine<'_> {
             seeds,
             |x| self.conducts_free_oil(x),
             |x| self.is_oil_exit(x),
-            |x, f| self.for_each_neighbour(x, f),
+            |x| self.neighbours(x),
             one_must_escape,
             |p| pieces.push(p.to_vec()),
         );
@@ -411,12 +418,14 @@ impl Engine<'_> {
     fn release_water(&mut self, around: &[usize]) {
         let mut stack: Vec<usize> = Vec::new();
         for &n in around {
-            let s = &mut self.dyn_.state;
-            if s.water_trapped[n] {
+            if self.dyn_.state.water_trapped[n] {
+                self.release_account(n);
+                let s = &mut self.dyn_.state;
                 s.water_trapped[n] = false;
                 if !s.oil_trapped[n] {
                     s.frozen_pc[n] = f64::NAN;
                 }
+                self.reaccount(n);
                 stack.push(n);
             }
         }
@@ -428,12 +437,14 @@ impl Engine<'_> {
         while let Some(x) = stack.pop() {
             let nb = self.neighbours(x);
             for n in nb {
-                let s = &mut self.dyn_.state;
-                if s.water_trapped[n] {
+                if self.dyn_.state.water_trapped[n] {
+                    self.release_account(n);
+                    let s = &mut self.dyn_.state;
                     s.water_trapped[n] = false;
                     if !s.oil_trapped[n] {
                         s.frozen_pc[n] = f64::NAN;
                     }
+                    self.reaccount(n);
                     stack.push(n);
                     released.push(n);
                 }
@@ -453,6 +464,7 @@ impl Engine<'_> {
     /// Ends an imbibition.
     pub fn end_imbibition(&mut self) {
         self.mode = Mode::Idle;
+        self.drop_accounts();
         let s = &mut self.dyn_.state;
         let pc = s.pc;
         for e in 0..s.oil.len() {

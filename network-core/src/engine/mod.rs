@@ -14,6 +14,7 @@
 //! The event loop is sequential and deterministic; only the per-element
 //! kernels (thresholds, saturations) run in parallel, with fixed grouping.
 
+pub mod accounting;
 pub mod drainage;
 pub mod imbibition;
 pub mod process;
@@ -128,6 +129,8 @@ pub struct Dynamic {
     /// Capillary pressure of breakthrough in the current process.
     pub breakthrough_pc: Option<f64>,
     next_ganglion: u32,
+    /// Incremental saturation records.
+    acc: accounting::Accounts,
 }
 
 /// The displacement engine.
@@ -157,6 +160,13 @@ pub struct Engine<'a> {
     /// Cooperative filling scale `1/r̄_t`, 1/m.
     coop_scale: f64,
     pore_volume: f64,
+    /// Corner-water coefficient of each element for the current process
+    /// (see [`accounting`]).
+    corner_coef: Vec<f64>,
+    /// Σ clay volume, m³.
+    clay_total: f64,
+    /// Σ resolved volume, m³.
+    resolved_total: f64,
 }
 
 impl<'a> Engine<'a> {
@@ -190,6 +200,8 @@ impl<'a> Engine<'a> {
             rt.iter().sum::<f64>() / rt.len() as f64
         };
         let pore_volume = net.pore_volume();
+        let clay_total = clay.iter().sum();
+        let resolved_total = volume.iter().sum();
         Engine {
             n_p,
             volume,
@@ -206,6 +218,7 @@ impl<'a> Engine<'a> {
                 bulk_oil_volume: 0.0,
                 breakthrough_pc: None,
                 next_ganglion: 0,
+                acc: Default::default(),
             },
             mode: Mode::Idle,
             search: SplitSearch::new(n_e),
@@ -214,6 +227,9 @@ impl<'a> Engine<'a> {
             snap: Vec::new(),
             coop_scale: 1.0 / mean_rt,
             pore_volume,
+            corner_coef: Vec::new(),
+            clay_total,
+            resolved_total,
             setup,
         }
     }

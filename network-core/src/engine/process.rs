@@ -99,6 +99,7 @@ pub fn advance_limited(
         on_event(engine);
     }
     engine.dyn_.state.pc = pc;
+    engine.settle_accounts();
     applied
 }
 

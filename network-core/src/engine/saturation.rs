@@ -62,7 +62,7 @@ impl Engine<'_> {
     /// Capillary pressures that set the menisci of element `e`: the
     /// pressure they see (frozen where trapped), the highest drainage
     /// pressure and the lowest imbibition pressure behind them.
-    fn meniscus_pressures(&self, e: usize) -> (f64, f64, f64) {
+    pub(super) fn meniscus_pressures(&self, e: usize) -> (f64, f64, f64) {
         let s = &self.dyn_.state;
         let frozen = s.frozen_pc[e].is_finite();
         let mut pc = if frozen { s.frozen_pc[e] } else { s.pc };
@@ -149,8 +149,9 @@ impl Engine<'_> {
         }
     }
 
-    /// Saturations of the current state (parallel, deterministic).
-    pub fn saturation(&self) -> Saturation {
+    /// Saturations of the current state recomputed element by element
+    /// (parallel, deterministic): the reference for [`Engine::saturation`].
+    pub fn saturation_full(&self) -> Saturation {
         let n = self.volume.len();
         let n_chunks = n.div_ceil(CHUNK);
         let parts: Vec<Sums> = (0..n_chunks)

@@ -31,7 +31,6 @@ pub struct SplitSearch {
     parent: Vec<usize>,
     status: Vec<Status>,
     progressed: Vec<bool>,
-    frontier: Vec<usize>,
     /// Elements visited over all searches (for the cost report).
     pub visited_total: u64,
     /// Number of searches run.
@@ -50,7 +49,6 @@ impl SplitSearch {
             parent: Vec::new(),
             status: Vec::new(),
             progressed: Vec::new(),
-            frontier: Vec::new(),
             visited_total: 0,
             searches: 0,
         }
@@ -83,7 +81,7 @@ impl SplitSearch {
     /// - `conducts(x)`: element `x` belongs to the defending cluster (holds
     ///   the phase, conducts it, and is not already trapped);
     /// - `is_exit(x)`: the phase escapes at element `x`;
-    /// - `neighbours(x, f)`: calls `f` on each neighbour of `x`;
+    /// - `neighbours(x)`: the neighbours of `x`;
     /// - `one_must_escape`: at least one piece is known to reach an exit.
     ///
     /// Calls `trapped(piece)` once per trapped piece with its elements.
@@ -98,7 +96,7 @@ impl SplitSearch {
     ) where
         C: Fn(usize) -> bool,
         X: Fn(usize) -> bool,
-        N: Fn(usize, &mut dyn FnMut(usize)),
+        N: Fn(usize) -> super::Neighbours,
         T: FnMut(&[u32]),
     {
         self.searches += 1;
@@ -128,7 +126,6 @@ impl SplitSearch {
             self.reset();
             return;
         }
-        let mut frontier = std::mem::take(&mut self.frontier);
         let mut progressed = std::mem::take(&mut self.progressed);
         loop {
             // Decide whether to stop.
@@ -159,9 +156,8 @@ impl SplitSearch {
                 };
                 progressed[root] = true;
                 self.visited_total += 1;
-                frontier.clear();
-                neighbours(x as usize, &mut |y| frontier.push(y));
-                for &y in &frontier {
+                let nb = neighbours(x as usize);
+                for &y in &nb {
                     if !conducts(y) {
                         continue;
                     }
@@ -190,7 +186,6 @@ impl SplitSearch {
                 }
             }
         }
-        self.frontier = frontier;
         self.progressed = progressed;
         // Report exhausted pieces.
         let mut piece: Vec<u32> = Vec::new();
@@ -225,14 +220,16 @@ mod tests {
     use super::*;
 
     /// A path graph 0-1-2-…-(n-1); `removed` does not conduct.
-    fn path_neighbours(n: usize) -> impl Fn(usize, &mut dyn FnMut(usize)) {
-        move |x, f| {
+    fn path_neighbours(n: usize) -> impl Fn(usize) -> crate::engine::Neighbours {
+        move |x| {
+            let mut v = crate::engine::Neighbours::new();
             if x > 0 {
-                f(x - 1);
+                v.push(x - 1);
             }
             if x + 1 < n {
-                f(x + 1);
+                v.push(x + 1);
             }
+            v
         }
     }
 
@@ -255,10 +252,7 @@ mod tests {
     #[test]
     fn loop_keeps_both_sides_connected() {
         // A ring of 8 with exit at 5: removing 0 splits nothing.
-        let ring = |x: usize, f: &mut dyn FnMut(usize)| {
-            f((x + 1) % 8);
-            f((x + 7) % 8);
-        };
+        let ring = |x: usize| crate::engine::Neighbours::from_slice(&[(x + 1) % 8, (x + 7) % 8]);
         let mut s = SplitSearch::new(8);
         let mut found = 0;
         s.run(&[1, 7], |x| x != 0, |x| x == 5, ring, true, |_| found += 1);
