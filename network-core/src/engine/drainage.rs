@@ -222,7 +222,7 @@ impl Engine<'_> {
             seeds,
             |x| self.conducts_water(x),
             |x| self.boundary(x) == Boundary::Outlet,
-            |x| self.neighbours(x),
+            |x, out| self.neighbours_into(x, out),
             one_must_escape,
             |p| pieces.push(p.to_vec()),
         );

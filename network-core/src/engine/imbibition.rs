@@ -404,7 +404,7 @@ impl Engine<'_> {
             seeds,
             |x| self.conducts_free_oil(x),
             |x| self.is_oil_exit(x),
-            |x| self.neighbours(x),
+            |x, out| self.neighbours_into(x, out),
             one_must_escape,
             |p| pieces.push(p.to_vec()),
         );

@@ -326,8 +326,21 @@ impl<'a> Engine<'a> {
     #[inline]
     pub fn neighbours(&self, e: usize) -> Neighbours {
         let mut v = Neighbours::new();
-        self.for_each_neighbour(e, |n| v.push(n));
+        self.neighbours_into(e, &mut v);
         v
+    }
+
+    /// Appends the neighbours of element `e` to `out`.
+    #[inline]
+    pub fn neighbours_into(&self, e: usize, out: &mut Neighbours) {
+        let n_p = self.n_p;
+        if e < n_p {
+            out.extend(self.setup.network.adjacency().throats_of(e).iter().map(|&t| n_p + t as usize));
+        } else {
+            let [a, b] = self.setup.network.throats().pores[e - n_p];
+            out.push(a as usize);
+            out.push(b as usize);
+        }
     }
 
     /// The pore's face tag (throats are interior).

@@ -81,7 +81,7 @@ impl SplitSearch {
     /// - `conducts(x)`: element `x` belongs to the defending cluster (holds
     ///   the phase, conducts it, and is not already trapped);
     /// - `is_exit(x)`: the phase escapes at element `x`;
-    /// - `neighbours(x)`: the neighbours of `x`;
+    /// - `neighbours(x, out)`: appends the neighbours of `x` to `out`;
     /// - `one_must_escape`: at least one piece is known to reach an exit.
     ///
     /// Calls `trapped(piece)` once per trapped piece with its elements.
@@ -96,7 +96,7 @@ impl SplitSearch {
     ) where
         C: Fn(usize) -> bool,
         X: Fn(usize) -> bool,
-        N: Fn(usize) -> super::Neighbours,
+        N: Fn(usize, &mut super::Neighbours),
         T: FnMut(&[u32]),
     {
         self.searches += 1;
@@ -127,6 +127,7 @@ impl SplitSearch {
             return;
         }
         let mut progressed = std::mem::take(&mut self.progressed);
+        let mut nb = super::Neighbours::new();
         loop {
             // Decide whether to stop.
             let mut active_roots = 0usize;
@@ -156,7 +157,8 @@ impl SplitSearch {
                 };
                 progressed[root] = true;
                 self.visited_total += 1;
-                let nb = neighbours(x as usize);
+                nb.clear();
+                neighbours(x as usize, &mut nb);
                 for &y in &nb {
                     if !conducts(y) {
                         continue;
@@ -220,16 +222,14 @@ mod tests {
     use super::*;
 
     /// A path graph 0-1-2-…-(n-1); `removed` does not conduct.
-    fn path_neighbours(n: usize) -> impl Fn(usize) -> crate::engine::Neighbours {
-        move |x| {
-            let mut v = crate::engine::Neighbours::new();
+    fn path_neighbours(n: usize) -> impl Fn(usize, &mut crate::engine::Neighbours) {
+        move |x, v| {
             if x > 0 {
                 v.push(x - 1);
             }
             if x + 1 < n {
                 v.push(x + 1);
             }
-            v
         }
     }
 
@@ -252,7 +252,10 @@ mod tests {
     #[test]
     fn loop_keeps_both_sides_connected() {
         // A ring of 8 with exit at 5: removing 0 splits nothing.
-        let ring = |x: usize| crate::engine::Neighbours::from_slice(&[(x + 1) % 8, (x + 7) % 8]);
+        let ring = |x: usize, v: &mut crate::engine::Neighbours| {
+            v.push((x + 1) % 8);
+            v.push((x + 7) % 8);
+        };
         let mut s = SplitSearch::new(8);
         let mut found = 0;
         s.run(&[1, 7], |x| x != 0, |x| x == 5, ring, true, |_| found += 1);
