@@ -335,7 +335,14 @@ impl<'a> Engine<'a> {
     pub fn neighbours_into(&self, e: usize, out: &mut Neighbours) {
         let n_p = self.n_p;
         if e < n_p {
-            out.extend(self.setup.network.adjacency().throats_of(e).iter().map(|&t| n_p + t as usize));
+            out.extend(
+                self.setup
+                    .network
+                    .adjacency()
+                    .throats_of(e)
+                    .iter()
+                    .map(|&t| n_p + t as usize),
+            );
         } else {
             let [a, b] = self.setup.network.throats().pores[e - n_p];
             out.push(a as usize);
