@@ -4,7 +4,7 @@
 //!
 //! Run with `cargo bench -p ganglion-benches --bench displacement`; pick
 //! parts and lattice edges with arguments, e.g. `-- drainage 22 46 100`,
-//! `-- kr 46 100`, `-- sweep 46`. Setup (generation, geometry) is not
+//! `-- kr 46 100`, `-- kr-accuracy 30`, `-- sweep 46`. Setup (generation, geometry) is not
 //! timed. Prints seconds (median of the repeats), the cost-growth exponent
 //! between the smallest and largest size, and peak resident memory
 //! (VmHWM, reset before each measurement).
@@ -34,8 +34,6 @@ advancing_contact_angle_deg = [30.0, 50.0]
 imbibition_faces = "both"
 [mechanisms]
 cooperative_weights = [2.0, 5.0, 10.0]
-[flow]
-solver_tolerance = 1.0e-8
 [[process]]
 kind = "drainage"
 until_pc_pa = 1.0e5
@@ -198,6 +196,60 @@ fn run_kr(sizes: &[usize]) {
     }
 }
 
+/// Largest differences of k_rw, k_rn and RI between runs at the default
+/// solver tolerance and at 10⁻¹² (the justification of the default).
+fn run_kr_accuracy(sizes: &[usize]) {
+    println!("== kr accuracy: default solver tolerance against 1e-12");
+    println!(
+        "{:>9} {:>10} {:>12} {:>12} {:>12} {:>12} {:>9} {:>9}",
+        "pores",
+        "tolerance",
+        "max |Δkrw|",
+        "max |Δkrn|",
+        "max rel Δkr",
+        "max rel ΔRI",
+        "its",
+        "its 1e-12"
+    );
+    for &n in sizes {
+        let net = lattice(n);
+        let study = Study::parse(STUDY).unwrap();
+        let mut tight = study.clone();
+        tight.flow.solver_tolerance = 1e-12;
+        let a = run_study(&net, &study, &Silent);
+        let b = run_study(&net, &tight, &Silent);
+        let (mut dw, mut dn, mut rel, mut rel_ri) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
+        for (oa, ob) in a.outcomes.iter().zip(&b.outcomes) {
+            for (pa, pb) in oa.points.iter().zip(&ob.points) {
+                let (Some(fa), Some(fb)) = (pa.flow, pb.flow) else {
+                    continue;
+                };
+                dw = dw.max((fa.krw - fb.krw).abs());
+                dn = dn.max((fa.krn - fb.krn).abs());
+                for (x, y) in [(fa.krw, fb.krw), (fa.krn, fb.krn)] {
+                    if y > 0.0 {
+                        rel = rel.max((x - y).abs() / y);
+                    }
+                }
+                if fb.ri.is_finite() {
+                    rel_ri = rel_ri.max((fa.ri - fb.ri).abs() / fb.ri);
+                }
+            }
+        }
+        println!(
+            "{:>9} {:>10.0e} {:>12.2e} {:>12.2e} {:>12.2e} {:>12.2e} {:>9} {:>9}",
+            net.n_pores(),
+            study.flow.solver_tolerance,
+            dw,
+            dn,
+            rel,
+            rel_ri,
+            a.flow_solve_stats.iterations,
+            b.flow_solve_stats.iterations
+        );
+    }
+}
+
 fn run_sweep(n: usize) {
     let net = lattice(n);
     let text = format!(
@@ -251,6 +303,7 @@ fn main() {
     match part {
         "drainage" | "imbibition" | "displacement" => run_displacement(&pick(&[22, 46, 100])),
         "kr" => run_kr(&pick(&[46, 100])),
+        "kr-accuracy" => run_kr_accuracy(&pick(&[30])),
         "sweep" => run_sweep(pick(&[46])[0]),
         _ => {
             run_displacement(&pick(&[22, 46, 100]));

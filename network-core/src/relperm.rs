@@ -15,11 +15,13 @@
 //!
 //! Element values combine per conduit by the series rule
 //! ([`flow::conduit_conductances`]) and one Kirchhoff solve per phase gives
-//! its flow between the faces; only the phase's clusters that join inlet
-//! and outlet carry it. `k_r = Q_p / Q_single-phase` at the same pressure
-//! drop and viscosity. The resistivity index `RI = R_t/R_o = I_o/I_t`
-//! comes from the same solve on the water's electrical conductance
-//! `σ_w (A_w + A_clay/τ)` (Archie 1942 defines `RI = R_t/R_o`).
+//! its flow between the faces, taken from the dissipation of the solution
+//! ([`FlowSolution::dissipation`], accurate to the square of the solver's
+//! error); only the phase's clusters that join inlet and outlet carry it.
+//! `k_r = Q_p / Q_single-phase` at the same pressure drop and viscosity.
+//! The resistivity index `RI = R_t/R_o = I_o/I_t` comes from the same
+//! solve on the water's electrical conductance `σ_w (A_w + A_clay/τ)`
+//! (Archie 1942 defines `RI = R_t/R_o`).
 
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -138,22 +140,31 @@ pub fn phase_conductances(engine: &Engine<'_>, clay_tortuosity: f64) -> PhaseCon
     }
 }
 
-/// Reusable solver state for relative permeability along one axis: the
-/// pressure systems (one per phase, each keeping its multigrid hierarchy
-/// and last solution for warm starts) and the single-phase references.
+/// Reusable solver state for relative permeability along one axis: one
+/// pressure system shared by the three solves of a point, the conduit
+/// conductances and last solution (warm start) of each, and the
+/// single-phase references.
+///
+/// The flow of each phase is taken from the dissipation of its solve
+/// ([`FlowSolution::dissipation`]), whose error is quadratic in the
+/// pressure error, so a loose solver tolerance (10⁻⁶) still gives `k_r` and
+/// RI to about 10⁻⁷ relative.
+///
+/// Each solve builds its own multigrid hierarchy (the conductances of a
+/// phase change at every point, and a hierarchy kept from the previous
+/// point or another phase was measured to cost more iterations than a
+/// rebuild saves), except when the warm start already meets the tolerance;
+/// only one hierarchy is alive at a time, which bounds the memory.
 pub struct RelpermSolver {
-    water: PressureSystem,
-    oil: PressureSystem,
-    electric: PressureSystem,
+    system: PressureSystem,
+    water: Phase,
+    oil: Phase,
+    electric: Phase,
     inlet: Vec<bool>,
     outlet: Vec<bool>,
     active: Vec<bool>,
-    conduit: Vec<f64>,
     q_single: f64,
     i_single: f64,
-    last_water: Option<Vec<f64>>,
-    last_oil: Option<Vec<f64>>,
-    last_electric: Option<Vec<f64>>,
     opts: SolveOptions,
     clay_tortuosity: f64,
     /// Seconds spent in solves (for the cost report).
@@ -174,50 +185,29 @@ pub struct SolveStats {
     pub iterations: usize,
 }
 
-#[allow(clippy::too_many_arguments)]
-fn solve_phase(
-    stats: &mut SolveStats,
-    sys: &mut PressureSystem,
-    conduit: &[f64],
-    active: &[bool],
-    inlet: &[bool],
-    outlet: &[bool],
-    warm: &mut Option<Vec<f64>>,
-    opts: &SolveOptions,
-) -> Result<(f64, usize), FlowError> {
-    match sys.solve(
-        conduit,
-        active,
-        inlet,
-        outlet,
-        1.0,
-        0.0,
-        warm.as_deref(),
-        opts,
-    ) {
-        Ok(FlowSolution {
-            pressure,
-            inflow,
-            outflow,
-            iterations,
-            preconditioner_built,
-            ..
-        }) => {
-            stats.solves += 1;
-            stats.iterations += iterations;
-            stats.hierarchies_built += preconditioner_built as usize;
-            *warm = Some(pressure);
-            Ok((0.5 * (inflow + outflow), iterations))
+/// One phase's conduit conductances and warm start.
+struct Phase {
+    conduit: Vec<f64>,
+    warm: Option<Vec<f64>>,
+}
+
+impl Phase {
+    fn new(network: &Network) -> Phase {
+        Phase {
+            conduit: vec![0.0; network.n_throats()],
+            warm: None,
         }
-        Err(SolveError::NoSpanningCluster { .. }) => {
-            *warm = None;
-            Ok((0.0, 0))
-        }
-        Err(e) => Err(FlowError::Hydraulic(e)),
     }
 }
 
 impl RelpermSolver {
+    /// Water pressure of every pore from the last water solve, for a unit
+    /// pressure drop (inlet 1, outlet 0; NaN outside the water's flowing
+    /// clusters); `None` before any or when the water did not span.
+    pub fn water_pressure(&self) -> Option<&[f64]> {
+        self.water.warm.as_deref()
+    }
+
     /// Sets up the solves along `axis` and computes the single-phase
     /// references (one hydraulic and one electrical solve).
     pub fn new(
@@ -228,49 +218,35 @@ impl RelpermSolver {
     ) -> Result<RelpermSolver, FlowError> {
         let (inlet, outlet) = crate::connectivity::face_masks(network, axis);
         let mut s = RelpermSolver {
-            water: PressureSystem::new(network),
-            oil: PressureSystem::new(network),
-            electric: PressureSystem::new(network),
+            system: PressureSystem::new(network),
+            water: Phase::new(network),
+            oil: Phase::new(network),
+            electric: Phase::new(network),
             inlet,
             outlet,
             active: vec![true; network.n_pores()],
-            conduit: vec![0.0; network.n_throats()],
             q_single: 0.0,
             i_single: 0.0,
-            last_water: None,
-            last_oil: None,
-            last_electric: None,
-            opts,
+            opts: SolveOptions {
+                reuse_hierarchy: false,
+                ..opts
+            },
             clay_tortuosity,
             solve_seconds: 0.0,
             stats: SolveStats::default(),
         };
         let g = flow::element_hydraulic_conductances(network, 1.0);
-        conduit_conductances(network, &g, &mut s.conduit)?;
-        let mut warm = None;
-        let (q, _) = solve_phase(
-            &mut s.stats,
-            &mut s.water,
-            &s.conduit,
-            &s.active,
-            &s.inlet,
-            &s.outlet,
-            &mut warm,
-            &s.opts,
-        )?;
+        conduit_conductances(network, &g, &mut s.water.conduit)?;
+        drop(g);
+        let (q, _) = s
+            .solve(network, Which::Water)
+            .map_err(FlowError::Hydraulic)?;
         let ge = flow::element_electrical_conductances(network, 1.0, clay_tortuosity);
-        conduit_conductances(network, &ge, &mut s.conduit)?;
-        let mut warm_e = None;
-        let (i, _) = solve_phase(
-            &mut s.stats,
-            &mut s.electric,
-            &s.conduit,
-            &s.active,
-            &s.inlet,
-            &s.outlet,
-            &mut warm_e,
-            &s.opts,
-        )?;
+        conduit_conductances(network, &ge, &mut s.electric.conduit)?;
+        drop(ge);
+        let (i, _) = s
+            .solve(network, Which::Electric)
+            .map_err(FlowError::Electrical)?;
         if !(q > 0.0 && i > 0.0) {
             return Err(FlowError::NoSpanningCluster {
                 axis,
@@ -281,8 +257,6 @@ impl RelpermSolver {
         }
         s.q_single = q;
         s.i_single = i;
-        s.last_water = warm;
-        s.last_electric = warm_e;
         Ok(s)
     }
 
@@ -291,43 +265,17 @@ impl RelpermSolver {
         let t0 = std::time::Instant::now();
         let net = engine.setup().network;
         let pc = phase_conductances(engine, self.clay_tortuosity);
-        conduit_conductances(net, &pc.water, &mut self.conduit)?;
-        let (qw, iw) = solve_phase(
-            &mut self.stats,
-            &mut self.water,
-            &self.conduit,
-            &self.active,
-            &self.inlet,
-            &self.outlet,
-            &mut self.last_water,
-            &self.opts,
-        )?;
-        conduit_conductances(net, &pc.oil, &mut self.conduit)?;
-        let (qo, io) = solve_phase(
-            &mut self.stats,
-            &mut self.oil,
-            &self.conduit,
-            &self.active,
-            &self.inlet,
-            &self.outlet,
-            &mut self.last_oil,
-            &self.opts,
-        )?;
-        conduit_conductances(net, &pc.electrical, &mut self.conduit)?;
-        let (ie, ii) = solve_phase(
-            &mut self.stats,
-            &mut self.electric,
-            &self.conduit,
-            &self.active,
-            &self.inlet,
-            &self.outlet,
-            &mut self.last_electric,
-            &self.opts,
-        )
-        .map_err(|e| match e {
-            FlowError::Hydraulic(s) => FlowError::Electrical(s),
-            other => other,
-        })?;
+        conduit_conductances(net, &pc.water, &mut self.water.conduit)?;
+        conduit_conductances(net, &pc.oil, &mut self.oil.conduit)?;
+        conduit_conductances(net, &pc.electrical, &mut self.electric.conduit)?;
+        drop(pc);
+        let (qw, iw) = self
+            .solve(net, Which::Water)
+            .map_err(FlowError::Hydraulic)?;
+        let (qo, io) = self.solve(net, Which::Oil).map_err(FlowError::Hydraulic)?;
+        let (ie, ii) = self
+            .solve(net, Which::Electric)
+            .map_err(FlowError::Electrical)?;
         self.solve_seconds += t0.elapsed().as_secs_f64();
         Ok(FlowPoint {
             krw: qw / self.q_single,
@@ -340,4 +288,50 @@ impl RelpermSolver {
             iterations: iw + io + ii,
         })
     }
+
+    /// Solves one phase with its conduit conductances (inlet at 1, outlet
+    /// at 0) and returns the flow `D/Δp` (0 when the phase does not span)
+    /// and the iterations.
+    fn solve(&mut self, network: &Network, which: Which) -> Result<(f64, usize), SolveError> {
+        let phase = match which {
+            Which::Water => &mut self.water,
+            Which::Oil => &mut self.oil,
+            Which::Electric => &mut self.electric,
+        };
+        match self.system.solve(
+            &phase.conduit,
+            &self.active,
+            &self.inlet,
+            &self.outlet,
+            1.0,
+            0.0,
+            phase.warm.as_deref(),
+            &self.opts,
+        ) {
+            Ok(sol) => {
+                self.stats.solves += 1;
+                self.stats.hierarchies_built += sol.preconditioner_built as usize;
+                self.stats.iterations += sol.iterations;
+                // Δp = 1.
+                let q = sol.dissipation(network, &phase.conduit);
+                let it = sol.iterations;
+                let FlowSolution { pressure, .. } = sol;
+                phase.warm = Some(pressure);
+                Ok((q, it))
+            }
+            Err(SolveError::NoSpanningCluster { .. }) => {
+                phase.warm = None;
+                Ok((0.0, 0))
+            }
+            Err(e) => Err(e),
+        }
+    }
+}
+
+/// The three solves of a point.
+#[derive(Clone, Copy)]
+enum Which {
+    Water,
+    Oil,
+    Electric,
 }

@@ -120,6 +120,10 @@ pub struct EndState {
     pub ganglion: Vec<u32>,
     /// Water trapped here.
     pub water_trapped: Vec<bool>,
+    /// Water pressure per pore at the end of the process, for a unit
+    /// pressure drop between the faces (from the last flow solve; NaN where
+    /// the water does not flow); `None` without relative permeability.
+    pub water_pressure: Option<Vec<f64>>,
 }
 
 /// Everything a run produces.
@@ -302,6 +306,9 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
             layers: s.layers.clone(),
             ganglion: s.ganglion.clone(),
             water_trapped: s.water_trapped.clone(),
+            water_pressure: relperm
+                .as_ref()
+                .and_then(|r| r.water_pressure().map(<[f64]>::to_vec)),
         });
         outcomes.push(out);
     }

@@ -88,8 +88,9 @@ pub enum ReportError {
 /// - the tables of [`saturation_tables`] (`table-drainage.csv`, …);
 /// - `report.html` ([`run_report`]);
 /// - `state-<k>-<kind>.vtp` for process `k` (1-based) when `opts.vtk`
-///   ([`write_vtp`], with the contact angles after the run and no
-///   pressure).
+///   ([`write_vtp`], with the contact angles after the run and the water
+///   pressure of the process's last flow solve, for a unit pressure drop,
+///   where relative permeability was computed).
 ///
 /// Returns the paths written, in that order. `network` must be the network
 /// of the run (its sizes are checked against the states).
@@ -139,13 +140,16 @@ pub fn write_run_artifacts(
     if opts.vtk {
         for (k, (state, outcome)) in results.end_states.iter().zip(&results.outcomes).enumerate() {
             let file = format!("state-{}-{}.vtp", k + 1, outcome.kind.as_str());
-            let text =
-                write_vtp(network, state, results.angles.as_ref(), None).map_err(|source| {
-                    ReportError::Vtk {
-                        file: file.clone(),
-                        source,
-                    }
-                })?;
+            let text = write_vtp(
+                network,
+                state,
+                results.angles.as_ref(),
+                state.water_pressure.as_deref(),
+            )
+            .map_err(|source| ReportError::Vtk {
+                file: file.clone(),
+                source,
+            })?;
             put(&file, text.as_bytes())?;
         }
     }

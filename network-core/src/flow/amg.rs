@@ -42,7 +42,7 @@
 
 use rayon::prelude::*;
 
-use super::sparse::{Csr, FineOperator, LinOp, build_rows, spgemm};
+use super::sparse::{Csr, FineOperator, LinOp, build_rows, galerkin};
 use crate::numeric::CHUNK;
 
 /// Options of the algebraic multigrid preconditioner.
@@ -198,7 +198,14 @@ impl Amg {
         let nnz0 = a0.nnz().max(1);
         let mut nnz_total = a0.nnz();
         let mut transfers = Vec::new();
-        let mut coarse: Vec<Csr> = Vec::new();
+        // Coarse levels are rounded to single precision as soon as the
+        // next level is built from them, to bound the peak memory.
+        let mut coarse: Vec<Csr<Stored>> = Vec::new();
+        let mut coarse_smoother: Vec<Vec<f64>> = Vec::new();
+        let weights = |a: &Csr| match opts.smoother {
+            Smoother::Jacobi => jacobi_weights_csr(a),
+            Smoother::GaussSeidel => a.l1_inverse_diagonal(),
+        };
         let mut sizes = vec![a0.n_rows];
         let theta = opts.strength_threshold.clamp(0.0, 0.999);
         let mut current = a0;
@@ -227,36 +234,29 @@ impl Amg {
             if p.n_cols == 0 || p.n_cols as f64 > 0.9 * n_present as f64 {
                 break;
             }
-            let ap = spgemm(&current, &p);
-            let r = p.transpose();
-            let raw = spgemm(&r, &ap);
-            drop(ap);
-            let ac = raw.symmetrized();
+            let (ac, r) = galerkin(&current, &p);
             nnz_total += ac.nnz();
             sizes.push(ac.n_rows);
             transfers.push(Transfer {
                 p: p.convert(),
                 r: r.convert(),
             });
+            drop((p, r));
             let prev = std::mem::replace(&mut current, ac);
             if level > 0 {
-                coarse.push(prev);
+                coarse_smoother.push(weights(&prev));
+                coarse.push(prev.convert());
             }
+            drop(prev);
             level += 1;
         }
         // `current` is the coarsest level.
         let coarsest = build_coarsest(&current);
         if !transfers.is_empty() {
-            coarse.push(current);
+            coarse_smoother.push(weights(&current));
+            coarse.push(current.convert());
         }
-        let coarse_smoother = coarse
-            .iter()
-            .map(|a| match opts.smoother {
-                Smoother::Jacobi => jacobi_weights_csr(a),
-                Smoother::GaussSeidel => a.l1_inverse_diagonal(),
-            })
-            .collect();
-        let coarse: Vec<Csr<Stored>> = coarse.iter().map(Csr::convert).collect();
+        drop(current);
         let work = sizes.iter().map(|&n| Work::new(n)).collect();
         let mut amg = Amg {
             transfers,
@@ -651,15 +651,10 @@ fn classical_prolongator(a: &Csr, d: &[f64], theta: f64) -> Csr {
             if m <= 0.0 {
                 return;
             }
-            // Only this row's entries count for the duplicate check (the
-            // buffer holds the earlier rows of the part too).
-            let row_start = col.len();
+            // Rows hold each column once (`FineOperator::to_csr` merges
+            // parallel conduits, `galerkin` builds merged rows).
             for (&j, &x) in c.iter().zip(v) {
-                if j as usize != i
-                    && d[j as usize] > 0.0
-                    && -x >= theta * m
-                    && !col[row_start..].contains(&j)
-                {
+                if j as usize != i && d[j as usize] > 0.0 && -x >= theta * m {
                     col.push(j);
                 }
             }
@@ -786,8 +781,8 @@ fn classical_prolongator(a: &Csr, d: &[f64], theta: f64) -> Csr {
     build_rows(
         n,
         n_c as usize,
-        Vec::new,
-        |out: &mut Vec<(u32, f64)>, i, col, val| {
+        || (),
+        |_, i, col, val| {
             if d[i] <= 0.0 {
                 return;
             }
@@ -796,8 +791,17 @@ fn classical_prolongator(a: &Csr, d: &[f64], theta: f64) -> Csr {
                 val.push(1.0);
                 return;
             }
-            let strong = s_of(i);
             let (c, v) = a.row(i);
+            // The strong dependencies of row i, as in `s` (each column once).
+            let mut m = 0.0f64;
+            for (&j, &x) in c.iter().zip(v) {
+                if j as usize != i && d[j as usize] > 0.0 {
+                    m = m.max(-x);
+                }
+            }
+            let strong_c = |j: usize, x: f64| {
+                j != i && state[j] == C && d[j] > 0.0 && m > 0.0 && -x >= theta * m
+            };
             let (mut neg_all, mut neg_c, mut pos) = (0.0, 0.0, 0.0);
             for (&j, &x) in c.iter().zip(v) {
                 let j = j as usize;
@@ -806,7 +810,7 @@ fn classical_prolongator(a: &Csr, d: &[f64], theta: f64) -> Csr {
                 }
                 if x < 0.0 {
                     neg_all += x;
-                    if state[j] == C && strong.contains(&(j as u32)) {
+                    if strong_c(j, x) {
                         neg_c += x;
                     }
                 } else {
@@ -818,21 +822,12 @@ fn classical_prolongator(a: &Csr, d: &[f64], theta: f64) -> Csr {
             }
             let alpha = neg_all / neg_c;
             let dd = d[i] + pos;
-            out.clear();
             for (&j, &x) in c.iter().zip(v) {
                 let j = j as usize;
-                if j == i || x >= 0.0 || state[j] != C || !strong.contains(&(j as u32)) {
-                    continue;
+                if x < 0.0 && strong_c(j, x) {
+                    col.push(cidx[j]);
+                    val.push(-alpha * x / dd);
                 }
-                let w = -alpha * x / dd;
-                match out.iter_mut().find(|e| e.0 == cidx[j]) {
-                    Some(e) => e.1 += w,
-                    None => out.push((cidx[j], w)),
-                }
-            }
-            for &(c, v) in out.iter() {
-                col.push(c);
-                val.push(v);
             }
         },
     )
