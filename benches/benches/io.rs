@@ -224,6 +224,17 @@ fn main() {
         "  load CSV (median of 3)    {:>7.3} s   target < 10 s",
         t_csv.as_secs_f64()
     );
+    // The `inspect` report of the loaded network (load not timed).
+    let loaded = io::read_network(&bin_path).unwrap();
+    let t_inspect = median(
+        (0..3)
+            .map(|_| timed(|| network_core::stats::NetworkReport::of(&loaded.network)).1)
+            .collect(),
+    );
+    println!(
+        "  inspect report (median 3) {:>7.3} s   target < 2 s",
+        t_inspect.as_secs_f64()
+    );
     std::fs::remove_dir_all(&dir).unwrap();
 }
 

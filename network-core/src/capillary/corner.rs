@@ -190,6 +190,25 @@ pub fn reversed_corner(
     })
 }
 
+/// Water area of one corner pinned by drainage to `pc_max`, m², at `pc`
+/// (`0 < pc ≤ pc_max`, hinging angle between `θr` and `θa`): the same
+/// meniscus as [`hinged_corner`] in its pinned regime, from the closed form
+/// with `c = (Pc/Pc,max) cos(θr+β)` and `x = π/2 − θh − β = arcsin c`,
+///
+/// $$A_c = b_{pd}^2 \sin\beta\Big[\cos\beta - \sin\beta\,\frac{x - c\sqrt{1-c^2}}{c^2}\Big],$$
+///
+/// one arcsine and one square root instead of the general path (used by
+/// the saturation bookkeeping; Ma, Mason & Morrow 1996).
+#[inline]
+pub fn pinned_corner_area(pc: f64, pc_max: f64, theta_r: f64, beta: f64, sigma: f64) -> f64 {
+    let a = (theta_r + beta).cos();
+    let (sb, cb) = beta.sin_cos();
+    let b = sigma / pc_max * a / sb;
+    let c = pc / pc_max * a;
+    let x = c.asin();
+    b * b * sb * (cb - sb * segment_factor_sc(x, c, (1.0 - c * c).sqrt()))
+}
+
 /// State of one corner meniscus in imbibition.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct CornerMeniscus {
@@ -340,6 +359,30 @@ pub fn imbibition_corner_water_area(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn pinned_closed_form_equals_the_hinged_meniscus() {
+        // Identity check of two evaluations of the same pinned arc (Ma et
+        // al. 1996): the closed form and the general hinged corner.
+        for &(beta, tr, ta) in &[
+            (0.3f64, 0.1f64, 0.9f64),
+            (0.52, 0.0, 0.6),
+            (0.785, 0.2, 0.5),
+        ] {
+            let pc_max = 2.0e4;
+            let p_adv = pc_max * (ta + beta).cos() / (tr + beta).cos();
+            for k in 0..50 {
+                let pc = p_adv + (pc_max - p_adv) * k as f64 / 49.0;
+                let m = hinged_corner(pc, pc_max, tr, ta, beta, 0.03).unwrap();
+                let a = pinned_corner_area(pc, pc_max, tr, beta, 0.03);
+                assert!(
+                    (a - m.area(beta)).abs() <= 1e-12 * a,
+                    "{beta} {pc}: {a} vs {}",
+                    m.area(beta)
+                );
+            }
+        }
+    }
 
     #[test]
     fn reversed_corner_is_continuous_at_the_turning_point_and_recedes_at_theta_r() {

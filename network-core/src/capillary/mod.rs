@@ -63,8 +63,8 @@ mod testgeom;
 pub use cooperative::{cooperative_fill_pc, default_cooperative_weights, pore_imbibition_pc};
 pub use corner::{
     CornerMeniscus, corner_arc_length_b, corner_area, corner_area_b, drainage_corner_water_area,
-    hinged_corner, imbibition_corner_water_area, pinned_distance, reversed_corner,
-    reversed_corner_area,
+    hinged_corner, imbibition_corner_water_area, pinned_corner_area, pinned_distance,
+    reversed_corner, reversed_corner_area,
 };
 pub use corner_flow::{
     bulk_conductance, corner_conductance, corner_conductance_b, electrical_conductance,

@@ -1,19 +1,19 @@
 //! Incremental saturation bookkeeping.
 //!
 //! Recomputing every element's corner water at every recorded point costs
-//! O(N) trigonometry per point. Most elements, however, sit in a regime
-//! where their corner water scales as `(σ/Pc)²`:
+//! O(N) trigonometry per point. Most corners, however, sit in a regime
+//! where their water scales as `(σ/Pc)²`:
 //! - in drainage, the receding menisci of connected oil (`r = σ/Pc`);
 //! - in imbibition, water-wet corners whose contact lines advance at `θa`
 //!   (`r = σ/Pc` once the hinging angle has reached `θa`).
 //!
-//! Those elements add a constant coefficient to one running sum, so their
+//! Those corners add a constant coefficient to one running sum, so their
 //! water is `(σ/Pc)² × sum` at any pressure. Trapped elements are frozen:
 //! their water is computed once, when they are trapped. Only the rest —
-//! hinging menisci, oil layers, reversals after an imbibition — is
-//! evaluated element by element at a recorded point ([`Engine::saturation`]).
-//! Elements that will enter a fast regime at a known pressure are kept in a
-//! sorted list and moved when the pressure passes it.
+//! pinned (hinging) corners, oil layers, reversals after an imbibition — is
+//! evaluated element by element at a recorded point
+//! ([`Engine::saturation`]). Corners that will enter a fast regime at a
+//! known pressure wait in a heap and move when the pressure passes it.
 //!
 //! [`Engine::saturation_full`] recomputes everything from scratch; the
 //! tests check that both agree.
@@ -21,6 +21,7 @@
 use std::collections::BinaryHeap;
 use std::f64::consts::FRAC_PI_2;
 
+use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
 use super::{Engine, Mode};
@@ -35,11 +36,11 @@ pub enum Regime {
     /// element without corner water.
     #[default]
     Bulk = 0,
-    /// Corner water `(σ/Pc)² c`, receding (drainage).
-    Receding = 1,
-    /// Corner water `(σ/Pc)² c`, advancing (imbibition).
-    Advancing = 2,
-    /// Evaluated at every recorded point.
+    /// All corner water in the running sum (receding in drainage,
+    /// advancing in imbibition).
+    Fast = 1,
+    /// Evaluated at every recorded point (possibly with some corners in the
+    /// running sum).
     Explicit = 3,
     /// Frozen by trapping.
     Frozen = 4,
@@ -49,25 +50,57 @@ pub enum Regime {
 /// state, so snapshots restore them).
 #[derive(Clone, Debug, Default)]
 pub struct Accounts {
-    regime: Vec<Regime>,
-    /// Per element: the fast-regime coefficient `c` (m: water volume per
-    /// `(σ/Pc)²`, i.e. `V/A Σ corner_area(r = 1)`), or for frozen elements
-    /// `[water adjustment, trapped oil, trapped water]` volumes, m³.
-    rec: Vec<[f64; 3]>,
-    /// Pressure at which an explicit element enters its fast regime (NaN
-    /// if none).
-    switch_pc: Vec<f64>,
-    listed: Vec<bool>,
+    /// One record per element (one cache line each).
+    cell: Vec<Cell>,
     explicit: Vec<u32>,
-    /// Elements waiting to switch, the next one (the first the pressure
-    /// passes) on top.
-    pending: BinaryHeap<Pending>,
-    sum_receding: f64,
-    sum_advancing: f64,
+    /// Switches known when the process starts, sorted so the next one
+    /// comes first, and how many are done.
+    /// (Shared: snapshots do not copy it.)
+    sorted: std::sync::Arc<Vec<Pending>>,
+    building_list: Vec<Pending>,
+    cursor: usize,
+    /// True while the records are being built (switches go to `sorted`).
+    building: bool,
+    /// Switches added during the process, the next one on top.
+    late: BinaryHeap<Pending>,
+    sum_fast: f64,
     frozen_corner: f64,
     frozen_layer: f64,
     trapped_oil: f64,
     trapped_water: f64,
+}
+
+/// The record of one element.
+#[derive(Clone, Copy, Debug)]
+struct Cell {
+    /// `[switch coefficient, coefficient in the running sum, 0]` for live
+    /// elements (coefficients in m: water volume per `(σ/Pc)²`);
+    /// `[water adjustment, trapped oil, trapped water]` volumes (m³) for
+    /// frozen ones.
+    rec: [f64; 3],
+    /// Drainage: pressure at which an explicit element switches to the
+    /// receding regime (NaN if none).
+    switch_pc: f64,
+    /// Record generation, so superseded pending switches are ignored.
+    generation: u32,
+    regime: Regime,
+    /// Imbibition: corners of an explicit element already in the sum.
+    fast_mask: u8,
+    /// The element is in the explicit list.
+    listed: bool,
+}
+
+impl Default for Cell {
+    fn default() -> Self {
+        Cell {
+            rec: [0.0; 3],
+            switch_pc: f64::NAN,
+            generation: 0,
+            regime: Regime::Bulk,
+            fast_mask: 0,
+            listed: false,
+        }
+    }
 }
 
 /// A pending switch: `key` is the switch pressure, negated in drainage so
@@ -76,6 +109,8 @@ pub struct Accounts {
 struct Pending {
     key: f64,
     element: u32,
+    corner: u8,
+    generation: u32,
 }
 
 impl PartialEq for Pending {
@@ -94,12 +129,14 @@ impl Ord for Pending {
         self.key
             .total_cmp(&o.key)
             .then(o.element.cmp(&self.element))
+            .then(o.corner.cmp(&self.corner))
+            .then(o.generation.cmp(&self.generation))
     }
 }
 
-/// Corner water of element `e` in its current occupancy relative to the
-/// bulk baseline (the centre's volume if water-filled, else 0), and the
-/// water and oil it holds; m³.
+/// Water of element `e` in its current occupancy relative to the bulk
+/// baseline (the centre's volume if water-filled, else 0), and the water
+/// and oil it holds; m³.
 struct Parts {
     adjust: f64,
     water: f64,
@@ -120,30 +157,46 @@ impl Engine<'_> {
         }
     }
 
-    /// `V/A Σ corner_area(r = 1, θ, β)` over the wet corners.
-    fn unit_corner_coefficient(&self, e: usize, theta: f64) -> f64 {
+    /// `V/A Σ corner_area(r = 1, θ, β)` over the wet corners in `mask`,
+    /// with `(sin θ, cos θ)` given: `corner_area(1, θ, β) =
+    /// cos θ cos(θ+β)/sin β − (π/2 − θ − β)` (Ma et al. 1996), `cos(θ+β)`
+    /// by angle addition.
+    fn unit_corner_coefficient(&self, e: usize, theta: f64, (st, ct): (f64, f64), mask: u8) -> f64 {
         let sec = self.section(e);
         let mut f = 0.0;
         for (i, &beta) in sec.corners.iter().enumerate() {
-            if self.wet[e] & (1 << i) != 0 {
-                f += capillary::corner_area(1.0, theta, beta);
+            if self.wet[e] & mask & (1 << i) != 0 {
+                let (sb, cb) = self.corner_sin_cos(e, i);
+                let c = ct * cb - st * sb;
+                f += ct * c / sb - (FRAC_PI_2 - theta - beta);
             }
         }
         f * self.volume[e] / self.setup.geometry.area(e)
     }
 
-    /// Removes element `e`'s contribution from the sums.
-    fn unaccount(&mut self, e: usize) {
-        if self.dyn_.acc.regime.len() != self.volume.len() {
+    fn advancing_trig(&self, e: usize) -> (f64, f64) {
+        let t = self.angle_trig[e];
+        (t[2], t[3])
+    }
+
+    fn accounts_ready(&self) -> bool {
+        self.dyn_.acc.cell.len() == self.volume.len()
+    }
+
+    /// Removes element `e`'s contribution from the sums. Call before any
+    /// change of the element's occupancy, trap flags or connection, then
+    /// [`Engine::reaccount`] after it.
+    pub(super) fn release_account(&mut self, e: usize) {
+        if !self.accounts_ready() {
             return;
         }
+        let oil = self.dyn_.state.oil[e];
         let a = &mut self.dyn_.acc;
-        let r = a.rec[e];
-        match a.regime[e] {
-            Regime::Receding => a.sum_receding -= r[0],
-            Regime::Advancing => a.sum_advancing -= r[0],
+        let r = a.cell[e].rec;
+        match a.cell[e].regime {
+            Regime::Fast | Regime::Explicit => a.sum_fast -= r[1],
             Regime::Frozen => {
-                if self.dyn_.state.oil[e] {
+                if oil {
                     a.frozen_corner -= r[0];
                 } else {
                     a.frozen_layer -= r[0];
@@ -151,54 +204,83 @@ impl Engine<'_> {
                 a.trapped_oil -= r[1];
                 a.trapped_water -= r[2];
             }
-            Regime::Bulk | Regime::Explicit => {}
+            Regime::Bulk => {}
         }
-        a.regime[e] = Regime::Bulk;
-        a.switch_pc[e] = f64::NAN;
+        a.cell[e].regime = Regime::Bulk;
+        a.cell[e].rec = [0.0; 3];
+        a.cell[e].switch_pc = f64::NAN;
+        a.cell[e].fast_mask = 0;
+        a.cell[e].generation = a.cell[e].generation.wrapping_add(1);
     }
 
-    fn push_pending(&mut self, e: usize, switch_pc: f64) {
+    fn set_explicit(&mut self, e: usize) {
+        let a = &mut self.dyn_.acc;
+        a.cell[e].regime = Regime::Explicit;
+        if !a.cell[e].listed {
+            a.cell[e].listed = true;
+            a.explicit.push(e as u32);
+        }
+    }
+
+    fn push_pending(&mut self, e: usize, corner: usize, switch_pc: f64) {
         let key = if self.mode == Mode::Imbibition {
             switch_pc
         } else {
             -switch_pc
         };
-        self.dyn_.acc.pending.push(Pending {
+        let a = &mut self.dyn_.acc;
+        let p = Pending {
             key,
             element: e as u32,
-        });
-    }
-
-    fn set_explicit(&mut self, e: usize, switch_pc: f64) {
-        let a = &mut self.dyn_.acc;
-        a.regime[e] = Regime::Explicit;
-        a.switch_pc[e] = switch_pc;
-        if !a.listed[e] {
-            a.listed[e] = true;
-            a.explicit.push(e as u32);
+            corner: corner as u8,
+            generation: a.cell[e].generation,
+        };
+        if a.building {
+            a.building_list.push(p);
+        } else {
+            a.late.push(p);
         }
     }
 
-    /// Re-derives element `e`'s regime from its state and adds it back.
-    /// Must be called after every change of the element's occupancy, trap
-    /// flags or connection (before any later change of the sums' order).
+    /// Switch pressure of corner `i` of element `e` to the advancing
+    /// regime: `Pc,max cos(θa+β)/cos(θr+β)` (the hinging relation of Ma et
+    /// al. 1996 at `θh = θa`), or −∞ when it never advances at `Pc > 0`.
+    fn advancing_switch(&self, e: usize, i: usize, beta: f64) -> f64 {
+        let theta_a = self.angles.advancing[e];
+        if theta_a + beta < FRAC_PI_2 {
+            let [sr, cr, sa, ca] = self.angle_trig[e];
+            let (sb, cb) = self.corner_sin_cos(e, i);
+            self.dyn_.state.pc_max[e] * (ca * cb - sa * sb) / (cr * cb - sr * sb)
+        } else {
+            f64::NEG_INFINITY
+        }
+    }
+
+    /// True when the advancing arcs of every wet corner of `e` can never
+    /// fill the section while the element is live: it snaps off first.
+    fn advancing_is_safe(&self, e: usize) -> bool {
+        let c = self.corner_coef[e];
+        let pc_cap = self.setup.sigma * (c / self.volume[e]).sqrt();
+        let snap = self.snap.get(e).copied().unwrap_or(f64::NAN);
+        self.setup.mechanisms.snap_off && snap.is_finite() && snap > 0.0 && snap >= pc_cap
+    }
+
+    /// Re-derives element `e`'s regime from its state and adds it to the
+    /// sums (after [`Engine::release_account`]).
     pub(super) fn reaccount(&mut self, e: usize) {
-        // `regime` is Bulk here; a Frozen element's old record was removed
-        // by `unaccount`, which needs the occupancy it had: callers that
-        // change occupancy call `unaccount` first.
-        if self.dyn_.acc.regime.len() != self.volume.len() {
+        self.refresh_flags(e);
+        if !self.accounts_ready() {
             return;
         }
         let s = &self.dyn_.state;
-        let sigma = self.setup.sigma;
         if s.frozen_pc[e].is_finite() {
             let p = self.parts(e);
             let trapped_oil = if s.oil_trapped[e] { p.oil } else { 0.0 };
             let trapped_water = if s.water_trapped[e] { p.water } else { 0.0 };
             let oil = s.oil[e];
             let a = &mut self.dyn_.acc;
-            a.regime[e] = Regime::Frozen;
-            a.rec[e] = [p.adjust, trapped_oil, trapped_water];
+            a.cell[e].regime = Regime::Frozen;
+            a.cell[e].rec = [p.adjust, trapped_oil, trapped_water];
             if oil {
                 a.frozen_corner += p.adjust;
             } else {
@@ -210,7 +292,7 @@ impl Engine<'_> {
         }
         if !s.oil[e] {
             if s.layers[e] != 0 {
-                self.set_explicit(e, f64::NAN);
+                self.set_explicit(e);
             }
             return;
         }
@@ -221,107 +303,126 @@ impl Engine<'_> {
         if pc_max <= 0.0 {
             return;
         }
-        let area = self.setup.geometry.area(e);
-        let theta_r = self.angles.pinned_receding[e];
-        let theta_a = self.angles.advancing[e];
+        let sigma = self.setup.sigma;
         match self.mode {
             Mode::Drainage if self.dyn_.connected[e] => {
                 let c = self.corner_coef[e];
-                let fits = |pc: f64| pc > 0.0 && (sigma / pc).powi(2) * c <= self.volume[e];
+                let v = self.volume[e];
+                let fits = |pc: f64| pc > 0.0 && (sigma / pc).powi(2) * c <= v;
                 if pc_min.is_finite() && pc < pc_max {
                     // Hinging back after an imbibition until Pc passes the
                     // old drainage pressure, then receding.
+                    self.set_explicit(e);
                     if fits(pc_max) {
-                        self.dyn_.acc.rec[e][0] = c;
-                        self.set_explicit(e, pc_max);
-                        self.push_pending(e, pc_max);
-                    } else {
-                        self.set_explicit(e, f64::NAN);
+                        self.dyn_.acc.cell[e].rec[0] = c;
+                        self.dyn_.acc.cell[e].switch_pc = pc_max;
+                        self.push_pending(e, 0, pc_max);
                     }
                 } else if fits(pc) {
                     let a = &mut self.dyn_.acc;
-                    a.regime[e] = Regime::Receding;
-                    a.rec[e][0] = c;
-                    a.sum_receding += c;
+                    a.cell[e].regime = Regime::Fast;
+                    a.cell[e].rec[1] = c;
+                    a.sum_fast += c;
                 } else {
-                    self.set_explicit(e, f64::NAN);
+                    self.set_explicit(e);
                 }
             }
             Mode::Imbibition if !pc_min.is_finite() => {
-                // Every wet corner advances below min_i pc_max cos(θa+β)/cos(θr+β)
-                // (the hinging relation of Ma et al. 1996 at θh = θa).
-                let mut switch = f64::INFINITY;
+                // Corners already advancing go into the sum now; the others
+                // wait for their switch pressure.
+                let now = self.dyn_.state.pc;
+                let mut mask = 0u8;
+                let mut waits: smallvec::SmallVec<[(usize, f64); 4]> = smallvec::SmallVec::new();
                 for (i, &beta) in self.section(e).corners.iter().enumerate() {
-                    if self.wet[e] & (1 << i) != 0 {
-                        let p = if theta_a + beta < FRAC_PI_2 {
-                            pc_max * (theta_a + beta).cos() / (theta_r + beta).cos()
-                        } else {
-                            f64::NEG_INFINITY
-                        };
-                        switch = switch.min(p);
+                    if self.wet[e] & (1 << i) == 0 {
+                        continue;
+                    }
+                    let p = self.advancing_switch(e, i, beta);
+                    if now < p {
+                        mask |= 1 << i;
+                    } else if p > 0.0 {
+                        waits.push((i, p));
                     }
                 }
-                let c = self.corner_coef[e];
-                // The advancing arcs fill the section below
-                // pc_cap = σ √(c/V); the element must snap off before.
-                let pc_cap = sigma * (c / self.volume[e]).sqrt();
-                let snap = self.snap.get(e).copied().unwrap_or(f64::NAN);
-                let safe = self.setup.mechanisms.snap_off
-                    && snap.is_finite()
-                    && snap > 0.0
-                    && snap >= pc_cap
-                    && switch > 0.0
-                    && switch.is_finite()
-                    && area > 0.0;
-                if !safe {
-                    self.set_explicit(e, f64::NAN);
-                } else if s.pc < switch {
-                    let a = &mut self.dyn_.acc;
-                    a.regime[e] = Regime::Advancing;
-                    a.rec[e][0] = c;
-                    a.sum_advancing += c;
+                let c = self.unit_corner_coefficient(
+                    e,
+                    self.angles.advancing[e],
+                    self.advancing_trig(e),
+                    mask,
+                );
+                let full = mask == self.wet[e] && self.advancing_is_safe(e);
+                let a = &mut self.dyn_.acc;
+                a.cell[e].rec[1] = c;
+                a.sum_fast += c;
+                a.cell[e].fast_mask = mask;
+                if full {
+                    a.cell[e].regime = Regime::Fast;
                 } else {
-                    self.dyn_.acc.rec[e][0] = c;
-                    self.set_explicit(e, switch);
-                    self.push_pending(e, switch);
+                    self.set_explicit(e);
+                    for (i, p) in waits {
+                        self.push_pending(e, i, p);
+                    }
                 }
             }
-            _ => self.set_explicit(e, f64::NAN),
+            _ => self.set_explicit(e),
         }
     }
 
-    /// Removes `e` before its occupancy changes (call `reaccount` after).
-    pub(super) fn release_account(&mut self, e: usize) {
-        self.unaccount(e);
+    /// Recomputes the packed search flags of element `e` from its state.
+    pub(super) fn refresh_flags(&mut self, e: usize) {
+        let s = &self.dyn_.state;
+        let mut f = 0u8;
+        if s.conducts_oil(e) && !s.oil_trapped[e] {
+            f |= super::FLAG_FREE_OIL;
+        }
+        if !s.water_trapped[e] && (!s.oil[e] || self.wet[e] != 0) {
+            f |= super::FLAG_WATER;
+        }
+        self.dyn_.flags[e] = f;
     }
 
     /// Rebuilds every record (at the start of a process).
     pub(super) fn reaccount_all(&mut self) {
         let n = self.volume.len();
+        for e in 0..n {
+            self.refresh_flags(e);
+        }
         // Receding menisci at θr in drainage, advancing ones at θa in
-        // imbibition.
+        // imbibition (all wet corners).
         let imbibition = self.mode == Mode::Imbibition;
+        self.angle_trig = (0..n)
+            .into_par_iter()
+            .map(|e| {
+                let (sr, cr) = self.angles.pinned_receding[e].sin_cos();
+                let (sa, ca) = self.angles.advancing[e].sin_cos();
+                [sr, cr, sa, ca]
+            })
+            .collect();
         self.corner_coef = (0..n)
             .into_par_iter()
             .map(|e| {
-                let theta = if imbibition {
-                    self.angles.advancing[e]
+                let t = self.angle_trig[e];
+                let (theta, trig) = if imbibition {
+                    (self.angles.advancing[e], (t[2], t[3]))
                 } else {
-                    self.angles.pinned_receding[e]
+                    (self.angles.pinned_receding[e], (t[0], t[1]))
                 };
-                self.unit_corner_coefficient(e, theta)
+                self.unit_corner_coefficient(e, theta, trig, u8::MAX)
             })
             .collect();
         self.dyn_.acc = Accounts {
-            regime: vec![Regime::Bulk; n],
-            rec: vec![[0.0; 3]; n],
-            switch_pc: vec![f64::NAN; n],
-            listed: vec![false; n],
+            cell: vec![Cell::default(); n],
+            building: true,
             ..Accounts::default()
         };
         for e in 0..n {
             self.reaccount(e);
         }
+        let a = &mut self.dyn_.acc;
+        let mut list = std::mem::take(&mut a.building_list);
+        list.par_sort_unstable_by(|x, y| y.cmp(x));
+        a.sorted = std::sync::Arc::new(list);
+        a.building = false;
     }
 
     /// Drops the records (at the end of a process): saturations are then
@@ -330,47 +431,84 @@ impl Engine<'_> {
         self.dyn_.acc = Accounts::default();
     }
 
-    /// Moves explicit elements whose switch pressure the current pressure
-    /// has passed into their fast regime, and drops stale list entries.
+    /// Moves corners whose switch pressure the current pressure has passed
+    /// into the running sum, and drops stale list entries.
     pub(super) fn settle_accounts(&mut self) {
-        if self.dyn_.acc.regime.len() != self.volume.len() {
+        if !self.accounts_ready() {
             return;
         }
         let pc = self.dyn_.state.pc;
-        let descending = self.mode == Mode::Imbibition;
-        while let Some(&top) = self.dyn_.acc.pending.peek() {
-            let p = if descending { top.key } else { -top.key };
-            let passed = if descending { pc < p } else { pc >= p };
+        let imbibition = self.mode == Mode::Imbibition;
+        loop {
+            let a = &self.dyn_.acc;
+            let from_sorted = a.sorted.get(a.cursor).copied();
+            let from_late = a.late.peek().copied();
+            let top = match (from_sorted, from_late) {
+                (Some(x), Some(y)) => {
+                    if x >= y {
+                        x
+                    } else {
+                        y
+                    }
+                }
+                (Some(x), None) => x,
+                (None, Some(y)) => y,
+                (None, None) => break,
+            };
+            let p = if imbibition { top.key } else { -top.key };
+            let passed = if imbibition { pc < p } else { pc >= p };
             if !passed {
                 break;
             }
-            self.dyn_.acc.pending.pop();
-            let e = top.element as usize;
             let a = &mut self.dyn_.acc;
-            if a.regime[e] == Regime::Explicit && a.switch_pc[e] == p {
-                let c = a.rec[e][0];
-                a.switch_pc[e] = f64::NAN;
-                if descending {
-                    a.regime[e] = Regime::Advancing;
-                    a.sum_advancing += c;
-                } else {
-                    a.regime[e] = Regime::Receding;
-                    a.sum_receding += c;
+            if from_sorted == Some(top) && from_late.is_none_or(|y| top >= y) {
+                a.cursor += 1;
+            } else {
+                a.late.pop();
+            }
+            let e = top.element as usize;
+            let a = &self.dyn_.acc;
+            if a.cell[e].regime != Regime::Explicit || a.cell[e].generation != top.generation {
+                continue;
+            }
+            if imbibition {
+                let bit = 1u8 << top.corner;
+                let c = self.unit_corner_coefficient(
+                    e,
+                    self.angles.advancing[e],
+                    self.advancing_trig(e),
+                    bit,
+                );
+                let full = (a.cell[e].fast_mask | bit) == self.wet[e] && self.advancing_is_safe(e);
+                let a = &mut self.dyn_.acc;
+                a.cell[e].fast_mask |= bit;
+                a.cell[e].rec[1] += c;
+                a.sum_fast += c;
+                if full {
+                    a.cell[e].regime = Regime::Fast;
                 }
+            } else {
+                let a = &mut self.dyn_.acc;
+                let c = a.cell[e].rec[0];
+                a.cell[e].switch_pc = f64::NAN;
+                a.cell[e].regime = Regime::Fast;
+                a.cell[e].rec[1] = c;
+                a.sum_fast += c;
             }
         }
         let a = &mut self.dyn_.acc;
         let live = a
             .explicit
             .iter()
-            .filter(|&&e| a.regime[e as usize] == Regime::Explicit)
+            .filter(|&&e| a.cell[e as usize].regime == Regime::Explicit)
             .count();
         if live * 2 < a.explicit.len() {
-            let (regime, listed) = (&a.regime, &mut a.listed);
+            let cell = &mut a.cell;
             a.explicit.retain(|&e| {
-                let keep = regime[e as usize] == Regime::Explicit;
+                let c = &mut cell[e as usize];
+                let keep = c.regime == Regime::Explicit;
                 if !keep {
-                    listed[e as usize] = false;
+                    c.listed = false;
                 }
                 keep
             });
@@ -382,8 +520,43 @@ impl Engine<'_> {
         let a = &self.dyn_.acc;
         a.explicit
             .iter()
-            .filter(|&&e| a.regime[e as usize] == Regime::Explicit)
+            .filter(|&&e| a.cell[e as usize].regime == Regime::Explicit)
             .count()
+    }
+
+    /// Water volume of the corners of a live oil-filled element in
+    /// imbibition that are not yet in the running sum: each is still pinned
+    /// (the closed form of [`capillary::pinned_corner_area`], with
+    /// `cos(θ+β)` by angle addition) or has just passed its switch
+    /// pressure (advancing at `θa`, `r = σ/Pc`).
+    fn pinned_corner_water(&self, e: usize, pc: f64, mask: u8) -> f64 {
+        let sigma = self.setup.sigma;
+        let pc_max = self.dyn_.state.pc_max[e];
+        let [sr, cr, sa, ca] = self.angle_trig[e];
+        let theta_a = self.angles.advancing[e];
+        let r = sigma / pc;
+        let ratio = pc / pc_max;
+        let mut area = 0.0;
+        for (i, &beta) in self.section(e).corners.iter().enumerate() {
+            if (self.wet[e] & !mask) & (1 << i) == 0 {
+                continue;
+            }
+            let (sb, cb) = self.corner_sin_cos(e, i);
+            let a_r = cr * cb - sr * sb;
+            let a_a = ca * cb - sa * sb;
+            area += if theta_a + beta < FRAC_PI_2 && pc * a_r < pc_max * a_a {
+                let x = FRAC_PI_2 - theta_a - beta;
+                r * r * (ca * a_a / sb - x)
+            } else {
+                let b = sigma / pc_max * a_r / sb;
+                let c = ratio * a_r;
+                let x = c.asin();
+                b * b
+                    * sb
+                    * (cb - sb * capillary::corner::segment_factor_sc(x, c, (1.0 - c * c).sqrt()))
+            };
+        }
+        self.volume[e] * area / self.setup.geometry.area(e)
     }
 
     /// Saturations of the current state from the running sums plus the
@@ -391,13 +564,14 @@ impl Engine<'_> {
     /// [`Engine::saturation_full`] up to round-off.
     pub fn saturation(&self) -> super::saturation::Saturation {
         let a = &self.dyn_.acc;
-        if a.regime.len() != self.volume.len() {
+        if !self.accounts_ready() {
             return self.saturation_full();
         }
-        let pc = self.dyn_.state.pc;
+        let st = &self.dyn_.state;
+        let pc = st.pc;
         let sigma = self.setup.sigma;
         let r2 = if pc > 0.0 { (sigma / pc).powi(2) } else { 0.0 };
-        let descending = self.mode == Mode::Imbibition;
+        let imbibition = self.mode == Mode::Imbibition;
         let list = &a.explicit;
         let n_chunks = list.len().div_ceil(CHUNK);
         let parts: Vec<(f64, f64)> = (0..n_chunks)
@@ -406,17 +580,28 @@ impl Engine<'_> {
                 let (mut corner, mut layer) = (0.0, 0.0);
                 for &e in &list[c * CHUNK..((c + 1) * CHUNK).min(list.len())] {
                     let e = e as usize;
-                    if a.regime[e] != Regime::Explicit {
+                    if a.cell[e].regime != Regime::Explicit {
                         continue;
                     }
-                    let sw = a.switch_pc[e];
-                    let passed = sw.is_finite() && if descending { pc < sw } else { pc >= sw };
-                    let adj = if passed {
-                        a.rec[e][0] * r2
+                    let in_sum = a.cell[e].rec[1] * r2;
+                    let adj = if imbibition
+                        && pc > 0.0
+                        && st.oil[e]
+                        && st.pc_max[e] > pc
+                        && !st.pc_min[e].is_finite()
+                    {
+                        // The element's water is capped at its volume.
+                        let rest = self.pinned_corner_water(e, pc, a.cell[e].fast_mask);
+                        rest.min(self.volume[e] - in_sum)
+                    } else if !imbibition
+                        && a.cell[e].switch_pc.is_finite()
+                        && pc >= a.cell[e].switch_pc
+                    {
+                        a.cell[e].rec[0] * r2
                     } else {
-                        self.parts(e).adjust
+                        self.parts(e).adjust - in_sum
                     };
-                    if self.dyn_.state.oil[e] {
+                    if st.oil[e] {
                         corner += adj;
                     } else {
                         layer += adj;
@@ -426,8 +611,7 @@ impl Engine<'_> {
             })
             .collect();
         let (ex_corner, ex_layer) = parts.iter().fold((0.0, 0.0), |s, p| (s.0 + p.0, s.1 + p.1));
-        let fast = (a.sum_receding + a.sum_advancing) * r2;
-        let corners = a.frozen_corner + fast + ex_corner;
+        let corners = a.frozen_corner + a.sum_fast * r2 + ex_corner;
         let layers = -(a.frozen_layer + ex_layer);
         let pv = self.pore_volume;
         // Running sums drift by round-off; the water volume stays in [0, PV].
@@ -444,5 +628,3 @@ impl Engine<'_> {
         }
     }
 }
-
-use rayon::prelude::*;

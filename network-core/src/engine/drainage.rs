@@ -126,8 +126,7 @@ impl Engine<'_> {
     /// True when element `x` conducts water that is not trapped.
     #[inline]
     fn conducts_water(&self, x: usize) -> bool {
-        let s = &self.dyn_.state;
-        !s.water_trapped[x] && (!s.oil[x] || self.wet[x] != 0)
+        self.dyn_.flags[x] & super::FLAG_WATER != 0
     }
 
     /// Fills element `e` with the non-aqueous phase at the current Pc.

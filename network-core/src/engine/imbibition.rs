@@ -58,8 +58,7 @@ impl Engine<'_> {
 
     #[inline]
     fn conducts_free_oil(&self, x: usize) -> bool {
-        let s = &self.dyn_.state;
-        s.conducts_oil(x) && !s.oil_trapped[x]
+        self.dyn_.flags[x] & super::FLAG_FREE_OIL != 0
     }
 
     /// Starts an imbibition from the current state.
@@ -351,12 +350,7 @@ impl Engine<'_> {
         let nb = self.neighbours(e);
         self.release_water(&nb);
         if !self.dyn_.state.conducts_oil(e) {
-            let seeds: super::Neighbours = nb
-                .iter()
-                .copied()
-                .filter(|&n| self.conducts_free_oil(n))
-                .collect();
-            self.trap_oil(&seeds, !self.is_oil_exit(e));
+            self.trap_oil_after(e);
         }
         for &n in &nb {
             if self.dyn_.state.oil[n] {
@@ -385,31 +379,94 @@ impl Engine<'_> {
             self.queue_layer_collapse(e);
             return;
         }
-        let nb = self.neighbours(e);
-        let seeds: super::Neighbours = nb
-            .iter()
-            .copied()
-            .filter(|&n| self.conducts_free_oil(n))
-            .collect();
-        self.trap_oil(&seeds, !self.is_oil_exit(e));
+        self.trap_oil_after(e);
     }
 
-    fn trap_oil(&mut self, seeds: &[usize], one_must_escape: bool) {
+    /// The other pore of throat element `t` seen from pore `p`.
+    #[inline]
+    fn other_pore(&self, t: usize, p: usize) -> usize {
+        let [a, b] = self.setup.network.throats().pores[t - self.n_p];
+        if a as usize == p {
+            b as usize
+        } else {
+            a as usize
+        }
+    }
+
+    /// Oil-conducting pores joined to pore `p` through oil-conducting
+    /// throats (the pore graph of the oil clusters).
+    fn oil_pore_neighbours(&self, p: usize, out: &mut super::Neighbours) {
+        let adj = self.setup.network.adjacency();
+        let flags = &self.dyn_.flags;
+        for (&t, &q) in adj.throats_of(p).iter().zip(adj.neighbours_of(p)) {
+            let te = self.n_p + t as usize;
+            if flags[te] & flags[q as usize] & super::FLAG_FREE_OIL != 0 {
+                out.push(q as usize);
+            }
+        }
+    }
+
+    /// Finds and freezes the oil clusters that element `e` (which just
+    /// stopped conducting oil) cut off from every exit.
+    ///
+    /// The split search runs on the pore graph of the oil: a throat joins
+    /// two pores when it and both pores conduct oil. A throat conducting
+    /// oil whose other pore does not belongs to its one conducting pore,
+    /// and is isolated (trapped on its own) when neither does.
+    fn trap_oil_after(&mut self, e: usize) {
+        let mut seeds = super::Neighbours::new();
+        let mut isolated = super::Neighbours::new();
+        if e < self.n_p {
+            for &t in self.setup.network.adjacency().throats_of(e) {
+                let te = self.n_p + t as usize;
+                if self.conducts_free_oil(te) {
+                    let q = self.other_pore(te, e);
+                    if self.conducts_free_oil(q) {
+                        seeds.push(q);
+                    } else {
+                        isolated.push(te);
+                    }
+                }
+            }
+        } else {
+            let [a, b] = self.setup.network.throats().pores[e - self.n_p];
+            for q in [a as usize, b as usize] {
+                if self.conducts_free_oil(q) {
+                    seeds.push(q);
+                }
+            }
+        }
+        for &t in &isolated {
+            self.mark_oil_trapped(&[t as u32]);
+        }
         if seeds.is_empty() {
             return;
         }
         let mut pieces: Vec<Vec<u32>> = Vec::new();
         let mut search = std::mem::replace(&mut self.search, super::trapping::SplitSearch::new(0));
         search.run(
-            seeds,
+            &seeds,
             |x| self.conducts_free_oil(x),
             |x| self.is_oil_exit(x),
-            |x, out| self.neighbours_into(x, out),
-            one_must_escape,
+            |x, out| self.oil_pore_neighbours(x, out),
+            !self.is_oil_exit(e),
             |p| pieces.push(p.to_vec()),
         );
         self.search = search;
-        for piece in pieces {
+        for pores in pieces {
+            // The piece's pores and every oil-conducting throat touching
+            // them (between two of them, or a dead end).
+            let mut piece: Vec<u32> = pores.clone();
+            for &p in &pores {
+                for &t in self.setup.network.adjacency().throats_of(p as usize) {
+                    let te = self.n_p + t as usize;
+                    if self.conducts_free_oil(te) {
+                        piece.push(te as u32);
+                    }
+                }
+            }
+            piece.sort_unstable();
+            piece.dedup();
             self.mark_oil_trapped(&piece);
         }
     }

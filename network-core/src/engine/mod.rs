@@ -23,6 +23,7 @@ pub mod saturation;
 pub mod state;
 pub mod trapping;
 
+use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
 use crate::capillary::Section;
@@ -131,7 +132,15 @@ pub struct Dynamic {
     next_ganglion: u32,
     /// Incremental saturation records.
     acc: accounting::Accounts,
+    /// Packed per-element flags for the searches ([`FLAG_FREE_OIL`],
+    /// [`FLAG_WATER`]), kept in step with the state by `reaccount`.
+    flags: Vec<u8>,
 }
+
+/// The element conducts oil (centre or layers) that is not trapped.
+pub(crate) const FLAG_FREE_OIL: u8 = 1;
+/// The element conducts water (bulk or films) that is not trapped.
+pub(crate) const FLAG_WATER: u8 = 2;
 
 /// The displacement engine.
 #[derive(Clone, Debug)]
@@ -163,6 +172,12 @@ pub struct Engine<'a> {
     /// Corner-water coefficient of each element for the current process
     /// (see [`accounting`]).
     corner_coef: Vec<f64>,
+    /// `(sin β, cos β)` of the (up to three distinct) corners of each
+    /// element; squares use the first for all four.
+    corner_trig: Vec<[(f64, f64); 3]>,
+    /// `[sin θr, cos θr, sin θa, cos θa]` of the pinned receding and the
+    /// advancing angle of each element, for the current process.
+    angle_trig: Vec<[f64; 4]>,
     /// Σ clay volume, m³.
     clay_total: f64,
     /// Σ resolved volume, m³.
@@ -200,6 +215,13 @@ impl<'a> Engine<'a> {
             rt.iter().sum::<f64>() / rt.len() as f64
         };
         let pore_volume = net.pore_volume();
+        let corner_trig: Vec<[(f64, f64); 3]> = (0..n_e)
+            .into_par_iter()
+            .map(|e| {
+                let b = &g.half_angles[e];
+                [b[0].sin_cos(), b[1].sin_cos(), b[2].sin_cos()]
+            })
+            .collect();
         let clay_total = clay.iter().sum();
         let resolved_total = volume.iter().sum();
         Engine {
@@ -219,6 +241,7 @@ impl<'a> Engine<'a> {
                 breakthrough_pc: None,
                 next_ganglion: 0,
                 acc: Default::default(),
+                flags: vec![FLAG_WATER; n_e],
             },
             mode: Mode::Idle,
             search: SplitSearch::new(n_e),
@@ -228,6 +251,8 @@ impl<'a> Engine<'a> {
             coop_scale: 1.0 / mean_rt,
             pore_volume,
             corner_coef: Vec::new(),
+            corner_trig,
+            angle_trig: Vec::new(),
             clay_total,
             resolved_total,
             setup,
@@ -381,6 +406,14 @@ impl<'a> Engine<'a> {
 }
 
 const SQUARE_CORNERS: [f64; 4] = [std::f64::consts::FRAC_PI_4; 4];
+
+impl Engine<'_> {
+    /// `(sin β, cos β)` of corner `i` of element `e`.
+    #[inline]
+    fn corner_sin_cos(&self, e: usize, i: usize) -> (f64, f64) {
+        self.corner_trig[e][i.min(2)]
+    }
+}
 
 /// Neighbours of one element, inline up to 16 (spills to the heap beyond).
 pub type Neighbours = smallvec::SmallVec<[usize; 16]>;
