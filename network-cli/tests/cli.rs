@@ -354,6 +354,35 @@ fn sweep_resumes_and_merges_cases_run_one_by_one_in_any_order() {
         std::fs::read_to_string(resumed.join("summary.json")).unwrap()
     );
     no_temp_files(&resumed);
+    // The report: one self-contained file holding every figure the sweep
+    // wrote, the caution box, no scripts and nothing fetched from outside
+    // (common practice for an offline report); identical when resumed.
+    let html = std::fs::read_to_string(full.join("report.html")).unwrap();
+    let svg_files = std::fs::read_dir(&full)
+        .unwrap()
+        .filter(|e| {
+            e.as_ref()
+                .unwrap()
+                .path()
+                .extension()
+                .is_some_and(|x| x == "svg")
+        })
+        .count();
+    assert!(svg_files >= 3, "only {svg_files} figures");
+    assert_eq!(html.matches("<svg").count(), svg_files);
+    assert!(html.contains("Caution: model estimates"));
+    assert!(html.contains("Land C"));
+    for bad in [
+        "<script", "<link", "<img", "<iframe", "src=", "url(", "@import",
+    ] {
+        assert!(!html.contains(bad), "report.html contains {bad}");
+    }
+    let no_ns = html.replace("http://www.w3.org/", "");
+    assert!(!no_ns.contains("http://") && !no_ns.contains("https://"));
+    assert_eq!(
+        html,
+        std::fs::read_to_string(resumed.join("report.html")).unwrap()
+    );
 }
 
 #[test]

@@ -394,6 +394,8 @@ pub struct CaseCurve {
     pub krw: Vec<Option<f64>>,
     /// `k_rn` where computed.
     pub krn: Vec<Option<f64>>,
+    /// Resistivity index where computed (finite values only).
+    pub ri: Vec<Option<f64>>,
 }
 
 /// What one case produced (written per case, merged by `collect`).
@@ -415,6 +417,19 @@ pub struct CaseResult {
     pub amott_water: Option<f64>,
     /// Trapped ganglia.
     pub ganglia: Option<usize>,
+    /// Ganglion size histogram (see
+    /// [`crate::simulation::GanglionStats::pores_histogram`]).
+    pub ganglion_histogram: Vec<usize>,
+    /// The network of the case.
+    pub network: crate::simulation::NetworkSummary,
+    /// Absolute permeability, mD.
+    pub permeability_md: Option<f64>,
+    /// Formation factor.
+    pub formation_factor: Option<f64>,
+    /// Amott–Harvey index.
+    pub amott_harvey: Option<f64>,
+    /// USBM index.
+    pub usbm: Option<f64>,
     /// Curves of every process.
     pub curves: Vec<CaseCurve>,
     /// Warnings of the run.
@@ -433,6 +448,16 @@ impl CaseResult {
             krn_at_swi: r.end_points.krn_at_swi,
             amott_water: r.wettability_indices.and_then(|w| fin(w.amott_water)),
             ganglia: r.ganglion_stats.as_ref().map(|g| g.count),
+            ganglion_histogram: r
+                .ganglion_stats
+                .as_ref()
+                .map(|g| g.pores_histogram.clone())
+                .unwrap_or_default(),
+            network: r.network.clone(),
+            permeability_md: r.single_phase.as_ref().map(|p| p.permeability_md),
+            formation_factor: r.single_phase.as_ref().map(|p| p.formation_factor),
+            amott_harvey: r.wettability_indices.and_then(|w| fin(w.amott_harvey)),
+            usbm: r.wettability_indices.and_then(|w| fin(w.usbm)),
             curves: r
                 .outcomes
                 .iter()
@@ -442,6 +467,11 @@ impl CaseResult {
                     sw: o.points.iter().map(|p| p.saturation.sw).collect(),
                     krw: o.points.iter().map(|p| p.flow.map(|f| f.krw)).collect(),
                     krn: o.points.iter().map(|p| p.flow.map(|f| f.krn)).collect(),
+                    ri: o
+                        .points
+                        .iter()
+                        .map(|p| p.flow.and_then(|f| f.ri.is_finite().then_some(f.ri)))
+                        .collect(),
                 })
                 .collect(),
             warnings: r.warnings.clone(),

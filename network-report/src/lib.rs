@@ -44,6 +44,7 @@ pub mod figures;
 pub mod html;
 pub mod plot;
 pub mod run_tables;
+pub mod sweep_report;
 pub mod tables;
 pub mod vtk;
 
@@ -51,4 +52,5 @@ pub use artifacts::{ArtifactOptions, ReportError, write_run_artifacts};
 pub use figures::{Figure, run_figures};
 pub use html::run_report;
 pub use run_tables::saturation_tables;
+pub use sweep_report::{sweep_figures, sweep_report, write_sweep_artifacts};
 pub use vtk::write_vtp;

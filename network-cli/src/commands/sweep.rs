@@ -19,7 +19,8 @@ use crate::progress::Bars;
 /// OUT receives sweep-cases.json (every case and its study), cases/
 /// (one result file per finished case, written atomically), summary.json
 /// (statistics per parameter combination with the Land coefficient),
-/// trapping-curve.csv and cases.csv. A sweep started again with the same
+/// trapping-curve.csv, cases.csv, the figures (trapping curve with its Land
+/// fit, curves with their spread over realisations) and report.html. A sweep started again with the same
 /// study and OUT skips the cases already finished. `--case K` runs one
 /// case only (for a cluster's job scheduler); `collect OUT` then merges.
 ///
@@ -229,6 +230,12 @@ fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
         write_atomic(&p, body.as_bytes())
             .with_context(|| format!("cannot write {}", p.display()))?;
     }
+    let title = results
+        .first()
+        .and_then(|r| r.case.study().title)
+        .unwrap_or_else(|| "Ganglion sweep".to_string());
+    network_report::write_sweep_artifacts(&title, &summary, &results, out, true)
+        .with_context(|| format!("cannot write the sweep report to {}", out.display()))?;
     if !missing.is_empty() {
         progress.note(&format!(
             "{} case(s) not finished yet: {:?}",

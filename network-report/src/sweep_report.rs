@@ -1,0 +1,553 @@
+//! Figures and the HTML report of a sweep: the initial–residual trapping
+//! curve with its Land fit per parameter group, and the capillary-pressure,
+//! relative-permeability and resistivity curves with their spread over the
+//! realisations (mean and 5–95 % band on a common saturation grid).
+
+use std::path::{Path, PathBuf};
+
+use network_core::io::atomic::write_atomic;
+use network_core::study::ProcessKind;
+use network_core::sweep::{CaseResult, Spread, SweepSummary};
+
+use crate::artifacts::ReportError;
+use crate::figures::{Figure, SW_LABEL, process_colour};
+use crate::html::{self, Html, Page};
+use crate::plot::{PlotSpec, Scale, Series, SeriesStyle, render_png, render_svg};
+
+/// Points of the common saturation grid of a band.
+const GRID: usize = 41;
+
+/// Linear interpolation of `y(x)` at `x0` on a curve sorted by `x`
+/// (`None` outside its range).
+fn interpolate(xs: &[f64], ys: &[f64], x0: f64) -> Option<f64> {
+    if xs.is_empty() || x0 < xs[0] || x0 > xs[xs.len() - 1] {
+        return None;
+    }
+    let k = xs.partition_point(|&x| x < x0);
+    if k == 0 {
+        return Some(ys[0]);
+    }
+    if k >= xs.len() {
+        return Some(ys[xs.len() - 1]);
+    }
+    let (x1, x2) = (xs[k - 1], xs[k]);
+    if x2 == x1 {
+        return Some(ys[k]);
+    }
+    Some(ys[k - 1] + (x0 - x1) / (x2 - x1) * (ys[k] - ys[k - 1]))
+}
+
+/// A band: grid, mean, 5th and 95th percentiles.
+struct Band {
+    x: Vec<f64>,
+    mean: Vec<f64>,
+    p05: Vec<f64>,
+    p95: Vec<f64>,
+}
+
+/// Mean and 5–95 % band of several curves `y(x)` on a common grid spanning
+/// the range all curves share (`None` when they share none). Points that
+/// are not finite are dropped; each curve is sorted by `x`.
+fn band(curves: &[(Vec<f64>, Vec<f64>)]) -> Option<Band> {
+    let mut sorted = Vec::new();
+    for (x, y) in curves {
+        let mut pts: Vec<(f64, f64)> = x
+            .iter()
+            .zip(y)
+            .filter(|(a, b)| a.is_finite() && b.is_finite())
+            .map(|(a, b)| (*a, *b))
+            .collect();
+        if pts.len() < 2 {
+            continue;
+        }
+        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+        let (xs, ys): (Vec<f64>, Vec<f64>) = pts.into_iter().unzip();
+        sorted.push((xs, ys));
+    }
+    if sorted.is_empty() {
+        return None;
+    }
+    let lo = sorted
+        .iter()
+        .map(|(x, _)| x[0])
+        .fold(f64::NEG_INFINITY, f64::max);
+    let hi = sorted
+        .iter()
+        .map(|(x, _)| x[x.len() - 1])
+        .fold(f64::INFINITY, f64::min);
+    if hi.partial_cmp(&lo) != Some(std::cmp::Ordering::Greater) {
+        return None;
+    }
+    let (mut gx, mut mean, mut p05, mut p95) = (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+    for k in 0..GRID {
+        let x0 = lo + (hi - lo) * k as f64 / (GRID - 1) as f64;
+        let vals: Vec<f64> = sorted
+            .iter()
+            .filter_map(|(x, y)| interpolate(x, y, x0))
+            .collect();
+        if let Some(s) = Spread::of(&vals) {
+            gx.push(x0);
+            mean.push(s.mean);
+            p05.push(s.p05);
+            p95.push(s.p95);
+        }
+    }
+    Some(Band {
+        x: gx,
+        mean,
+        p05,
+        p95,
+    })
+}
+
+fn process_name(kind: ProcessKind, index: usize) -> String {
+    match (kind, index) {
+        (ProcessKind::Drainage, 0) => "primary drainage".into(),
+        (ProcessKind::Drainage, _) => "secondary drainage".into(),
+        (ProcessKind::Imbibition, _) => "imbibition".into(),
+    }
+}
+
+/// The cases of `group` with the highest initial saturation (the lowest
+/// target water saturation), one per realisation.
+fn deepest_cases(results: &[CaseResult], group: usize) -> Vec<&CaseResult> {
+    let g: Vec<&CaseResult> = results.iter().filter(|r| r.case.group == group).collect();
+    let lowest = g
+        .iter()
+        .map(|r| r.case.initial_water_saturation.unwrap_or(0.0))
+        .fold(f64::INFINITY, f64::min);
+    g.into_iter()
+        .filter(|r| r.case.initial_water_saturation.unwrap_or(0.0) == lowest)
+        .collect()
+}
+
+fn group_label(summary: &SweepSummary, g: usize) -> String {
+    let grp = &summary.groups[g];
+    if grp.parameters.is_empty() {
+        "base study".into()
+    } else {
+        grp.parameters
+            .iter()
+            .map(|(p, v)| format!("{} = {v}", p.rsplit('.').next().unwrap_or(p)))
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+}
+
+/// The standard figures of a sweep (stems `trapping-curve`, `pc-sw-band`,
+/// `kr-sw-band`, `ri-sw-band`, `ganglion-sizes`; those without data are
+/// left out).
+pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figure> {
+    let mut out = Vec::new();
+    let label = results
+        .first()
+        .map(|r| r.case.study().fluids.nonaqueous_label)
+        .unwrap_or_else(|| "oil".into());
+    // Initial–residual curve with the Land fit of each group.
+    let mut series = Vec::new();
+    for (gi, g) in summary.groups.iter().enumerate() {
+        let pts: Vec<(f64, Spread)> = g
+            .trapping_curve
+            .iter()
+            .filter_map(|p| Some((p.sni?.mean, p.snr?)))
+            .collect();
+        if pts.is_empty() {
+            continue;
+        }
+        let colour = process_colour(gi);
+        let x: Vec<f64> = pts.iter().map(|p| p.0).collect();
+        let y: Vec<f64> = pts.iter().map(|p| p.1.mean).collect();
+        let lo: Vec<f64> = pts.iter().map(|p| p.1.p05).collect();
+        let hi: Vec<f64> = pts.iter().map(|p| p.1.p95).collect();
+        series.push(
+            Series::line(format!("S_nr, {}", group_label(summary, gi)), x, y)
+                .with_style(SeriesStyle::Markers)
+                .with_colour(colour)
+                .with_band(lo, hi),
+        );
+        if let Some(c) = g.land_coefficient {
+            let sx: Vec<f64> = (0..=50).map(|k| k as f64 / 50.0).collect();
+            let sy: Vec<f64> = sx.iter().map(|&s| s / (1.0 + c * s)).collect();
+            series.push(
+                Series::line(format!("Land fit C = {c:.2}"), sx, sy)
+                    .with_style(SeriesStyle::Dashed)
+                    .with_colour(colour),
+            );
+        }
+    }
+    if !series.is_empty() {
+        out.push(Figure {
+            name: "trapping-curve",
+            title: "Initial–residual trapping curve".into(),
+            caption: format!(
+                "Residual (trapped) {label} saturation after imbibition against the initial saturation \
+                 reached by drainage: mean over realisations with the 5–95 % band, and the Land (1968) \
+                 curve S_nr = S_ni/(1 + C S_ni) fitted to each group."
+            ),
+            spec: PlotSpec {
+                title: "Initial–residual trapping curve".into(),
+                x_label: format!("Initial {label} saturation S_ni (fraction of pore volume)"),
+                y_label: format!("Residual {label} saturation S_nr (fraction of pore volume)"),
+                x_scale: Scale::Linear,
+                y_scale: Scale::Linear,
+                x_range: Some((0.0, 1.0)),
+                y_range: Some((0.0, 1.0)),
+                series,
+            },
+        });
+    }
+    // Curves of the deepest cases of each group, with bands.
+    let curve_figure = |name: &'static str,
+                        title: &str,
+                        y_label: &str,
+                        y_scale: Scale,
+                        pick: &dyn Fn(&network_core::sweep::CaseCurve) -> Vec<f64>,
+                        scale: f64| {
+        let mut series = Vec::new();
+        for gi in 0..summary.groups.len().min(4) {
+            let cases = deepest_cases(results, summary.groups[gi].group);
+            let Some(first) = cases.first() else { continue };
+            for (pi, c0) in first.curves.iter().enumerate() {
+                let curves: Vec<(Vec<f64>, Vec<f64>)> = cases
+                    .iter()
+                    .filter_map(|r| r.curves.get(pi))
+                    .map(|c| (c.sw.clone(), pick(c).iter().map(|v| v * scale).collect()))
+                    .collect();
+                if let Some(Band {
+                    x,
+                    mean: m,
+                    p05: lo,
+                    p95: hi,
+                }) = band(&curves)
+                {
+                    let mut lbl = process_name(c0.kind, pi);
+                    if summary.groups.len() > 1 {
+                        lbl = format!("{lbl}, {}", group_label(summary, gi));
+                    }
+                    series.push(
+                        Series::line(lbl, x, m)
+                            .with_colour(process_colour(pi + 3 * gi))
+                            .with_band(lo, hi),
+                    );
+                }
+            }
+        }
+        (!series.is_empty()).then(|| Figure {
+            name,
+            title: title.into(),
+            caption: format!(
+                "{title} of the cases with the highest initial saturation: mean over the realisations \
+                 and the 5–95 % band on a common saturation grid."
+            ),
+            spec: PlotSpec {
+                title: title.into(),
+                x_label: SW_LABEL.into(),
+                y_label: y_label.into(),
+                x_scale: Scale::Linear,
+                y_scale,
+                x_range: Some((0.0, 1.0)),
+                y_range: None,
+                series,
+            },
+        })
+    };
+    let opt = |v: &[Option<f64>]| v.iter().map(|x| x.unwrap_or(f64::NAN)).collect::<Vec<_>>();
+    if let Some(f) = curve_figure(
+        "pc-sw-band",
+        "Capillary pressure",
+        "Capillary pressure Pc = Pn − Pw (kPa)",
+        Scale::Linear,
+        &|c| c.pc_pa.clone(),
+        1e-3,
+    ) {
+        out.push(f);
+    }
+    if let Some(f) = curve_figure(
+        "kr-sw-band",
+        "Water relative permeability",
+        "k_rw (fraction)",
+        Scale::Linear,
+        &|c| opt(&c.krw),
+        1.0,
+    ) {
+        out.push(f);
+    }
+    if let Some(f) = curve_figure(
+        "krn-sw-band",
+        &format!("Relative permeability of {label}"),
+        &format!("k_r,{label} (fraction)"),
+        Scale::Linear,
+        &|c| opt(&c.krn),
+        1.0,
+    ) {
+        out.push(f);
+    }
+    if let Some(f) = curve_figure(
+        "ri-sw-band",
+        "Resistivity index",
+        "RI = Rt/Ro",
+        Scale::Log,
+        &|c| opt(&c.ri),
+        1.0,
+    ) {
+        out.push(f);
+    }
+    // Ganglion sizes of the deepest cases of the first group.
+    if let Some(g0) = summary.groups.first() {
+        let cases = deepest_cases(results, g0.group);
+        let bins = cases
+            .iter()
+            .map(|r| r.ganglion_histogram.len())
+            .max()
+            .unwrap_or(0);
+        if bins > 0 {
+            let x: Vec<f64> = (0..bins).map(|k| (1u64 << k) as f64).collect();
+            let y: Vec<f64> = (0..bins)
+                .map(|k| {
+                    let v: Vec<f64> = cases
+                        .iter()
+                        .map(|r| r.ganglion_histogram.get(k).copied().unwrap_or(0) as f64)
+                        .collect();
+                    v.iter().sum::<f64>() / v.len() as f64
+                })
+                .collect();
+            out.push(Figure {
+                name: "ganglion-sizes",
+                title: "Trapped ganglion sizes".into(),
+                caption: "Mean number of trapped ganglia per size class (pores per ganglion, \
+                          classes doubling from 1) after imbibition from the highest initial \
+                          saturation."
+                    .into(),
+                spec: PlotSpec {
+                    title: "Trapped ganglion sizes".into(),
+                    x_label: "Pores per ganglion (class lower bound)".into(),
+                    y_label: "Ganglia per case".into(),
+                    x_scale: Scale::Log,
+                    y_scale: Scale::Linear,
+                    x_range: None,
+                    y_range: None,
+                    series: vec![
+                        Series::line("mean over realisations", x, y)
+                            .with_style(SeriesStyle::LineMarkers),
+                    ],
+                },
+            });
+        }
+    }
+    out
+}
+
+fn spread_text(s: Option<Spread>) -> String {
+    match s {
+        Some(s) if s.n > 1 => format!(
+            "{} ± {} (5–95 %: {}–{})",
+            html::number(s.mean, 3),
+            html::number(s.std, 2),
+            html::number(s.p05, 3),
+            html::number(s.p95, 3)
+        ),
+        Some(s) => html::number(s.mean, 3),
+        None => "n/a".into(),
+    }
+}
+
+/// The sweep report: one self-contained HTML page (inline SVG, no scripts,
+/// no external resources) with the caution box, the sweep's inputs, the
+/// network, every figure, the group statistics and the trapping tables.
+pub fn sweep_report(
+    title: &str,
+    summary: &SweepSummary,
+    results: &[CaseResult],
+    figures: &[Figure],
+) -> String {
+    let mut page = Page::new(title);
+    page.subtitle(&format!(
+        "Sweep of {} cases ({} finished) in {} parameter group(s)",
+        summary.cases_total,
+        summary.cases_done,
+        summary.groups.len()
+    ));
+    page.lead(html::caution());
+    if let Some(r) = results.first() {
+        let n = &r.network;
+        page.section(
+            "Network",
+            html::key_values(&[
+                ("name", n.name.clone()),
+                ("content hash", n.hash.clone()),
+                ("pores / throats", format!("{} / {}", n.pores, n.throats)),
+                ("porosity", html::number(n.porosity, 4)),
+                (
+                    "permeability (mD)",
+                    r.permeability_md
+                        .map_or("n/a".into(), |k| html::number(k, 4)),
+                ),
+                (
+                    "formation factor",
+                    r.formation_factor
+                        .map_or("n/a".into(), |f| html::number(f, 4)),
+                ),
+            ]),
+        );
+        let mut inputs = Html::new();
+        inputs.push(html::paragraph(
+            "The base study of the sweep, as run for its first case (each case changes the swept values, \
+             the stop of the primary drainage and the seed):",
+        ));
+        inputs.push(Html::element("pre", None, Html::text(&r.case.study_text)));
+        page.section("Inputs", inputs);
+    }
+    let mut figs = Html::new();
+    for f in figures {
+        if let Ok(svg) = render_svg(&f.spec) {
+            figs.push(html::figure(&svg, &f.caption));
+        }
+    }
+    page.section("Figures", figs);
+    let rows: Vec<Vec<String>> = summary
+        .groups
+        .iter()
+        .enumerate()
+        .map(|(gi, g)| {
+            vec![
+                gi.to_string(),
+                group_label(summary, gi),
+                g.cases.to_string(),
+                g.land_coefficient
+                    .map_or("n/a".into(), |c| html::number(c, 4)),
+                g.land_rmse_snr.map_or("n/a".into(), |c| html::number(c, 2)),
+                spread_text(g.snr),
+                spread_text(g.krw_at_snr),
+                spread_text(g.amott_water),
+            ]
+        })
+        .collect();
+    page.section(
+        "Groups",
+        html::table(
+            &[
+                "group",
+                "parameters",
+                "cases",
+                "Land C",
+                "Land fit RMS (S_nr)",
+                "S_nr",
+                "k_rw at S_nr",
+                "Amott water index",
+            ],
+            &rows,
+        ),
+    );
+    let mut tables = Html::new();
+    for (gi, g) in summary.groups.iter().enumerate() {
+        tables.push(html::subheading(&format!(
+            "Group {gi}: {}",
+            group_label(summary, gi)
+        )));
+        let rows: Vec<Vec<String>> = g
+            .trapping_curve
+            .iter()
+            .map(|p| {
+                vec![
+                    p.initial_water_saturation
+                        .map_or("as in the study".into(), |s| html::number(s, 3)),
+                    spread_text(p.sni),
+                    spread_text(p.snr),
+                ]
+            })
+            .collect();
+        tables.push(html::table(&["target initial Sw", "S_ni", "S_nr"], &rows));
+    }
+    page.section("Trapping tables", tables);
+    page.footer(&format!(
+        "Made by ganglion {} from {} finished cases. Land (1968): 1/S_nr − 1/S_ni = C, saturations as \
+         fractions of the pore volume.",
+        env!("CARGO_PKG_VERSION"),
+        summary.cases_done
+    ));
+    page.render()
+}
+
+/// Writes the sweep's figures (SVG, and PNG when `png`) and `report.html`
+/// into `dir`, each atomically.
+pub fn write_sweep_artifacts(
+    title: &str,
+    summary: &SweepSummary,
+    results: &[CaseResult],
+    dir: &Path,
+    png: bool,
+) -> Result<Vec<PathBuf>, ReportError> {
+    let figures = sweep_figures(summary, results);
+    let mut written = Vec::new();
+    let put = |name: String, bytes: &[u8], written: &mut Vec<PathBuf>| -> Result<(), ReportError> {
+        let p = dir.join(name);
+        write_atomic(&p, bytes).map_err(|source| ReportError::Io {
+            path: p.clone(),
+            source,
+        })?;
+        written.push(p);
+        Ok(())
+    };
+    for f in &figures {
+        let svg = render_svg(&f.spec).map_err(|source| ReportError::Plot {
+            file: format!("{}.svg", f.name),
+            source,
+        })?;
+        put(format!("{}.svg", f.name), svg.as_bytes(), &mut written)?;
+        if png {
+            let bytes = render_png(&f.spec, 1200, 840).map_err(|source| ReportError::Plot {
+                file: format!("{}.png", f.name),
+                source,
+            })?;
+            put(format!("{}.png", f.name), &bytes, &mut written)?;
+        }
+    }
+    let page = sweep_report(title, summary, results, &figures);
+    put("report.html".into(), page.as_bytes(), &mut written)?;
+    Ok(written)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn interpolation_is_exact_on_a_straight_line_and_none_outside() {
+        // Analytic: linear interpolation reproduces y = 2x + 1 exactly.
+        let xs = [0.0, 0.25, 0.5, 1.0];
+        let ys: Vec<f64> = xs.iter().map(|x| 2.0 * x + 1.0).collect();
+        for x0 in [0.0, 0.1, 0.3, 0.75, 1.0] {
+            let y = interpolate(&xs, &ys, x0).unwrap();
+            assert!((y - (2.0 * x0 + 1.0)).abs() < 1e-12, "{x0}: {y}");
+        }
+        assert_eq!(interpolate(&xs, &ys, -0.01), None);
+        assert_eq!(interpolate(&xs, &ys, 1.01), None);
+        assert_eq!(interpolate(&[], &[], 0.5), None);
+    }
+
+    #[test]
+    fn band_of_two_parallel_lines_spans_the_shared_range_with_the_mean_between() {
+        // Analytic: y = x on [0, 1] and y = x + 1 on [0.2, 0.9] (unsorted,
+        // with a NaN point) share [0.2, 0.9]; their mean is x + 0.5 there and
+        // every percentile of two values lies between them.
+        let a = (
+            (0..=10).map(|k| k as f64 / 10.0).collect(),
+            (0..=10).map(|k| k as f64 / 10.0).collect(),
+        );
+        let bx = vec![0.9, 0.2, 0.5, 0.7, f64::NAN];
+        let by: Vec<f64> = bx.iter().map(|x| x + 1.0).collect();
+        let b = band(&[a, (bx, by)]).unwrap();
+        assert_eq!(b.x.len(), GRID);
+        assert!((b.x[0] - 0.2).abs() < 1e-12 && (b.x[GRID - 1] - 0.9).abs() < 1e-12);
+        for k in 0..GRID {
+            let x = b.x[k];
+            assert!((b.mean[k] - (x + 0.5)).abs() < 1e-12);
+            assert!(b.p05[k] >= x - 1e-12 && b.p05[k] <= b.mean[k] + 1e-12);
+            assert!(b.p95[k] <= x + 1.0 + 1e-12 && b.p95[k] >= b.mean[k] - 1e-12);
+        }
+        // Disjoint ranges share nothing.
+        let c = (vec![0.0, 0.1], vec![1.0, 1.0]);
+        let d = (vec![0.5, 0.6], vec![1.0, 1.0]);
+        assert!(band(&[c, d]).is_none());
+    }
+}
