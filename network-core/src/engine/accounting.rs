@@ -175,7 +175,7 @@ impl Engine<'_> {
     }
 
     fn advancing_trig(&self, e: usize) -> (f64, f64) {
-        let t = self.angle_trig[e];
+        let t = self.angle_trig(e);
         (t[2], t[3])
     }
 
@@ -248,7 +248,7 @@ impl Engine<'_> {
     fn advancing_switch(&self, e: usize, i: usize, beta: f64) -> f64 {
         let theta_a = self.angles.advancing[e];
         if theta_a + beta < FRAC_PI_2 {
-            let [sr, cr, sa, ca] = self.angle_trig[e];
+            let [sr, cr, sa, ca] = self.angle_trig(e);
             let (sb, cb) = self.corner_sin_cos(e, i);
             self.dyn_.state.pc_max[e] * (ca * cb - sa * sb) / (cr * cb - sr * sb)
         } else {
@@ -390,18 +390,19 @@ impl Engine<'_> {
         // Receding menisci at θr in drainage, advancing ones at θa in
         // imbibition (all wet corners).
         let imbibition = self.mode == Mode::Imbibition;
-        self.angle_trig = (0..n)
+        self.angle_cos = (0..n)
             .into_par_iter()
             .map(|e| {
-                let (sr, cr) = self.angles.pinned_receding[e].sin_cos();
-                let (sa, ca) = self.angles.advancing[e].sin_cos();
-                [sr, cr, sa, ca]
+                [
+                    self.angles.pinned_receding[e].cos(),
+                    self.angles.advancing[e].cos(),
+                ]
             })
             .collect();
         self.corner_coef = (0..n)
             .into_par_iter()
             .map(|e| {
-                let t = self.angle_trig[e];
+                let t = self.angle_trig(e);
                 let (theta, trig) = if imbibition {
                     (self.angles.advancing[e], (t[2], t[3]))
                 } else {
@@ -532,7 +533,7 @@ impl Engine<'_> {
     fn pinned_corner_water(&self, e: usize, pc: f64, mask: u8) -> f64 {
         let sigma = self.setup.sigma;
         let pc_max = self.dyn_.state.pc_max[e];
-        let [sr, cr, sa, ca] = self.angle_trig[e];
+        let [sr, cr, sa, ca] = self.angle_trig(e);
         let theta_a = self.angles.advancing[e];
         let r = sigma / pc;
         let ratio = pc / pc_max;

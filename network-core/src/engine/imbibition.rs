@@ -64,6 +64,9 @@ impl Engine<'_> {
     /// Starts an imbibition from the current state.
     pub fn begin_imbibition(&mut self) {
         self.mode = Mode::Imbibition;
+        // The drainage thresholds are not needed again before the next
+        // drainage, which recomputes them.
+        self.entry = Vec::new();
         let n_e = self.volume.len();
         let sigma = self.setup.sigma;
         let snap_allowed = self.setup.mechanisms.snap_off;

@@ -172,12 +172,12 @@ pub struct Engine<'a> {
     /// Corner-water coefficient of each element for the current process
     /// (see [`accounting`]).
     corner_coef: Vec<f64>,
-    /// `(sin β, cos β)` of the (up to three distinct) corners of each
-    /// element; squares use the first for all four.
-    corner_trig: Vec<[(f64, f64); 3]>,
-    /// `[sin θr, cos θr, sin θa, cos θa]` of the pinned receding and the
-    /// advancing angle of each element, for the current process.
-    angle_trig: Vec<[f64; 4]>,
+    /// `sin β` of the (up to three distinct) corners of each element;
+    /// squares use the first for all four (`cos β` follows, β < π/2).
+    corner_sin: Vec<[f64; 3]>,
+    /// `[cos θr, cos θa]` of the pinned receding and the advancing angle of
+    /// each element, for the current process (`sin θ ≥ 0` follows, θ ≤ π).
+    angle_cos: Vec<[f64; 2]>,
     /// Σ clay volume, m³.
     clay_total: f64,
     /// Σ resolved volume, m³.
@@ -215,12 +215,9 @@ impl<'a> Engine<'a> {
             rt.iter().sum::<f64>() / rt.len() as f64
         };
         let pore_volume = net.pore_volume();
-        let corner_trig: Vec<[(f64, f64); 3]> = (0..n_e)
+        let corner_sin: Vec<[f64; 3]> = (0..n_e)
             .into_par_iter()
-            .map(|e| {
-                let b = &g.half_angles[e];
-                [b[0].sin_cos(), b[1].sin_cos(), b[2].sin_cos()]
-            })
+            .map(|e| g.half_angles[e].map(f64::sin))
             .collect();
         let clay_total = clay.iter().sum();
         let resolved_total = volume.iter().sum();
@@ -251,8 +248,8 @@ impl<'a> Engine<'a> {
             coop_scale: 1.0 / mean_rt,
             pore_volume,
             corner_coef: Vec::new(),
-            corner_trig,
-            angle_trig: Vec::new(),
+            corner_sin,
+            angle_cos: Vec::new(),
             clay_total,
             resolved_total,
             setup,
@@ -411,8 +408,25 @@ impl Engine<'_> {
     /// `(sin β, cos β)` of corner `i` of element `e`.
     #[inline]
     fn corner_sin_cos(&self, e: usize, i: usize) -> (f64, f64) {
-        self.corner_trig[e][i.min(2)]
+        let s = self.corner_sin[e][i.min(2)];
+        (s, cos_from_sin(s))
     }
+
+    /// `[sin θr, cos θr, sin θa, cos θa]` of the pinned receding and the
+    /// advancing angle of element `e` for the current process.
+    #[inline]
+    fn angle_trig(&self, e: usize) -> [f64; 4] {
+        let [cr, ca] = self.angle_cos[e];
+        [cos_from_sin(cr), cr, cos_from_sin(ca), ca]
+    }
+}
+
+/// `√((1 − x)(1 + x))`: the cosine of an angle in `[0, π/2]` from its sine,
+/// or the sine of an angle in `[0, π]` from its cosine (the factored form
+/// keeps full precision near `|x| = 1`, where `1 − x` is exact).
+#[inline]
+fn cos_from_sin(x: f64) -> f64 {
+    ((1.0 - x) * (1.0 + x)).max(0.0).sqrt()
 }
 
 /// Neighbours of one element, inline up to 16 (spills to the heap beyond).

@@ -73,7 +73,8 @@ pub struct SolveOptions {
     /// a solve that runs past twice the iterations per decade of residual
     /// reduction of the solve that built it (CG then continues from its
     /// current iterate), and before the next solve when a solve needed more
-    /// than 1.5 times as many.
+    /// than 1.5 times as many. With `false` the hierarchy is freed at the
+    /// end of each solve.
     pub reuse_hierarchy: bool,
 }
 
@@ -568,6 +569,12 @@ impl PressureSystem {
         };
         let inflow = face_flow(inlet, 1.0);
         let outflow = face_flow(outlet, -1.0);
+        if !opts.reuse_hierarchy {
+            // Never used again: the next solve builds its own, so the
+            // memory goes back now rather than staying beside what the
+            // caller does between solves.
+            self.amg = None;
+        }
         let scale = inflow.abs().max(outflow.abs());
         let imbalance = if scale > 0.0 {
             (inflow - outflow).abs() / scale
