@@ -4,7 +4,7 @@
 //!
 //! Run with `cargo bench -p ganglion-benches --bench displacement`; pick
 //! parts and lattice edges with arguments, e.g. `-- drainage 22 46 100`,
-//! `-- kr 46 100`, `-- kr-accuracy 30`, `-- sweep 46`. Setup (generation, geometry) is not
+//! `-- kr 46 100`, `-- kr-accuracy 30`, `-- sweep 46`, `-- memory 100`. Setup (generation, geometry) is not
 //! timed. Prints seconds (median of the repeats), the cost-growth exponent
 //! between the smallest and largest size, and peak resident memory
 //! (VmHWM, reset before each measurement).
@@ -250,6 +250,78 @@ fn run_kr_accuracy(sizes: &[usize]) {
     }
 }
 
+/// Resident memory, stage by stage, of a full run's pieces (MB above the
+/// network): the engine, its drainage end state, the snapshot a kr pass
+/// keeps, the flow solver and one kr point (peak during the solves).
+fn run_memory(n: usize) {
+    use network_core::relperm::RelpermSolver;
+    let net = lattice(n);
+    let study = Study::parse(STUDY).unwrap();
+    let mb = |b: u64, base: u64| b.saturating_sub(base) as f64 / 1e6;
+    println!(
+        "== memory stages on {} pores (MB above the generated network)",
+        net.n_pores()
+    );
+    reset_peak_rss();
+    let base = ganglion_benches::rss_bytes();
+    let geom = Geometry::new(&net, study.seed);
+    println!(
+        "  geometry              {:>8.0}",
+        mb(ganglion_benches::rss_bytes(), base)
+    );
+    let angles = ContactAngles::intrinsic(&study.wettability, net.n_elements(), study.seed);
+    let setup = Setup {
+        network: &net,
+        geometry: &geom,
+        sigma: study.fluids.interfacial_tension_n_per_m,
+        outlet: study.outlet,
+        imbibition_faces: ImbibitionFaces::Both,
+        mechanisms: study.mechanisms.clone(),
+        seed: study.seed,
+    };
+    let mut eng = Engine::new(setup, angles);
+    println!(
+        "  + engine              {:>8.0}",
+        mb(ganglion_benches::rss_bytes(), base)
+    );
+    run_process(
+        &mut eng,
+        ProcessKind::Drainage,
+        StopAt::Pc(1e5),
+        40,
+        &Silent,
+    );
+    println!(
+        "  + drainage done       {:>8.0}   peak {:>8.0}",
+        mb(ganglion_benches::rss_bytes(), base),
+        mb(peak_rss_bytes(), base)
+    );
+    let snap = eng.snapshot();
+    println!(
+        "  + snapshot            {:>8.0}",
+        mb(ganglion_benches::rss_bytes(), base)
+    );
+    drop(snap);
+    let axis = net.info().flow_axis;
+    let opts = network_core::flow::SolveOptions {
+        tolerance: study.flow.solver_tolerance,
+        ..Default::default()
+    };
+    let mut rp = RelpermSolver::new(&net, axis, opts, 1.0).unwrap();
+    println!(
+        "  + flow solver         {:>8.0}   peak {:>8.0}",
+        mb(ganglion_benches::rss_bytes(), base),
+        mb(peak_rss_bytes(), base)
+    );
+    reset_peak_rss();
+    rp.point(&eng).unwrap();
+    println!(
+        "  + one kr point        {:>8.0}   peak {:>8.0}",
+        mb(ganglion_benches::rss_bytes(), base),
+        mb(peak_rss_bytes(), base)
+    );
+}
+
 fn run_sweep(n: usize) {
     let net = lattice(n);
     let text = format!(
@@ -305,6 +377,7 @@ fn main() {
         "kr" => run_kr(&pick(&[46, 100])),
         "kr-accuracy" => run_kr_accuracy(&pick(&[30])),
         "sweep" => run_sweep(pick(&[46])[0]),
+        "memory" => run_memory(pick(&[46])[0]),
         _ => {
             run_displacement(&pick(&[22, 46, 100]));
             run_kr(&pick(&[46, 100]));
