@@ -22,7 +22,7 @@ use crate::progress::Bars;
 /// file is written atomically.
 ///
 /// Examples:
-///   ganglion run sample-networks/studies/water-wet.toml -o out/
+///   ganglion run studies/kestrel-waterflood.toml -o out/
 ///   ganglion run study.toml -o out/ --threads 2 --quiet
 #[derive(clap::Args, Debug)]
 #[command(verbatim_doc_comment)]
