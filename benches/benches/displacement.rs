@@ -56,6 +56,22 @@ fn lattice(n: usize) -> Network {
     generate(&spec, &Silent).expect("lattice")
 }
 
+/// A fully water-saturated engine for the benchmark study (imbibition from
+/// both faces).
+fn engine<'a>(net: &'a Network, geom: &'a Geometry, study: &Study) -> Engine<'a> {
+    let angles = ContactAngles::intrinsic(&study.wettability, net.n_elements(), study.seed);
+    let setup = Setup {
+        network: net,
+        geometry: geom,
+        sigma: study.fluids.interfacial_tension_n_per_m,
+        outlet: study.outlet,
+        imbibition_faces: ImbibitionFaces::Both,
+        mechanisms: study.mechanisms.clone(),
+        seed: study.seed,
+    };
+    Engine::new(setup, angles)
+}
+
 fn median(mut v: Vec<f64>) -> f64 {
     v.sort_by(f64::total_cmp);
     v[v.len() / 2]
@@ -81,19 +97,9 @@ fn displacement(n: usize, repeats: usize) -> Timing {
     let mut events = 0;
     let mut peak = 0.0;
     for _ in 0..repeats {
-        let angles = ContactAngles::intrinsic(&study.wettability, net.n_elements(), study.seed);
-        let setup = Setup {
-            network: &net,
-            geometry: &geom,
-            sigma: study.fluids.interfacial_tension_n_per_m,
-            outlet: study.outlet,
-            imbibition_faces: ImbibitionFaces::Both,
-            mechanisms: study.mechanisms.clone(),
-            seed: study.seed,
-        };
         reset_peak_rss();
         let base = peak_rss_bytes();
-        let mut eng = Engine::new(setup, angles);
+        let mut eng = engine(&net, &geom, &study);
         let t = Instant::now();
         let d = run_process(
             &mut eng,
@@ -269,17 +275,7 @@ fn run_memory(n: usize) {
         "  geometry              {:>8.0}",
         mb(ganglion_benches::rss_bytes(), base)
     );
-    let angles = ContactAngles::intrinsic(&study.wettability, net.n_elements(), study.seed);
-    let setup = Setup {
-        network: &net,
-        geometry: &geom,
-        sigma: study.fluids.interfacial_tension_n_per_m,
-        outlet: study.outlet,
-        imbibition_faces: ImbibitionFaces::Both,
-        mechanisms: study.mechanisms.clone(),
-        seed: study.seed,
-    };
-    let mut eng = Engine::new(setup, angles);
+    let mut eng = engine(&net, &geom, &study);
     println!(
         "  + engine              {:>8.0}",
         mb(ganglion_benches::rss_bytes(), base)
