@@ -73,26 +73,30 @@ pub fn phase_conductances(engine: &Engine<'_>, clay_tortuosity: f64) -> PhaseCon
             let k = shape.conductance_factor();
             let g = geom.shape_factor[e];
             let area = geom.area(e);
-            let (aw, ao_layer) = engine.element_areas(e);
-            let elec = aw + clay[e] / clay_tortuosity;
-            let elec = if s.water_trapped[e] { 0.0 } else { elec };
+            let electrical = |aw: f64| {
+                if s.water_trapped[e] {
+                    0.0
+                } else {
+                    aw + clay[e] / clay_tortuosity
+                }
+            };
             if s.oil[e] {
-                let mut gw = 0.0;
-                if !s.water_trapped[e] {
-                    let corners = engine.section(e).corners;
-                    for (i, m) in engine.corner_menisci(e).iter().enumerate() {
-                        if let Some(m) = m {
-                            let beta = corners[i];
-                            gw += capillary::corner_conductance_b(
-                                m.area(beta),
-                                m.b,
-                                m.theta_h,
-                                beta,
-                                1.0,
-                            );
+                // The corner menisci once: their areas give the water area
+                // (as in `Engine::element_areas`) and the film conductances.
+                let corners = engine.section(e).corners;
+                let (mut aw, mut gw) = (0.0, 0.0);
+                for (i, m) in engine.corner_menisci(e).iter().enumerate() {
+                    if let Some(m) = m {
+                        let beta = corners[i];
+                        let a = m.area(beta);
+                        aw += a;
+                        if !s.water_trapped[e] {
+                            gw += capillary::corner_conductance_b(a, m.b, m.theta_h, beta, 1.0);
                         }
                     }
                 }
+                let aw = aw.clamp(0.0, area);
+                let elec = electrical(aw);
                 let go = if s.oil_trapped[e] {
                     0.0
                 } else {
@@ -100,6 +104,8 @@ pub fn phase_conductances(engine: &Engine<'_>, clay_tortuosity: f64) -> PhaseCon
                 };
                 (gw, go, elec)
             } else {
+                let (aw, ao_layer) = engine.element_areas(e);
+                let elec = electrical(aw);
                 let gw = if s.water_trapped[e] {
                     0.0
                 } else {
