@@ -9,7 +9,7 @@ use network_core::io::atomic::write_atomic;
 use network_core::simulation::RunResults;
 use thiserror::Error;
 
-use crate::figures::run_figures;
+use crate::figures::{Figure, run_figures};
 use crate::html::run_report;
 use crate::plot::{PlotError, render_png, render_svg};
 use crate::run_tables::saturation_tables;
@@ -104,34 +104,11 @@ pub fn write_run_artifacts(
         path: dir.to_path_buf(),
         source,
     })?;
-    let mut written = Vec::new();
-    let mut put = |name: &str, bytes: &[u8]| -> Result<(), ReportError> {
-        let path = dir.join(name);
-        write_atomic(&path, bytes).map_err(|source| ReportError::Io {
-            path: path.clone(),
-            source,
-        })?;
-        written.push(path);
-        Ok(())
-    };
+    let mut out = Writer::new(dir);
+    let mut put = |name: &str, bytes: &[u8]| out.put(name, bytes);
     let figures = run_figures(results);
     for f in &figures {
-        let file = format!("{}.svg", f.name);
-        let svg = render_svg(&f.spec).map_err(|source| ReportError::Plot {
-            file: file.clone(),
-            source,
-        })?;
-        put(&file, svg.as_bytes())?;
-        if opts.png {
-            let file = format!("{}.png", f.name);
-            let png = render_png(&f.spec, PNG_SIZE.0, PNG_SIZE.1).map_err(|source| {
-                ReportError::Plot {
-                    file: file.clone(),
-                    source,
-                }
-            })?;
-            put(&file, &png)?;
-        }
+        put_figure(f, opts.png, &mut put)?;
     }
     for (name, text) in saturation_tables(results, opts.table_points)? {
         put(&name, text.as_bytes())?;
@@ -153,5 +130,57 @@ pub fn write_run_artifacts(
             put(&file, text.as_bytes())?;
         }
     }
-    Ok(written)
+    Ok(out.written)
+}
+
+/// Writes files into one folder atomically and lists what it wrote.
+pub(crate) struct Writer<'a> {
+    dir: &'a Path,
+    /// Paths written, in order.
+    pub(crate) written: Vec<PathBuf>,
+}
+
+impl<'a> Writer<'a> {
+    pub(crate) fn new(dir: &'a Path) -> Writer<'a> {
+        Writer {
+            dir,
+            written: Vec::new(),
+        }
+    }
+
+    /// Writes `bytes` to `dir/name` atomically.
+    pub(crate) fn put(&mut self, name: &str, bytes: &[u8]) -> Result<(), ReportError> {
+        let path = self.dir.join(name);
+        write_atomic(&path, bytes).map_err(|source| ReportError::Io {
+            path: path.clone(),
+            source,
+        })?;
+        self.written.push(path);
+        Ok(())
+    }
+}
+
+/// Renders figure `f` as `NAME.svg` and, when `png`, `NAME.png`
+/// ([`PNG_SIZE`]), handing each file to `put`.
+pub(crate) fn put_figure(
+    f: &Figure,
+    png: bool,
+    put: &mut impl FnMut(&str, &[u8]) -> Result<(), ReportError>,
+) -> Result<(), ReportError> {
+    let file = format!("{}.svg", f.name);
+    let svg = render_svg(&f.spec).map_err(|source| ReportError::Plot {
+        file: file.clone(),
+        source,
+    })?;
+    put(&file, svg.as_bytes())?;
+    if png {
+        let file = format!("{}.png", f.name);
+        let bytes =
+            render_png(&f.spec, PNG_SIZE.0, PNG_SIZE.1).map_err(|source| ReportError::Plot {
+                file: file.clone(),
+                source,
+            })?;
+        put(&file, &bytes)?;
+    }
+    Ok(())
 }

@@ -5,14 +5,13 @@
 
 use std::path::{Path, PathBuf};
 
-use network_core::io::atomic::write_atomic;
 use network_core::study::ProcessKind;
 use network_core::sweep::{CaseResult, Spread, SweepSummary};
 
-use crate::artifacts::ReportError;
+use crate::artifacts::{ReportError, Writer, put_figure};
 use crate::figures::{Figure, SW_LABEL, process_colour};
 use crate::html::{self, Html, Page};
-use crate::plot::{PlotSpec, Scale, Series, SeriesStyle, render_png, render_svg};
+use crate::plot::{PlotSpec, Scale, Series, SeriesStyle, render_svg};
 
 /// Points of the common saturation grid of a band.
 const GRID: usize = 41;
@@ -478,33 +477,14 @@ pub fn write_sweep_artifacts(
     png: bool,
 ) -> Result<Vec<PathBuf>, ReportError> {
     let figures = sweep_figures(summary, results);
-    let mut written = Vec::new();
-    let put = |name: String, bytes: &[u8], written: &mut Vec<PathBuf>| -> Result<(), ReportError> {
-        let p = dir.join(name);
-        write_atomic(&p, bytes).map_err(|source| ReportError::Io {
-            path: p.clone(),
-            source,
-        })?;
-        written.push(p);
-        Ok(())
-    };
+    let mut out = Writer::new(dir);
+    let mut put = |name: &str, bytes: &[u8]| out.put(name, bytes);
     for f in &figures {
-        let svg = render_svg(&f.spec).map_err(|source| ReportError::Plot {
-            file: format!("{}.svg", f.name),
-            source,
-        })?;
-        put(format!("{}.svg", f.name), svg.as_bytes(), &mut written)?;
-        if png {
-            let bytes = render_png(&f.spec, 1200, 840).map_err(|source| ReportError::Plot {
-                file: format!("{}.png", f.name),
-                source,
-            })?;
-            put(format!("{}.png", f.name), &bytes, &mut written)?;
-        }
+        put_figure(f, png, &mut put)?;
     }
     let page = sweep_report(title, summary, results, &figures);
-    put("report.html".into(), page.as_bytes(), &mut written)?;
-    Ok(written)
+    put("report.html", page.as_bytes())?;
+    Ok(out.written)
 }
 
 #[cfg(test)]
