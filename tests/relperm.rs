@@ -3,7 +3,7 @@
 use network_core::generate::{LatticeSpec, generate};
 use network_core::geometry::G_CIRCLE;
 use network_core::progress::Silent;
-use network_core::simulation::run_study;
+use network_core::run::run_study;
 use network_core::study::Study;
 use network_core::{Axis, Boundary, Network, NetworkInfo, Pores, Throats};
 
@@ -158,7 +158,7 @@ fn single_phase_limits_give_unit_relative_permeability() {
     assert!((f.krn - 1.0).abs() < 1e-9 && f.krw == 0.0, "{f:?}");
 }
 
-fn water_wet_run(n: usize) -> (Network, network_core::simulation::RunResults) {
+fn water_wet_run(n: usize) -> (Network, network_core::run::RunResults) {
     let spec = LatticeSpec {
         nx: n,
         ny: n,

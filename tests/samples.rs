@@ -7,7 +7,7 @@ use network_core::flow::{PermOptions, permeability};
 use network_core::generate::{LatticeSpec, generate};
 use network_core::io::read_network;
 use network_core::progress::Silent;
-use network_core::simulation::run_study;
+use network_core::run::run_study;
 use network_core::study::Study;
 use network_core::sweep::{CaseResult, SweepStudy, summarise};
 

@@ -2,7 +2,7 @@
 
 use network_core::generate::{LatticeSpec, generate};
 use network_core::progress::Silent;
-use network_core::simulation::run_study;
+use network_core::run::run_study;
 use network_core::sweep::{CaseResult, SweepStudy, summarise};
 
 const TEXT: &str = r#"

@@ -13,12 +13,13 @@ use std::time::Instant;
 
 use ganglion_benches::{peak_rss_bytes, reset_peak_rss};
 use network_core::Network;
-use network_core::engine::process::run_process;
-use network_core::engine::{Engine, ImbibitionFaces, Setup};
+use network_core::engine::{Engine, Setup};
 use network_core::generate::{LatticeSpec, generate};
 use network_core::geometry::Geometry;
+use network_core::params::ImbibitionFaces;
 use network_core::progress::Silent;
-use network_core::simulation::run_study;
+use network_core::run::process::run_process;
+use network_core::run::run_study;
 use network_core::study::{ProcessKind, StopAt, Study};
 use network_core::sweep::{CaseResult, SweepStudy, summarise};
 use network_core::wettability::ContactAngles;
@@ -260,7 +261,7 @@ fn run_kr_accuracy(sizes: &[usize]) {
 /// network): the engine, its drainage end state, the snapshot a kr pass
 /// keeps, the flow solver and one kr point (peak during the solves).
 fn run_memory(n: usize) {
-    use network_core::relperm::RelpermSolver;
+    use network_core::run::relperm::RelpermSolver;
     let net = lattice(n);
     let study = Study::parse(STUDY).unwrap();
     let mb = |b: u64, base: u64| b.saturating_sub(base) as f64 / 1e6;

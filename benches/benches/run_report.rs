@@ -9,7 +9,7 @@ use divan::black_box;
 use network_core::Network;
 use network_core::generate::{LatticeSpec, generate};
 use network_core::progress::Silent;
-use network_core::simulation::{RunResults, run_study};
+use network_core::run::{RunResults, run_study};
 use network_core::study::Study;
 use network_report::{run_figures, run_report, saturation_tables, write_vtp};
 

@@ -72,7 +72,6 @@
 // parallel arrays read better than zipped iterators.
 #![allow(clippy::needless_range_loop)]
 
-pub mod analysis;
 pub mod capillary;
 pub mod connectivity;
 pub mod engine;
@@ -80,17 +79,16 @@ pub mod fit;
 pub mod flow;
 pub mod generate;
 pub mod geometry;
-pub mod indices;
 pub mod io;
 pub mod network;
 pub mod numeric;
+pub mod params;
 pub mod progress;
-pub mod relperm;
-pub mod simulation;
+pub mod run;
+pub mod shape;
 pub mod stats;
 pub mod study;
 pub mod sweep;
-pub mod validate;
 pub mod wettability;
 
 pub use network::{

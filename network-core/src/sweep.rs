@@ -26,10 +26,11 @@ use std::collections::BTreeMap;
 use serde::{Deserialize, Serialize};
 
 use crate::fit::{LandMethod, LandNormalisation, fit_land};
-use crate::simulation::RunResults;
 #[cfg(test)]
-use crate::study::StopAt;
-use crate::study::{Study, StudyError, StudyErrors};
+use crate::params::StopAt;
+use crate::params::Study;
+use crate::run::RunResults;
+use crate::study::{StudyError, StudyErrors};
 
 /// The `[sweep]` table.
 #[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
@@ -385,7 +386,7 @@ impl Case {
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct CaseCurve {
     /// Process kind.
-    pub kind: crate::study::ProcessKind,
+    pub kind: crate::params::ProcessKind,
     /// Capillary pressure, Pa.
     pub pc_pa: Vec<f64>,
     /// Water saturation.
@@ -418,10 +419,10 @@ pub struct CaseResult {
     /// Trapped ganglia.
     pub ganglia: Option<usize>,
     /// Ganglion size histogram (see
-    /// [`crate::simulation::GanglionStats::pores_histogram`]).
+    /// [`crate::run::GanglionStats::pores_histogram`]).
     pub ganglion_histogram: Vec<usize>,
     /// The network of the case.
-    pub network: crate::simulation::NetworkSummary,
+    pub network: crate::run::NetworkSummary,
     /// Absolute permeability, mD.
     pub permeability_md: Option<f64>,
     /// Formation factor.

@@ -17,7 +17,7 @@ use std::f64::consts::PI;
 use serde::Serialize;
 
 use crate::numeric::unit_hash;
-use crate::study::{OilWetSelection, WettabilitySpec};
+use crate::params::{OilWetSelection, WettabilitySpec};
 
 const STREAM_RECEDING: u64 = 0x7265_6365_6465;
 const STREAM_ADVANCING: u64 = 0x6164_7661_6e63;

@@ -1,11 +1,12 @@
 //! The incremental saturation bookkeeping equals a full recomputation at
 //! every recorded point (identity of two ways of summing the same volumes).
 
-use network_core::engine::process::run_process_observed;
-use network_core::engine::{Engine, ImbibitionFaces, Setup};
+use network_core::engine::{Engine, Setup};
 use network_core::generate::{LatticeSpec, generate};
 use network_core::geometry::Geometry;
+use network_core::params::ImbibitionFaces;
 use network_core::progress::Silent;
+use network_core::run::process::run_process_observed;
 use network_core::study::{ProcessKind, StopAt, Study};
 use network_core::wettability::ContactAngles;
 

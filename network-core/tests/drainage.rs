@@ -5,11 +5,12 @@
 mod support;
 
 use network_core::Network;
-use network_core::engine::process::run_process;
-use network_core::engine::{Engine, ImbibitionFaces, Setup};
+use network_core::engine::{Engine, Setup};
 use network_core::generate::{LatticeSpec, ShapeMix, WeibullRange, generate};
 use network_core::geometry::{Geometry, Shape};
+use network_core::params::ImbibitionFaces;
 use network_core::progress::Silent;
+use network_core::run::process::run_process;
 use network_core::study::{MechanismOptions, OutletRule, ProcessKind, StopAt, WettabilitySpec};
 use network_core::wettability::ContactAngles;
 use support::{Elem, chain};

@@ -5,8 +5,8 @@ use network_core::generate::{
     GenerateError, LatticeSpec, RegularSpec, ShapeMix, WeibullRange, generate,
 };
 use network_core::geometry::{G_CIRCLE, G_EQUILATERAL, G_SQUARE, Shape};
+use network_core::network::validate::volume_warnings;
 use network_core::progress::Silent;
-use network_core::validate::volume_warnings;
 use network_core::{Axis, Boundary, Network};
 
 fn cube(n: usize) -> LatticeSpec {

@@ -4,13 +4,14 @@
 
 mod support;
 
-use network_core::engine::process::run_process;
-use network_core::engine::{Engine, ImbibitionFaces, Setup};
+use network_core::engine::{Engine, Setup};
 use network_core::fit::{LandMethod, LandNormalisation, fit_land};
 use network_core::generate::{LatticeSpec, generate};
 use network_core::geometry::Geometry;
+use network_core::params::ImbibitionFaces;
 use network_core::progress::Silent;
-use network_core::simulation::{RunResults, run_study};
+use network_core::run::process::run_process;
+use network_core::run::{RunResults, run_study};
 use network_core::study::{
     MechanismOptions, OutletRule, ProcessKind, StopAt, Study, WettabilitySpec,
 };

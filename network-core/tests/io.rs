@@ -5,7 +5,7 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU64, Ordering};
 
 use network_core::io::{self, ReadError, WriteError};
-use network_core::validate::{Rule, Target};
+use network_core::network::validate::{Rule, Target};
 use network_core::{Axis, Boundary, Network, NetworkInfo, Pores, Throats};
 
 // ------------------------------------------------------------- helpers

@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 
 use network_core::Network;
 use network_core::io::atomic::write_atomic;
-use network_core::simulation::RunResults;
+use network_core::run::RunResults;
 use thiserror::Error;
 
 use crate::figures::{Figure, run_figures};

@@ -20,9 +20,9 @@
 //! markers; markers sit only at the points where the flow was solved. The
 //! ganglion figure has one unlabelled series and no legend.
 
-use network_core::analysis::Fitted;
-use network_core::engine::process::ProcessOutcome;
-use network_core::simulation::RunResults;
+use network_core::run::RunResults;
+use network_core::run::end_points::Fitted;
+use network_core::run::process::ProcessOutcome;
 use network_core::study::ProcessKind;
 
 use crate::plot::{PALETTE, PlotSpec, Scale, Series, SeriesStyle};

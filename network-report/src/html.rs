@@ -29,10 +29,10 @@
 
 use std::fmt::Write as _;
 
-use network_core::analysis::Fitted;
 use network_core::engine::EventCounts;
 use network_core::fit::FitQuality;
-use network_core::simulation::RunResults;
+use network_core::run::RunResults;
+use network_core::run::end_points::Fitted;
 use network_core::study::{ProcessKind, StopAt};
 
 use crate::figures::{Figure, process_label};

@@ -1,7 +1,7 @@
 //! # network-report: Ganglion results rendered for people
 //!
 //! Plain inputs in (slices and small structs, or a
-//! [`network_core::simulation::RunResults`]), text and bytes out; no
+//! [`network_core::run::RunResults`]), text and bytes out; no
 //! terminal. Only [`artifacts`] touches the file system; every other module
 //! returns strings and bytes for the caller to write where it likes.
 //!

@@ -15,7 +15,7 @@
 //! at distinct water saturations gives no table (there is no Sw range to
 //! span); it is left out rather than reported as an error.
 
-use network_core::simulation::RunResults;
+use network_core::run::RunResults;
 use network_core::study::ProcessKind;
 
 use crate::ReportError;

@@ -28,7 +28,7 @@
 //!
 //! Ganglion ids are renumbered `0, 1, …` in order of the lowest element
 //! index (pores first, then throats) holding each ganglion, the numbering
-//! of [`network_core::simulation::RunResults::ganglia`]: for the end state
+//! of [`network_core::run::RunResults::ganglia`]: for the end state
 //! of the first imbibition, id `k` here is ganglion `k` there.
 //!
 //! ## Format choice
@@ -42,7 +42,7 @@
 use std::fmt::Write as _;
 
 use network_core::Network;
-use network_core::simulation::EndState;
+use network_core::run::EndState;
 use network_core::wettability::ContactAngles;
 use thiserror::Error;
 

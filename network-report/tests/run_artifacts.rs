@@ -7,10 +7,10 @@ use std::path::PathBuf;
 use std::sync::LazyLock;
 
 use network_core::Network;
-use network_core::analysis::Fitted;
 use network_core::generate::{LatticeSpec, generate};
 use network_core::progress::Silent;
-use network_core::simulation::{RunResults, run_study};
+use network_core::run::end_points::Fitted;
+use network_core::run::{RunResults, run_study};
 use network_core::study::Study;
 use network_report::html::{CAUTION_TEXT, escape, number};
 use network_report::plot::{Series, render_svg};

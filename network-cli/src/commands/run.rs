@@ -4,7 +4,7 @@ use std::path::{Path, PathBuf};
 
 use anyhow::{Context, Result};
 use network_core::io;
-use network_core::simulation::run_study;
+use network_core::run::run_study;
 use network_core::study::Study;
 
 use crate::progress::Bars;

@@ -7,7 +7,7 @@ use std::sync::Mutex;
 use anyhow::{Context, Result, bail};
 use network_core::io::atomic::write_atomic;
 use network_core::progress::{Progress, Silent};
-use network_core::simulation::run_study;
+use network_core::run::run_study;
 use network_core::sweep::{Case, CaseResult, SweepStudy, SweepSummary, describe, summarise};
 use rayon::prelude::*;
 

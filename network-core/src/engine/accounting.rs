@@ -183,10 +183,22 @@ impl Engine<'_> {
         self.dyn_.acc.cell.len() == self.volume.len()
     }
 
-    /// Removes element `e`'s contribution from the sums. Call before any
-    /// change of the element's occupancy, trap flags or connection, then
-    /// [`Engine::reaccount`] after it.
-    pub(super) fn release_account(&mut self, e: usize) {
+    /// Brackets every change of element `e`'s occupancy, layers, trap
+    /// flags or connection: takes the element's contribution out of the
+    /// saturation sums, applies `change`, then puts the element back in
+    /// the regime its new state calls for and refreshes its search flags.
+    /// The sums stay exact only if every such change goes through here
+    /// (the two halves are private to this module for that reason).
+    pub(super) fn change_element<R>(&mut self, e: usize, change: impl FnOnce(&mut Self) -> R) -> R {
+        self.release_account(e);
+        let r = change(self);
+        self.reaccount(e);
+        r
+    }
+
+    /// Removes element `e`'s contribution from the sums (first half of
+    /// [`Engine::change_element`]).
+    fn release_account(&mut self, e: usize) {
         if !self.accounts_ready() {
             return;
         }
@@ -267,7 +279,7 @@ impl Engine<'_> {
 
     /// Re-derives element `e`'s regime from its state and adds it to the
     /// sums (after [`Engine::release_account`]).
-    pub(super) fn reaccount(&mut self, e: usize) {
+    fn reaccount(&mut self, e: usize) {
         self.refresh_flags(e);
         if !self.accounts_ready() {
             return;

@@ -21,7 +21,7 @@ use super::queue::{EventKind, Order, ThresholdQueue};
 use super::{Engine, Mode};
 use crate::capillary;
 use crate::network::Boundary;
-use crate::study::OutletRule;
+use crate::params::OutletRule;
 
 impl Engine<'_> {
     /// Starts a drainage from the current state.
@@ -95,17 +95,17 @@ impl Engine<'_> {
 
     fn reconnect_one(&mut self, n: usize, stack: &mut Vec<usize>) {
         if self.dyn_.state.conducts_oil(n) && !self.dyn_.connected[n] {
-            self.release_account(n);
-            self.dyn_.connected[n] = true;
-            let s = &mut self.dyn_.state;
-            if s.oil_trapped[n] {
-                s.oil_trapped[n] = false;
-                if !s.water_trapped[n] {
-                    s.frozen_pc[n] = f64::NAN;
+            self.change_element(n, |eng| {
+                eng.dyn_.connected[n] = true;
+                let s = &mut eng.dyn_.state;
+                if s.oil_trapped[n] {
+                    s.oil_trapped[n] = false;
+                    if !s.water_trapped[n] {
+                        s.frozen_pc[n] = f64::NAN;
+                    }
+                    s.ganglion[n] = super::state::NO_GANGLION;
                 }
-                s.ganglion[n] = super::state::NO_GANGLION;
-            }
-            self.reaccount(n);
+            });
             stack.push(n);
         }
     }
@@ -132,9 +132,9 @@ impl Engine<'_> {
     /// Fills element `e` with the non-aqueous phase at the current Pc.
     pub(super) fn fill_oil(&mut self, e: usize) {
         let pc = self.dyn_.state.pc;
-        self.release_account(e);
-        {
-            let d = &mut self.dyn_;
+        self.change_element(e, |eng| {
+            let volume = eng.volume[e];
+            let d = &mut eng.dyn_;
             let s = &mut d.state;
             s.oil[e] = true;
             s.layers[e] = 0;
@@ -152,10 +152,9 @@ impl Engine<'_> {
                 s.frozen_pc[e] = f64::NAN;
             }
             d.connected[e] = true;
-            d.bulk_oil_volume += self.volume[e];
+            d.bulk_oil_volume += volume;
             d.events += 1;
-        }
-        self.reaccount(e);
+        });
         if e < self.n_p {
             self.dyn_.counts.drainage_pores += 1;
         } else {
@@ -231,16 +230,16 @@ impl Engine<'_> {
             self.dyn_.counts.trapped_water_clusters += 1;
             for &x in &piece {
                 let x = x as usize;
-                self.release_account(x);
-                let s = &mut self.dyn_.state;
-                s.water_trapped[x] = true;
-                if s.frozen_pc[x].is_nan() {
-                    s.frozen_pc[x] = pc;
-                }
-                if !s.oil[x] {
-                    self.dyn_.queue.cancel(x);
-                }
-                self.reaccount(x);
+                self.change_element(x, |eng| {
+                    let s = &mut eng.dyn_.state;
+                    s.water_trapped[x] = true;
+                    if s.frozen_pc[x].is_nan() {
+                        s.frozen_pc[x] = pc;
+                    }
+                    if !s.oil[x] {
+                        eng.dyn_.queue.cancel(x);
+                    }
+                });
             }
         }
     }

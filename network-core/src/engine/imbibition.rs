@@ -167,15 +167,15 @@ impl Engine<'_> {
         self.dyn_.counts.trapped_oil_clusters += 1;
         for &x in piece {
             let x = x as usize;
-            self.release_account(x);
-            let s = &mut self.dyn_.state;
-            s.oil_trapped[x] = true;
-            s.ganglion[x] = id;
-            if s.frozen_pc[x].is_nan() {
-                s.frozen_pc[x] = pc;
-            }
-            self.dyn_.queue.cancel(x);
-            self.reaccount(x);
+            self.change_element(x, |eng| {
+                let s = &mut eng.dyn_.state;
+                s.oil_trapped[x] = true;
+                s.ganglion[x] = id;
+                if s.frozen_pc[x].is_nan() {
+                    s.frozen_pc[x] = pc;
+                }
+                eng.dyn_.queue.cancel(x);
+            });
         }
     }
 
@@ -306,11 +306,11 @@ impl Engine<'_> {
             self.for_each_neighbour(e, |n| n_oil_throats += s.oil[n] as usize);
         }
         let at_outlet = self.boundary(e) == Boundary::Outlet;
-        self.release_account(e);
-        {
-            let d = &mut self.dyn_;
+        self.change_element(e, |eng| {
+            let volume = eng.volume[e];
+            let d = &mut eng.dyn_;
             d.state.oil[e] = false;
-            d.bulk_oil_volume -= self.volume[e];
+            d.bulk_oil_volume -= volume;
             d.events += 1;
             let c = &mut d.counts;
             match (kind, is_pore) {
@@ -328,9 +328,24 @@ impl Engine<'_> {
             if d.breakthrough_pc.is_none() && at_outlet {
                 d.breakthrough_pc = Some(pc);
             }
+            eng.form_layers(e, pc);
+        });
+        let nb = self.neighbours(e);
+        self.release_water(&nb);
+        if !self.dyn_.state.conducts_oil(e) {
+            self.trap_oil_after(e);
         }
-        // Oil layers in corners whose water stays and whose wall is oil-wet
-        // enough (θa > π/2 + β; Hui & Blunt 2000).
+        for &n in &nb {
+            if self.dyn_.state.oil[n] {
+                self.update_imbibition(n);
+            }
+        }
+    }
+
+    /// Oil layers in the corners of element `e` (just filled with water at
+    /// `pc`) whose water stays and whose wall is oil-wet enough
+    /// (θa > π/2 + β; Hui & Blunt 2000).
+    fn form_layers(&mut self, e: usize, pc: f64) {
         if self.setup.mechanisms.oil_layers && self.wet[e] != 0 {
             let theta_a = self.angles.advancing[e];
             let corners = self.section(e).corners.len();
@@ -349,17 +364,6 @@ impl Engine<'_> {
                 self.queue_layer_collapse(e);
             }
         }
-        self.reaccount(e);
-        let nb = self.neighbours(e);
-        self.release_water(&nb);
-        if !self.dyn_.state.conducts_oil(e) {
-            self.trap_oil_after(e);
-        }
-        for &n in &nb {
-            if self.dyn_.state.oil[n] {
-                self.update_imbibition(n);
-            }
-        }
     }
 
     fn collapse_layer(&mut self, e: usize) {
@@ -373,9 +377,7 @@ impl Engine<'_> {
                 }
             }
         }
-        self.release_account(e);
-        self.dyn_.state.layers[e] = mask & !(1 << best.1);
-        self.reaccount(e);
+        self.change_element(e, |eng| eng.dyn_.state.layers[e] = mask & !(1 << best.1));
         self.dyn_.counts.layer_collapses += 1;
         self.dyn_.events += 1;
         if self.dyn_.state.layers[e] != 0 {
@@ -474,18 +476,23 @@ impl Engine<'_> {
         }
     }
 
+    /// Element `n`'s trapped water joins the connected water again.
+    fn release_trapped_water(&mut self, n: usize) {
+        self.change_element(n, |eng| {
+            let s = &mut eng.dyn_.state;
+            s.water_trapped[n] = false;
+            if !s.oil_trapped[n] {
+                s.frozen_pc[n] = f64::NAN;
+            }
+        });
+    }
+
     /// Water trapped by drainage next to the invading water reconnects.
     fn release_water(&mut self, around: &[usize]) {
         let mut stack: Vec<usize> = Vec::new();
         for &n in around {
             if self.dyn_.state.water_trapped[n] {
-                self.release_account(n);
-                let s = &mut self.dyn_.state;
-                s.water_trapped[n] = false;
-                if !s.oil_trapped[n] {
-                    s.frozen_pc[n] = f64::NAN;
-                }
-                self.reaccount(n);
+                self.release_trapped_water(n);
                 stack.push(n);
             }
         }
@@ -498,13 +505,7 @@ impl Engine<'_> {
             let nb = self.neighbours(x);
             for n in nb {
                 if self.dyn_.state.water_trapped[n] {
-                    self.release_account(n);
-                    let s = &mut self.dyn_.state;
-                    s.water_trapped[n] = false;
-                    if !s.oil_trapped[n] {
-                        s.frozen_pc[n] = f64::NAN;
-                    }
-                    self.reaccount(n);
+                    self.release_trapped_water(n);
                     stack.push(n);
                     released.push(n);
                 }

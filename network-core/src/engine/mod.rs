@@ -9,15 +9,15 @@
 //! - [`drainage`] and [`imbibition`]: event thresholds and their effects,
 //!   calling the single-element physics of [`crate::capillary`].
 //! - [`saturation`]: phase volumes at a recorded point (parallel).
-//! - [`process`]: pressure steps, recorded points and stopping rules.
+//! - [`events`]: the event loop (next threshold, apply, repeat).
 //!
 //! The event loop is sequential and deterministic; only the per-element
 //! kernels (thresholds, saturations) run in parallel, with fixed grouping.
 
 pub mod accounting;
 pub mod drainage;
+pub mod events;
 pub mod imbibition;
-pub mod process;
 pub mod queue;
 pub mod saturation;
 pub mod state;
@@ -29,26 +29,14 @@ use serde::{Deserialize, Serialize};
 use crate::capillary::Section;
 use crate::geometry::Geometry;
 use crate::network::{Boundary, Network};
-use crate::study::{MechanismOptions, OutletRule};
+use crate::params::{ImbibitionFaces, MechanismOptions, OutletRule};
 use crate::wettability::ContactAngles;
 
 use queue::{Order, ThresholdQueue};
 use state::State;
 use trapping::SplitSearch;
 
-/// Faces through which the displaced non-aqueous phase may leave during
-/// imbibition (and through which water enters).
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
-#[serde(rename_all = "kebab-case")]
-pub enum ImbibitionFaces {
-    /// Water enters at the inlet face; the non-aqueous phase leaves at the
-    /// outlet face (a waterflood).
-    #[default]
-    Outlet,
-    /// Both faces are in contact with water and let the non-aqueous phase
-    /// out (a sample surrounded by water).
-    Both,
-}
+pub use events::{advance_limited, advance_to};
 
 /// Fixed inputs of the engine.
 #[derive(Clone, Debug)]
@@ -384,7 +372,7 @@ impl<'a> Engine<'a> {
 
     /// Applies the wettability alteration after primary drainage (see
     /// [`ContactAngles::alter`]).
-    pub fn alter_wettability(&mut self, spec: &crate::study::WettabilitySpec) {
+    pub fn alter_wettability(&mut self, spec: &crate::params::WettabilitySpec) {
         let g = self.setup.geometry;
         self.angles.alter(
             spec,

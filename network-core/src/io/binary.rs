@@ -37,8 +37,8 @@ use serde::{Deserialize, Deserializer, Serialize, Serializer};
 
 use super::atomic::AtomicFile;
 use super::{Loaded, ReadError, WriteError, network_warnings};
+use crate::network::validate::{Rule, Target, Violation};
 use crate::network::{Axis, Boundary, Network, NetworkInfo, Pores, Throats};
-use crate::validate::{Rule, Target, Violation};
 
 /// The first eight bytes of every binary network file.
 pub const MAGIC: [u8; 8] = *b"GANGLNET";

@@ -16,8 +16,8 @@ use super::atomic::{AtomicFile, parent_dir, sync_dir, temp_sibling};
 use super::sample::{parse_sample, write_sample};
 use super::table::{ColumnSpec, Kind, Table, parse_table};
 use super::{Loaded, ReadError, WriteError, network_warnings, sort_violations};
+use crate::network::validate::{Rule, Target, Violation};
 use crate::network::{Network, Pores, Throats};
-use crate::validate::{Rule, Target, Violation};
 
 /// File name of the pore table.
 pub const PORES_FILE: &str = "pores.csv";
@@ -244,7 +244,7 @@ fn default_blanks(table: &Table, c: usize, values: &mut [f64], default: impl Fn(
     }
 }
 
-/// Maps a violation of [`crate::validate::check_columns`] (pore / throat
+/// Maps a violation of [`crate::network::validate::check_columns`] (pore / throat
 /// index) to its file, line and column; `None` when it only repeats a
 /// problem already reported while parsing.
 fn locate_violation(

@@ -58,7 +58,7 @@
 //!
 //! Every problem of the three files is reported at once, each with its file,
 //! 1-based line and column (or key): see [`ReadError::Invalid`] and
-//! [`crate::validate::Rule`].
+//! [`crate::network::validate::Rule`].
 //!
 //! # The binary file
 //!
@@ -112,7 +112,7 @@ use std::path::{Path, PathBuf};
 
 use crate::Network;
 use crate::connectivity::Components;
-use crate::validate::{self, Target, Violation, Warning};
+use crate::network::validate::{self, Target, Violation, Warning};
 
 pub mod atomic;
 pub mod binary;

@@ -7,7 +7,7 @@ use std::path::Path;
 
 use super::WriteError;
 use super::atomic::write_atomic;
-use crate::simulation::RunResults;
+use crate::run::RunResults;
 
 fn io_err(path: &Path, e: std::io::Error) -> WriteError {
     WriteError::Io {

@@ -6,14 +6,14 @@
 //! numbers), optional `description` (string). Unknown keys give a warning;
 //! a missing required key, a value of the wrong type and a syntax error are
 //! violations naming the key and its line. Range checks (positive, finite)
-//! are done by [`crate::validate::check_columns`] and located here through
+//! are done by [`crate::network::validate::check_columns`] and located here through
 //! [`Sample::key_lines`].
 
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
 
+use crate::network::validate::{Rule, Target, Violation, Warning};
 use crate::network::{Axis, NetworkInfo};
-use crate::validate::{Rule, Target, Violation, Warning};
 
 /// Keys of `network.toml`, in the order they are written.
 pub(crate) const KEYS: [&str; 7] = [

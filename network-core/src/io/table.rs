@@ -16,7 +16,7 @@ use std::collections::BTreeMap;
 use rayon::prelude::*;
 
 use crate::network::Boundary;
-use crate::validate::{Rule, Target, Violation, Warning};
+use crate::network::validate::{Rule, Target, Violation, Warning};
 
 /// Target chunk size of the parallel parse, bytes.
 pub(crate) const CHUNK_BYTES: usize = 1 << 20;

@@ -17,7 +17,9 @@
 
 use serde::{Deserialize, Serialize};
 
-use crate::validate::{self, Violation};
+pub mod validate;
+
+use validate::Violation;
 
 /// Index of a pore in the network's columns.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]

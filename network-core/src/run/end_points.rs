@@ -4,12 +4,12 @@
 
 use serde::Serialize;
 
-use crate::engine::process::ProcessOutcome;
+use super::process::ProcessOutcome;
 use crate::fit::{
     self, ArchieFit, CoreyFit, FitError, KrFitOptions, KrMax, LandMethod, LandNormalisation,
     LetFit, Normalisation, Objective, Phase, Prefactor,
 };
-use crate::study::ProcessKind;
+use crate::params::ProcessKind;
 
 /// A fit or the reason it could not be made.
 #[derive(Clone, Debug, PartialEq, Serialize)]

@@ -17,11 +17,11 @@
 
 use serde::{Deserialize, Serialize};
 
-use super::queue::Order;
-use super::saturation::Saturation;
-use super::{Engine, EventCounts, Mode};
+use crate::engine::saturation::Saturation;
+use crate::engine::{Dynamic, Engine, EventCounts, advance_limited, advance_to};
+use crate::params::{ProcessKind, StopAt};
 use crate::progress::Progress;
-use crate::study::{ProcessKind, StopAt};
+use crate::run::relperm::FlowPoint;
 
 /// One recorded point of a process.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -33,7 +33,7 @@ pub struct Point {
     /// Events applied since the process started.
     pub events: u64,
     /// Relative permeabilities and resistivity index, where computed.
-    pub flow: Option<crate::relperm::FlowPoint>,
+    pub flow: Option<FlowPoint>,
 }
 
 /// What one process did.
@@ -55,52 +55,6 @@ pub struct ProcessOutcome {
     /// True when a saturation target could not be reached within the
     /// pressure range searched (then the process ends at the range end).
     pub target_unreached: bool,
-}
-
-/// Advances the engine to capillary pressure `pc`, applying every event on
-/// the way; `on_event` is called after each event.
-pub fn advance_to(engine: &mut Engine<'_>, pc: f64, on_event: impl FnMut(&Engine<'_>)) {
-    advance_limited(engine, pc, u64::MAX, on_event);
-}
-
-/// Like [`advance_to`] but applies at most `max_events` events; when the
-/// limit stops it, the capillary pressure stays at the last event's
-/// threshold. Returns the number of events applied.
-pub fn advance_limited(
-    engine: &mut Engine<'_>,
-    pc: f64,
-    max_events: u64,
-    mut on_event: impl FnMut(&Engine<'_>),
-) -> u64 {
-    let mode = engine.mode();
-    let mut applied = 0u64;
-    let order = match mode {
-        Mode::Drainage => Order::Ascending,
-        _ => Order::Descending,
-    };
-    while engine.dyn_.queue.next_within(pc) {
-        if applied == max_events {
-            return applied;
-        }
-        applied += 1;
-        let Some(ev) = engine.dyn_.queue.pop() else {
-            break;
-        };
-        let s = &mut engine.dyn_.state;
-        s.pc = match order {
-            Order::Ascending => s.pc.max(ev.pc),
-            Order::Descending => s.pc.min(ev.pc),
-        };
-        match mode {
-            Mode::Drainage => engine.apply_drainage_event(ev.element),
-            Mode::Imbibition => engine.apply_imbibition_event(ev),
-            Mode::Idle => {}
-        }
-        on_event(engine);
-    }
-    engine.dyn_.state.pc = pc;
-    engine.settle_accounts();
-    applied
 }
 
 fn levels(start: f64, end: f64, n: usize) -> Vec<f64> {
@@ -150,8 +104,8 @@ pub fn run_process_observed(
         ProcessKind::Imbibition => engine.begin_imbibition(),
     }
     let ascending = kind == ProcessKind::Drainage;
-    let start_pc = engine.dyn_.state.pc;
-    let first = engine.dyn_.queue.peek().map(|e| e.pc);
+    let start_pc = engine.pc();
+    let first = engine.next_threshold();
     // The pressure range: to the requested end, or far enough to pass
     // every threshold for a saturation target.
     let end_pc = match stop {
@@ -262,7 +216,7 @@ pub fn run_process_observed(
             let p = Point {
                 pc_pa: pc_final,
                 saturation: sat_final,
-                events: engine.dyn_.events,
+                events: engine.events_applied(),
                 flow: None,
             };
             observer(&p, engine);
@@ -274,7 +228,7 @@ pub fn run_process_observed(
         let p = Point {
             pc_pa: level,
             saturation: sat,
-            events: engine.dyn_.events,
+            events: engine.events_applied(),
             flow: None,
         };
         observer(&p, engine);
@@ -293,7 +247,7 @@ pub fn run_process_observed(
 /// `hi` (reached); leaves the engine at the first state that reaches it.
 fn bisect(
     engine: &mut Engine<'_>,
-    mut lo_snap: super::Dynamic,
+    mut lo_snap: Dynamic,
     mut lo: f64,
     mut hi: f64,
     target: f64,
@@ -341,7 +295,7 @@ fn bisect(
     }
     engine.restore(lo_snap);
     advance_limited(engine, hi, k_hi, |_| {});
-    let pc = engine.dyn_.state.pc;
+    let pc = engine.pc();
     (pc, engine.saturation())
 }
 
@@ -351,7 +305,7 @@ fn finish(
     points: Vec<Point>,
     target_unreached: bool,
 ) -> ProcessOutcome {
-    let final_pc = engine.dyn_.state.pc;
+    let final_pc = engine.pc();
     let final_saturation = engine.saturation();
     match kind {
         ProcessKind::Drainage => engine.end_drainage(),
@@ -362,27 +316,8 @@ fn finish(
         points,
         final_pc_pa: final_pc,
         final_saturation,
-        breakthrough_pc_pa: engine.dyn_.breakthrough_pc,
-        counts: engine.dyn_.counts.clone(),
+        breakthrough_pc_pa: engine.breakthrough_pc(),
+        counts: engine.counts().clone(),
         target_unreached,
-    }
-}
-
-impl Engine<'_> {
-    /// Lowest and highest finite threshold cached for the current process.
-    fn threshold_span(&self) -> (f64, f64) {
-        let (v, w): (&[f64], &[f64]) = match self.mode() {
-            Mode::Drainage => (&self.entry, &[]),
-            _ => (&self.piston, &self.snap),
-        };
-        let mut lo = f64::INFINITY;
-        let mut hi = f64::NEG_INFINITY;
-        for &x in v.iter().chain(w.iter()) {
-            if x.is_finite() {
-                lo = lo.min(x);
-                hi = hi.max(x);
-            }
-        }
-        if lo > hi { (0.0, 1.0) } else { (lo, hi) }
     }
 }

@@ -9,8 +9,8 @@ use std::fmt;
 
 use serde::Serialize;
 
-use crate::geometry::{G_CIRCLE, area};
-use crate::network::{Boundary, NetworkInfo, Pores, Throats};
+use super::{Boundary, NetworkInfo, Pores, Throats};
+use crate::shape::{G_CIRCLE, area};
 
 /// The rule a network violates.
 #[non_exhaustive]

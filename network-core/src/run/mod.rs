@@ -6,19 +6,24 @@ use std::collections::BTreeSet;
 
 use serde::{Deserialize, Serialize};
 
-use crate::analysis::{self, ArchieSummary, EndPoints, ProcessFits};
-use crate::engine::process::{Point, ProcessOutcome, run_process_observed};
+pub mod end_points;
+pub mod indices;
+pub mod process;
+pub mod relperm;
+
 use crate::engine::state::NO_GANGLION;
 use crate::engine::{Engine, Setup};
 use crate::flow::solver::SolveOptions;
 use crate::flow::{PermOptions, PermeabilityReport, permeability};
 use crate::geometry::Geometry;
-use crate::indices::{self, WettabilityIndices};
 use crate::network::Network;
+use crate::params::{ProcessKind, Study};
 use crate::progress::Progress;
-use crate::relperm::{FlowPoint, RelpermSolver};
-use crate::study::{ProcessKind, Study};
 use crate::wettability::ContactAngles;
+use end_points::{ArchieSummary, EndPoints, ProcessFits};
+use indices::WettabilityIndices;
+use process::{Point, ProcessOutcome, run_process_observed};
+use relperm::{FlowPoint, RelpermSolver};
 
 /// The program that made a result.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
@@ -164,7 +169,7 @@ pub struct RunResults {
     #[serde(skip)]
     pub flow_solve_seconds: f64,
     /// Counters of those solves.
-    pub flow_solve_stats: crate::relperm::SolveStats,
+    pub flow_solve_stats: relperm::SolveStats,
     /// Warnings for the reader.
     pub warnings: Vec<String>,
     /// Recorded curves, per process.
@@ -368,11 +373,11 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         processes,
         ganglion_stats,
         wettability_indices,
-        end_points: analysis::end_points(&outcomes),
-        fits: analysis::process_fits(&outcomes),
+        end_points: end_points::end_points(&outcomes),
+        fits: end_points::process_fits(&outcomes),
         archie: single_phase
             .as_ref()
-            .map(|r| analysis::archie(r.porosity, r.formation_factor, &outcomes)),
+            .map(|r| end_points::archie(r.porosity, r.formation_factor, &outcomes)),
         flow_solve_seconds: relperm.as_ref().map_or(0.0, |r| r.solve_seconds),
         flow_solve_stats: relperm.as_ref().map_or(Default::default(), |r| r.stats),
         single_phase,
