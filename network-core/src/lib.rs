@@ -26,7 +26,7 @@
 //!
 //! Pores and throats are both *elements* of a displacement: one index space,
 //! pores first (`0..n_pores`), then throats (`n_pores..n_pores + n_throats`);
-//! see [`Element`].
+//! see [`Elements`].
 //!
 //! ## Example
 //! ```
@@ -92,37 +92,6 @@ pub mod sweep;
 pub mod wettability;
 
 pub use network::{
-    Adjacency, Axis, Boundary, InvalidNetwork, Network, NetworkInfo, PoreId, Pores, ThroatId,
+    Adjacency, Axis, Boundary, Element, Elements, InvalidNetwork, Network, NetworkInfo, Pores,
     Throats,
 };
-
-/// An element of the displacement: a pore or a throat, in the shared index
-/// space (pores first, then throats).
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
-pub enum Element {
-    /// Pore index.
-    Pore(usize),
-    /// Throat index.
-    Throat(usize),
-}
-
-impl Element {
-    /// The element with shared index `e` in a network of `n_pores` pores.
-    #[inline]
-    pub fn from_index(e: usize, n_pores: usize) -> Element {
-        if e < n_pores {
-            Element::Pore(e)
-        } else {
-            Element::Throat(e - n_pores)
-        }
-    }
-
-    /// The shared index of this element in a network of `n_pores` pores.
-    #[inline]
-    pub fn index(self, n_pores: usize) -> usize {
-        match self {
-            Element::Pore(i) => i,
-            Element::Throat(t) => n_pores + t,
-        }
-    }
-}

@@ -49,7 +49,7 @@ pub enum Regime {
 /// The running sums and per-element records (part of the engine's dynamic
 /// state, so snapshots restore them).
 #[derive(Clone, Debug, Default)]
-pub struct Accounts {
+pub struct Books {
     /// One record per element (one cache line each).
     cell: Vec<Cell>,
     explicit: Vec<u32>,
@@ -149,7 +149,7 @@ impl Engine<'_> {
         let area = self.setup.geometry.area(e);
         let (aw, _) = self.element_areas(e);
         let w = v * aw / area;
-        let baseline = if self.dyn_.state.oil[e] { 0.0 } else { v };
+        let baseline = if self.live.state.oil[e] { 0.0 } else { v };
         Parts {
             adjust: w - baseline,
             water: self.clay[e] + w,
@@ -180,7 +180,7 @@ impl Engine<'_> {
     }
 
     fn accounts_ready(&self) -> bool {
-        self.dyn_.acc.cell.len() == self.volume.len()
+        self.live.books.cell.len() == self.volume.len()
     }
 
     /// Brackets every change of element `e`'s occupancy, layers, trap
@@ -202,8 +202,8 @@ impl Engine<'_> {
         if !self.accounts_ready() {
             return;
         }
-        let oil = self.dyn_.state.oil[e];
-        let a = &mut self.dyn_.acc;
+        let oil = self.live.state.oil[e];
+        let a = &mut self.live.books;
         let r = a.cell[e].rec;
         match a.cell[e].regime {
             Regime::Fast | Regime::Explicit => a.sum_fast -= r[1],
@@ -226,7 +226,7 @@ impl Engine<'_> {
     }
 
     fn set_explicit(&mut self, e: usize) {
-        let a = &mut self.dyn_.acc;
+        let a = &mut self.live.books;
         a.cell[e].regime = Regime::Explicit;
         if !a.cell[e].listed {
             a.cell[e].listed = true;
@@ -240,7 +240,7 @@ impl Engine<'_> {
         } else {
             -switch_pc
         };
-        let a = &mut self.dyn_.acc;
+        let a = &mut self.live.books;
         let p = Pending {
             key,
             element: e as u32,
@@ -262,7 +262,7 @@ impl Engine<'_> {
         if theta_a + beta < FRAC_PI_2 {
             let [sr, cr, sa, ca] = self.angle_trig(e);
             let (sb, cb) = self.corner_sin_cos(e, i);
-            self.dyn_.state.pc_max[e] * (ca * cb - sa * sb) / (cr * cb - sr * sb)
+            self.live.state.pc_max[e] * (ca * cb - sa * sb) / (cr * cb - sr * sb)
         } else {
             f64::NEG_INFINITY
         }
@@ -284,13 +284,13 @@ impl Engine<'_> {
         if !self.accounts_ready() {
             return;
         }
-        let s = &self.dyn_.state;
+        let s = &self.live.state;
         if s.frozen_pc[e].is_finite() {
             let p = self.parts(e);
             let trapped_oil = if s.oil_trapped[e] { p.oil } else { 0.0 };
             let trapped_water = if s.water_trapped[e] { p.water } else { 0.0 };
             let oil = s.oil[e];
-            let a = &mut self.dyn_.acc;
+            let a = &mut self.live.books;
             a.cell[e].regime = Regime::Frozen;
             a.cell[e].rec = [p.adjust, trapped_oil, trapped_water];
             if oil {
@@ -317,7 +317,7 @@ impl Engine<'_> {
         }
         let sigma = self.setup.sigma;
         match self.mode {
-            Mode::Drainage if self.dyn_.connected[e] => {
+            Mode::Drainage if self.live.connected[e] => {
                 let c = self.corner_coef[e];
                 let v = self.volume[e];
                 let fits = |pc: f64| pc > 0.0 && (sigma / pc).powi(2) * c <= v;
@@ -326,12 +326,12 @@ impl Engine<'_> {
                     // old drainage pressure, then receding.
                     self.set_explicit(e);
                     if fits(pc_max) {
-                        self.dyn_.acc.cell[e].rec[0] = c;
-                        self.dyn_.acc.cell[e].switch_pc = pc_max;
+                        self.live.books.cell[e].rec[0] = c;
+                        self.live.books.cell[e].switch_pc = pc_max;
                         self.push_pending(e, 0, pc_max);
                     }
                 } else if fits(pc) {
-                    let a = &mut self.dyn_.acc;
+                    let a = &mut self.live.books;
                     a.cell[e].regime = Regime::Fast;
                     a.cell[e].rec[1] = c;
                     a.sum_fast += c;
@@ -342,7 +342,7 @@ impl Engine<'_> {
             Mode::Imbibition if !pc_min.is_finite() => {
                 // Corners already advancing go into the sum now; the others
                 // wait for their switch pressure.
-                let now = self.dyn_.state.pc;
+                let now = self.live.state.pc;
                 let mut mask = 0u8;
                 let mut waits: smallvec::SmallVec<[(usize, f64); 4]> = smallvec::SmallVec::new();
                 for (i, &beta) in self.section(e).corners.iter().enumerate() {
@@ -363,7 +363,7 @@ impl Engine<'_> {
                     mask,
                 );
                 let full = mask == self.wet[e] && self.advancing_is_safe(e);
-                let a = &mut self.dyn_.acc;
+                let a = &mut self.live.books;
                 a.cell[e].rec[1] = c;
                 a.sum_fast += c;
                 a.cell[e].fast_mask = mask;
@@ -382,7 +382,7 @@ impl Engine<'_> {
 
     /// Recomputes the packed search flags of element `e` from its state.
     pub(super) fn refresh_flags(&mut self, e: usize) {
-        let s = &self.dyn_.state;
+        let s = &self.live.state;
         let mut f = 0u8;
         if s.conducts_oil(e) && !s.oil_trapped[e] {
             f |= super::FLAG_FREE_OIL;
@@ -390,7 +390,7 @@ impl Engine<'_> {
         if !s.water_trapped[e] && (!s.oil[e] || self.wet[e] != 0) {
             f |= super::FLAG_WATER;
         }
-        self.dyn_.flags[e] = f;
+        self.live.flags[e] = f;
     }
 
     /// Rebuilds every record (at the start of a process).
@@ -423,15 +423,15 @@ impl Engine<'_> {
                 self.unit_corner_coefficient(e, theta, trig, u8::MAX)
             })
             .collect();
-        self.dyn_.acc = Accounts {
+        self.live.books = Books {
             cell: vec![Cell::default(); n],
             building: true,
-            ..Accounts::default()
+            ..Books::default()
         };
         for e in 0..n {
             self.reaccount(e);
         }
-        let a = &mut self.dyn_.acc;
+        let a = &mut self.live.books;
         let mut list = std::mem::take(&mut a.building_list);
         list.par_sort_unstable_by(|x, y| y.cmp(x));
         a.sorted = std::sync::Arc::new(list);
@@ -441,7 +441,7 @@ impl Engine<'_> {
     /// Drops the records (at the end of a process): saturations are then
     /// recomputed in full until the next process rebuilds them.
     pub(super) fn drop_accounts(&mut self) {
-        self.dyn_.acc = Accounts::default();
+        self.live.books = Books::default();
     }
 
     /// Moves corners whose switch pressure the current pressure has passed
@@ -450,10 +450,10 @@ impl Engine<'_> {
         if !self.accounts_ready() {
             return;
         }
-        let pc = self.dyn_.state.pc;
+        let pc = self.live.state.pc;
         let imbibition = self.mode == Mode::Imbibition;
         loop {
-            let a = &self.dyn_.acc;
+            let a = &self.live.books;
             let from_sorted = a.sorted.get(a.cursor).copied();
             let from_late = a.late.peek().copied();
             let top = match (from_sorted, from_late) {
@@ -473,14 +473,14 @@ impl Engine<'_> {
             if !passed {
                 break;
             }
-            let a = &mut self.dyn_.acc;
+            let a = &mut self.live.books;
             if from_sorted == Some(top) && from_late.is_none_or(|y| top >= y) {
                 a.cursor += 1;
             } else {
                 a.late.pop();
             }
             let e = top.element as usize;
-            let a = &self.dyn_.acc;
+            let a = &self.live.books;
             if a.cell[e].regime != Regime::Explicit || a.cell[e].generation != top.generation {
                 continue;
             }
@@ -493,7 +493,7 @@ impl Engine<'_> {
                     bit,
                 );
                 let full = (a.cell[e].fast_mask | bit) == self.wet[e] && self.advancing_is_safe(e);
-                let a = &mut self.dyn_.acc;
+                let a = &mut self.live.books;
                 a.cell[e].fast_mask |= bit;
                 a.cell[e].rec[1] += c;
                 a.sum_fast += c;
@@ -501,7 +501,7 @@ impl Engine<'_> {
                     a.cell[e].regime = Regime::Fast;
                 }
             } else {
-                let a = &mut self.dyn_.acc;
+                let a = &mut self.live.books;
                 let c = a.cell[e].rec[0];
                 a.cell[e].switch_pc = f64::NAN;
                 a.cell[e].regime = Regime::Fast;
@@ -509,7 +509,7 @@ impl Engine<'_> {
                 a.sum_fast += c;
             }
         }
-        let a = &mut self.dyn_.acc;
+        let a = &mut self.live.books;
         let live = a
             .explicit
             .iter()
@@ -530,7 +530,7 @@ impl Engine<'_> {
 
     /// Elements evaluated one by one at a recorded point.
     pub fn explicit_elements(&self) -> usize {
-        let a = &self.dyn_.acc;
+        let a = &self.live.books;
         a.explicit
             .iter()
             .filter(|&&e| a.cell[e as usize].regime == Regime::Explicit)
@@ -544,7 +544,7 @@ impl Engine<'_> {
     /// pressure (advancing at `θa`, `r = σ/Pc`).
     fn pinned_corner_water(&self, e: usize, pc: f64, mask: u8) -> f64 {
         let sigma = self.setup.sigma;
-        let pc_max = self.dyn_.state.pc_max[e];
+        let pc_max = self.live.state.pc_max[e];
         let [sr, cr, sa, ca] = self.angle_trig(e);
         let theta_a = self.angles.advancing[e];
         let r = sigma / pc;
@@ -576,11 +576,11 @@ impl Engine<'_> {
     /// explicit elements (parallel, deterministic). Equals
     /// [`Engine::saturation_full`] up to round-off.
     pub fn saturation(&self) -> super::saturation::Saturation {
-        let a = &self.dyn_.acc;
+        let a = &self.live.books;
         if !self.accounts_ready() {
             return self.saturation_full();
         }
-        let st = &self.dyn_.state;
+        let st = &self.live.state;
         let pc = st.pc;
         let sigma = self.setup.sigma;
         let r2 = if pc > 0.0 { (sigma / pc).powi(2) } else { 0.0 };
@@ -628,7 +628,7 @@ impl Engine<'_> {
         let layers = -(a.frozen_layer + ex_layer);
         let pv = self.pore_volume;
         // Running sums drift by round-off; the water volume stays in [0, PV].
-        let water = (self.clay_total + (self.resolved_total - self.dyn_.bulk_oil_volume) + corners
+        let water = (self.clay_total + (self.resolved_total - self.live.bulk_oil_volume) + corners
             - layers)
             .clamp(0.0, pv);
         super::saturation::Saturation {

@@ -33,7 +33,7 @@ impl Engine<'_> {
             .into_par_iter()
             .map(|e| capillary::drainage_entry_pc(&self.section(e), self.angles.receding[e], sigma))
             .collect();
-        let d = &mut self.dyn_;
+        let d = &mut self.live;
         d.queue = ThresholdQueue::new(n_e, Order::Ascending);
         d.connected.iter_mut().for_each(|c| *c = false);
         d.queued.iter_mut().for_each(|q| *q = false);
@@ -42,23 +42,23 @@ impl Engine<'_> {
         d.breakthrough_pc = None;
         // Oil connected to the inlet supply (secondary drainage: what
         // imbibition left connected to inlet pores).
-        let mut stack: Vec<usize> = (0..self.n_p)
-            .filter(|&p| self.boundary(p) == Boundary::Inlet && self.dyn_.state.conducts_oil(p))
+        let mut stack: Vec<usize> = (0..self.elements.n_pores())
+            .filter(|&p| self.boundary(p) == Boundary::Inlet && self.live.state.conducts_oil(p))
             .collect();
         for &p in &stack {
-            self.dyn_.connected[p] = true;
+            self.live.connected[p] = true;
         }
         while let Some(x) = stack.pop() {
             self.reconnect_from(x, &mut stack);
         }
         // Initial accessible elements.
-        for p in 0..self.n_p {
+        for p in 0..self.elements.n_pores() {
             if self.boundary(p) == Boundary::Inlet {
                 self.push_drainage(p);
             }
         }
         for e in 0..n_e {
-            if self.dyn_.connected[e] {
+            if self.live.connected[e] {
                 let nb = self.neighbours(e);
                 for n in nb {
                     self.push_drainage(n);
@@ -94,10 +94,10 @@ impl Engine<'_> {
     }
 
     fn reconnect_one(&mut self, n: usize, stack: &mut Vec<usize>) {
-        if self.dyn_.state.conducts_oil(n) && !self.dyn_.connected[n] {
+        if self.live.state.conducts_oil(n) && !self.live.connected[n] {
             self.change_element(n, |eng| {
-                eng.dyn_.connected[n] = true;
-                let s = &mut eng.dyn_.state;
+                eng.live.connected[n] = true;
+                let s = &mut eng.live.state;
                 if s.oil_trapped[n] {
                     s.oil_trapped[n] = false;
                     if !s.water_trapped[n] {
@@ -112,29 +112,29 @@ impl Engine<'_> {
 
     /// Queues element `e` for invasion if it can be invaded.
     fn push_drainage(&mut self, e: usize) {
-        let s = &self.dyn_.state;
-        if s.oil[e] || s.water_trapped[e] || self.dyn_.queued[e] {
+        let s = &self.live.state;
+        if s.oil[e] || s.water_trapped[e] || self.live.queued[e] {
             return;
         }
         if self.setup.outlet == OutletRule::SemiPermeable && self.boundary(e) == Boundary::Outlet {
             return;
         }
-        self.dyn_.queued[e] = true;
-        self.dyn_.queue.set(e, self.entry[e], EventKind::Piston);
+        self.live.queued[e] = true;
+        self.live.queue.set(e, self.entry[e], EventKind::Piston);
     }
 
     /// True when element `x` conducts water that is not trapped.
     #[inline]
     fn conducts_water(&self, x: usize) -> bool {
-        self.dyn_.flags[x] & super::FLAG_WATER != 0
+        self.live.flags[x] & super::FLAG_WATER != 0
     }
 
     /// Fills element `e` with the non-aqueous phase at the current Pc.
     pub(super) fn fill_oil(&mut self, e: usize) {
-        let pc = self.dyn_.state.pc;
+        let pc = self.live.state.pc;
         self.change_element(e, |eng| {
             let volume = eng.volume[e];
-            let d = &mut eng.dyn_;
+            let d = &mut eng.live;
             let s = &mut d.state;
             s.oil[e] = true;
             s.layers[e] = 0;
@@ -155,22 +155,22 @@ impl Engine<'_> {
             d.bulk_oil_volume += volume;
             d.events += 1;
         });
-        if e < self.n_p {
-            self.dyn_.counts.drainage_pores += 1;
+        if self.elements.is_pore(e) {
+            self.live.counts.drainage_pores += 1;
         } else {
-            self.dyn_.counts.drainage_throats += 1;
+            self.live.counts.drainage_throats += 1;
         }
-        if self.dyn_.breakthrough_pc.is_none() {
+        if self.live.breakthrough_pc.is_none() {
             let reached = match self.setup.outlet {
                 OutletRule::Open => self.boundary(e) == Boundary::Outlet,
                 OutletRule::SemiPermeable => {
                     let mut r = false;
                     self.for_each_neighbour(e, |n| r |= self.boundary(n) == Boundary::Outlet);
-                    r && e >= self.n_p
+                    r && !self.elements.is_pore(e)
                 }
             };
             if reached {
-                self.dyn_.breakthrough_pc = Some(pc);
+                self.live.breakthrough_pc = Some(pc);
             }
         }
         // Reconnect unconnected non-aqueous clusters touched by e.
@@ -178,7 +178,7 @@ impl Engine<'_> {
         let mut reconnected = Vec::new();
         if nb
             .iter()
-            .any(|&n| self.dyn_.state.conducts_oil(n) && !self.dyn_.connected[n])
+            .any(|&n| self.live.state.conducts_oil(n) && !self.live.connected[n])
         {
             let mut stack = vec![e];
             while let Some(x) = stack.pop() {
@@ -186,7 +186,7 @@ impl Engine<'_> {
                 self.reconnect_from(x, &mut stack);
                 reconnected.extend_from_slice(&stack[before..]);
             }
-            self.dyn_.counts.reconnections += 1;
+            self.live.counts.reconnections += 1;
         }
         // New accessible neighbours.
         for &n in &nb {
@@ -225,19 +225,19 @@ impl Engine<'_> {
             |p| pieces.push(p.to_vec()),
         );
         self.search = search;
-        let pc = self.dyn_.state.pc;
+        let pc = self.live.state.pc;
         for piece in pieces {
-            self.dyn_.counts.trapped_water_clusters += 1;
+            self.live.counts.trapped_water_clusters += 1;
             for &x in &piece {
                 let x = x as usize;
                 self.change_element(x, |eng| {
-                    let s = &mut eng.dyn_.state;
+                    let s = &mut eng.live.state;
                     s.water_trapped[x] = true;
                     if s.frozen_pc[x].is_nan() {
                         s.frozen_pc[x] = pc;
                     }
                     if !s.oil[x] {
-                        eng.dyn_.queue.cancel(x);
+                        eng.live.queue.cancel(x);
                     }
                 });
             }
@@ -246,8 +246,8 @@ impl Engine<'_> {
 
     /// Applies the next drainage event (already popped).
     pub(super) fn apply_drainage_event(&mut self, e: usize) {
-        self.dyn_.queued[e] = false;
-        let s = &self.dyn_.state;
+        self.live.queued[e] = false;
+        let s = &self.live.state;
         if s.oil[e] || s.water_trapped[e] {
             return;
         }
@@ -257,8 +257,8 @@ impl Engine<'_> {
     /// Ends a drainage: every connected oil-filled element has seen the
     /// final capillary pressure.
     pub fn end_drainage(&mut self) {
-        let pc = self.dyn_.state.pc;
-        let d = &mut self.dyn_;
+        let pc = self.live.state.pc;
+        let d = &mut self.live;
         for e in 0..d.state.oil.len() {
             if d.state.oil[e] && !d.state.oil_trapped[e] {
                 // Corner menisci stopped receding at the final pressure, or

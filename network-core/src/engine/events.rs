@@ -26,15 +26,15 @@ pub fn advance_limited(
         Mode::Drainage => Order::Ascending,
         _ => Order::Descending,
     };
-    while engine.dyn_.queue.next_within(pc) {
+    while engine.live.queue.next_within(pc) {
         if applied == max_events {
             return applied;
         }
         applied += 1;
-        let Some(ev) = engine.dyn_.queue.pop() else {
+        let Some(ev) = engine.live.queue.pop() else {
             break;
         };
-        let s = &mut engine.dyn_.state;
+        let s = &mut engine.live.state;
         s.pc = match order {
             Order::Ascending => s.pc.max(ev.pc),
             Order::Descending => s.pc.min(ev.pc),
@@ -46,7 +46,7 @@ pub fn advance_limited(
         }
         on_event(engine);
     }
-    engine.dyn_.state.pc = pc;
+    engine.live.state.pc = pc;
     engine.settle_accounts();
     applied
 }
@@ -74,27 +74,27 @@ impl Engine<'_> {
 impl Engine<'_> {
     /// Current capillary pressure, Pa.
     pub fn pc(&self) -> f64 {
-        self.dyn_.state.pc
+        self.live.state.pc
     }
 
     /// Threshold of the next event in the queue, Pa (drops stale entries
     /// on the way).
     pub fn next_threshold(&mut self) -> Option<f64> {
-        self.dyn_.queue.peek().map(|e| e.pc)
+        self.live.queue.peek().map(|e| e.pc)
     }
 
     /// Events applied in the current process.
     pub fn events_applied(&self) -> u64 {
-        self.dyn_.events
+        self.live.events
     }
 
     /// Capillary pressure of breakthrough in the current process.
     pub fn breakthrough_pc(&self) -> Option<f64> {
-        self.dyn_.breakthrough_pc
+        self.live.breakthrough_pc
     }
 
     /// Event counts of the current process.
     pub fn counts(&self) -> &EventCounts {
-        &self.dyn_.counts
+        &self.live.counts
     }
 }

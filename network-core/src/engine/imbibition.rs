@@ -58,7 +58,7 @@ impl Engine<'_> {
 
     #[inline]
     fn conducts_free_oil(&self, x: usize) -> bool {
-        self.dyn_.flags[x] & super::FLAG_FREE_OIL != 0
+        self.live.flags[x] & super::FLAG_FREE_OIL != 0
     }
 
     /// Starts an imbibition from the current state.
@@ -71,7 +71,7 @@ impl Engine<'_> {
         let sigma = self.setup.sigma;
         let snap_allowed = self.setup.mechanisms.snap_off;
         {
-            let s = &self.dyn_.state;
+            let s = &self.live.state;
             let a = &self.angles;
             let wet = &self.wet;
             self.piston = (0..n_e)
@@ -108,7 +108,7 @@ impl Engine<'_> {
                 })
                 .collect();
         }
-        let d = &mut self.dyn_;
+        let d = &mut self.live;
         d.queue = ThresholdQueue::new(n_e, Order::Descending);
         d.counts = Default::default();
         d.events = 0;
@@ -116,7 +116,7 @@ impl Engine<'_> {
         // Non-aqueous phase with no path to an exit face is trapped from
         // the start.
         let mut reach = vec![false; n_e];
-        let mut stack: Vec<usize> = (0..self.n_p)
+        let mut stack: Vec<usize> = (0..self.elements.n_pores())
             .filter(|&p| self.is_oil_exit(p) && self.conducts_free_oil(p))
             .collect();
         for &p in &stack {
@@ -151,7 +151,7 @@ impl Engine<'_> {
             }
         }
         for e in 0..n_e {
-            let s = &self.dyn_.state;
+            let s = &self.live.state;
             if s.oil[e] && !s.oil_trapped[e] {
                 self.update_imbibition(e);
             } else if !s.oil[e] && s.layers[e] != 0 && !s.oil_trapped[e] {
@@ -163,27 +163,27 @@ impl Engine<'_> {
 
     fn mark_oil_trapped(&mut self, piece: &[u32]) {
         let id = self.new_ganglion();
-        let pc = self.dyn_.state.pc;
-        self.dyn_.counts.trapped_oil_clusters += 1;
+        let pc = self.live.state.pc;
+        self.live.counts.trapped_oil_clusters += 1;
         for &x in piece {
             let x = x as usize;
             self.change_element(x, |eng| {
-                let s = &mut eng.dyn_.state;
+                let s = &mut eng.live.state;
                 s.oil_trapped[x] = true;
                 s.ganglion[x] = id;
                 if s.frozen_pc[x].is_nan() {
                     s.frozen_pc[x] = pc;
                 }
-                eng.dyn_.queue.cancel(x);
+                eng.live.queue.cancel(x);
             });
         }
     }
 
     /// Recomputes the pending event of oil-filled element `e`.
     fn update_imbibition(&mut self, e: usize) {
-        let s = &self.dyn_.state;
+        let s = &self.live.state;
         if !s.oil[e] || s.oil_trapped[e] {
-            self.dyn_.queue.cancel(e);
+            self.live.queue.cancel(e);
             return;
         }
         let mut access = self.is_water_entry(e);
@@ -202,7 +202,7 @@ impl Engine<'_> {
         let mut kind = EventKind::Piston;
         if access {
             let theta_a = self.angles.advancing[e];
-            if e < self.n_p && theta_a < FRAC_PI_2 && n_oil_throats >= 2 {
+            if self.elements.is_pore(e) && theta_a < FRAC_PI_2 && n_oil_throats >= 2 {
                 // A water reservoir at a face counts as one more water-filled
                 // connection.
                 let n_conn = n_throats + self.is_water_entry(e) as usize;
@@ -218,9 +218,9 @@ impl Engine<'_> {
             kind = EventKind::SnapOff;
         }
         if best.is_finite() {
-            self.dyn_.queue.set(e, best, kind);
+            self.live.queue.set(e, best, kind);
         } else {
-            self.dyn_.queue.cancel(e);
+            self.live.queue.cancel(e);
         }
     }
 
@@ -256,14 +256,14 @@ impl Engine<'_> {
             self.angles.pinned_receding[e],
             self.angles.advancing[e],
             beta,
-            self.dyn_.state.pc_max[e],
+            self.live.state.pc_max[e],
             self.setup.sigma,
         )
         .unwrap_or(f64::INFINITY)
     }
 
     fn queue_layer_collapse(&mut self, e: usize) {
-        let mask = self.dyn_.state.layers[e];
+        let mask = self.live.state.layers[e];
         let mut best = f64::NEG_INFINITY;
         for i in 0..8 {
             if mask & (1 << i) != 0 {
@@ -271,11 +271,11 @@ impl Engine<'_> {
             }
         }
         if best.is_finite() {
-            self.dyn_.queue.set(e, best, EventKind::LayerCollapse);
+            self.live.queue.set(e, best, EventKind::LayerCollapse);
         } else {
             // A layer that is unstable at once collapses now.
-            let pc = self.dyn_.state.pc;
-            self.dyn_.queue.set(e, pc, EventKind::LayerCollapse);
+            let pc = self.live.state.pc;
+            self.live.queue.set(e, pc, EventKind::LayerCollapse);
         }
     }
 
@@ -284,12 +284,12 @@ impl Engine<'_> {
         let e = ev.element;
         match ev.kind {
             EventKind::LayerCollapse => {
-                if self.dyn_.state.layers[e] != 0 && !self.dyn_.state.oil_trapped[e] {
+                if self.live.state.layers[e] != 0 && !self.live.state.oil_trapped[e] {
                     self.collapse_layer(e);
                 }
             }
             kind => {
-                let s = &self.dyn_.state;
+                let s = &self.live.state;
                 if s.oil[e] && !s.oil_trapped[e] {
                     self.fill_water(e, kind);
                 }
@@ -298,17 +298,17 @@ impl Engine<'_> {
     }
 
     fn fill_water(&mut self, e: usize, kind: EventKind) {
-        let pc = self.dyn_.state.pc;
-        let is_pore = e < self.n_p;
+        let pc = self.live.state.pc;
+        let is_pore = self.elements.is_pore(e);
         let mut n_oil_throats = 0usize;
         if kind == EventKind::Cooperative {
-            let s = &self.dyn_.state;
+            let s = &self.live.state;
             self.for_each_neighbour(e, |n| n_oil_throats += s.oil[n] as usize);
         }
         let at_outlet = self.boundary(e) == Boundary::Outlet;
         self.change_element(e, |eng| {
             let volume = eng.volume[e];
-            let d = &mut eng.dyn_;
+            let d = &mut eng.live;
             d.state.oil[e] = false;
             d.bulk_oil_volume -= volume;
             d.events += 1;
@@ -332,11 +332,11 @@ impl Engine<'_> {
         });
         let nb = self.neighbours(e);
         self.release_water(&nb);
-        if !self.dyn_.state.conducts_oil(e) {
+        if !self.live.state.conducts_oil(e) {
             self.trap_oil_after(e);
         }
         for &n in &nb {
-            if self.dyn_.state.oil[n] {
+            if self.live.state.oil[n] {
                 self.update_imbibition(n);
             }
         }
@@ -359,15 +359,15 @@ impl Engine<'_> {
                 }
             }
             if mask != 0 {
-                self.dyn_.state.layers[e] = mask;
-                self.dyn_.counts.layers_formed += mask.count_ones() as u64;
+                self.live.state.layers[e] = mask;
+                self.live.counts.layers_formed += mask.count_ones() as u64;
                 self.queue_layer_collapse(e);
             }
         }
     }
 
     fn collapse_layer(&mut self, e: usize) {
-        let mask = self.dyn_.state.layers[e];
+        let mask = self.live.state.layers[e];
         let mut best = (f64::NEG_INFINITY, 0usize);
         for i in 0..8 {
             if mask & (1 << i) != 0 {
@@ -377,10 +377,10 @@ impl Engine<'_> {
                 }
             }
         }
-        self.change_element(e, |eng| eng.dyn_.state.layers[e] = mask & !(1 << best.1));
-        self.dyn_.counts.layer_collapses += 1;
-        self.dyn_.events += 1;
-        if self.dyn_.state.layers[e] != 0 {
+        self.change_element(e, |eng| eng.live.state.layers[e] = mask & !(1 << best.1));
+        self.live.counts.layer_collapses += 1;
+        self.live.events += 1;
+        if self.live.state.layers[e] != 0 {
             self.queue_layer_collapse(e);
             return;
         }
@@ -390,7 +390,7 @@ impl Engine<'_> {
     /// The other pore of throat element `t` seen from pore `p`.
     #[inline]
     fn other_pore(&self, t: usize, p: usize) -> usize {
-        let [a, b] = self.setup.network.throats().pores[t - self.n_p];
+        let [a, b] = self.setup.network.throats().pores[self.elements.throat_of(t)];
         if a as usize == p {
             b as usize
         } else {
@@ -402,9 +402,9 @@ impl Engine<'_> {
     /// throats (the pore graph of the oil clusters).
     fn oil_pore_neighbours(&self, p: usize, out: &mut super::Neighbours) {
         let adj = self.setup.network.adjacency();
-        let flags = &self.dyn_.flags;
+        let flags = &self.live.flags;
         for (&t, &q) in adj.throats_of(p).iter().zip(adj.neighbours_of(p)) {
-            let te = self.n_p + t as usize;
+            let te = self.elements.of_throat(t as usize);
             if flags[te] & flags[q as usize] & super::FLAG_FREE_OIL != 0 {
                 out.push(q as usize);
             }
@@ -421,9 +421,9 @@ impl Engine<'_> {
     fn trap_oil_after(&mut self, e: usize) {
         let mut seeds = super::Neighbours::new();
         let mut isolated = super::Neighbours::new();
-        if e < self.n_p {
+        if self.elements.is_pore(e) {
             for &t in self.setup.network.adjacency().throats_of(e) {
-                let te = self.n_p + t as usize;
+                let te = self.elements.of_throat(t as usize);
                 if self.conducts_free_oil(te) {
                     let q = self.other_pore(te, e);
                     if self.conducts_free_oil(q) {
@@ -434,7 +434,7 @@ impl Engine<'_> {
                 }
             }
         } else {
-            let [a, b] = self.setup.network.throats().pores[e - self.n_p];
+            let [a, b] = self.setup.network.throats().pores[self.elements.throat_of(e)];
             for q in [a as usize, b as usize] {
                 if self.conducts_free_oil(q) {
                     seeds.push(q);
@@ -464,7 +464,7 @@ impl Engine<'_> {
             let mut piece: Vec<u32> = pores.clone();
             for &p in &pores {
                 for &t in self.setup.network.adjacency().throats_of(p as usize) {
-                    let te = self.n_p + t as usize;
+                    let te = self.elements.of_throat(t as usize);
                     if self.conducts_free_oil(te) {
                         piece.push(te as u32);
                     }
@@ -479,7 +479,7 @@ impl Engine<'_> {
     /// Element `n`'s trapped water joins the connected water again.
     fn release_trapped_water(&mut self, n: usize) {
         self.change_element(n, |eng| {
-            let s = &mut eng.dyn_.state;
+            let s = &mut eng.live.state;
             s.water_trapped[n] = false;
             if !s.oil_trapped[n] {
                 s.frozen_pc[n] = f64::NAN;
@@ -491,7 +491,7 @@ impl Engine<'_> {
     fn release_water(&mut self, around: &[usize]) {
         let mut stack: Vec<usize> = Vec::new();
         for &n in around {
-            if self.dyn_.state.water_trapped[n] {
+            if self.live.state.water_trapped[n] {
                 self.release_trapped_water(n);
                 stack.push(n);
             }
@@ -499,12 +499,12 @@ impl Engine<'_> {
         if stack.is_empty() {
             return;
         }
-        self.dyn_.counts.reconnections += 1;
+        self.live.counts.reconnections += 1;
         let mut released = stack.clone();
         while let Some(x) = stack.pop() {
             let nb = self.neighbours(x);
             for n in nb {
-                if self.dyn_.state.water_trapped[n] {
+                if self.live.state.water_trapped[n] {
                     self.release_trapped_water(n);
                     stack.push(n);
                     released.push(n);
@@ -515,7 +515,7 @@ impl Engine<'_> {
             let mut nb = self.neighbours(x);
             nb.push(x);
             for n in nb {
-                if self.dyn_.state.oil[n] {
+                if self.live.state.oil[n] {
                     self.update_imbibition(n);
                 }
             }
@@ -526,7 +526,7 @@ impl Engine<'_> {
     pub fn end_imbibition(&mut self) {
         self.mode = Mode::Idle;
         self.drop_accounts();
-        let s = &mut self.dyn_.state;
+        let s = &mut self.live.state;
         let pc = s.pc;
         for e in 0..s.oil.len() {
             if s.oil[e] {

@@ -28,7 +28,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::capillary::Section;
 use crate::geometry::Geometry;
-use crate::network::{Boundary, Network};
+use crate::network::{Boundary, Element, Elements, Network};
 use crate::params::{ImbibitionFaces, MechanismOptions, OutletRule};
 use crate::wettability::ContactAngles;
 
@@ -99,9 +99,9 @@ pub struct EventCounts {
     pub reconnections: u64,
 }
 
-/// Dynamic part of the engine (what a snapshot saves).
+/// LiveState part of the engine (what a snapshot saves).
 #[derive(Clone, Debug)]
-pub struct Dynamic {
+pub struct LiveState {
     /// Occupancy.
     pub state: State,
     queue: ThresholdQueue,
@@ -119,7 +119,7 @@ pub struct Dynamic {
     pub breakthrough_pc: Option<f64>,
     next_ganglion: u32,
     /// Incremental saturation records.
-    acc: accounting::Accounts,
+    books: accounting::Books,
     /// Packed per-element flags for the searches ([`FLAG_FREE_OIL`],
     /// [`FLAG_WATER`]), kept in step with the state by `reaccount`.
     flags: Vec<u8>,
@@ -134,7 +134,8 @@ pub(crate) const FLAG_WATER: u8 = 2;
 #[derive(Clone, Debug)]
 pub struct Engine<'a> {
     setup: Setup<'a>,
-    n_p: usize,
+    /// The element index space (pores first, then throats).
+    elements: Elements,
     /// Resolved volume per element, m³.
     volume: Vec<f64>,
     /// Clay volume per element, m³.
@@ -144,8 +145,8 @@ pub struct Engine<'a> {
     wet: Vec<u8>,
     /// Contact angles (altered between drainage and imbibition).
     pub angles: ContactAngles,
-    /// Dynamic state.
-    pub dyn_: Dynamic,
+    /// LiveState state.
+    pub live: LiveState,
     mode: Mode,
     search: SplitSearch,
     /// Drainage entry thresholds of the current drainage, Pa.
@@ -176,7 +177,6 @@ impl<'a> Engine<'a> {
     /// A fully water-saturated engine.
     pub fn new(setup: Setup<'a>, angles: ContactAngles) -> Engine<'a> {
         let net = setup.network;
-        let n_p = net.n_pores();
         let n_e = net.n_elements();
         let mut volume = Vec::with_capacity(n_e);
         volume.extend_from_slice(&net.pores().volume);
@@ -210,12 +210,12 @@ impl<'a> Engine<'a> {
         let clay_total = clay.iter().sum();
         let resolved_total = volume.iter().sum();
         Engine {
-            n_p,
+            elements: net.elements(),
             volume,
             clay,
             wet,
             angles,
-            dyn_: Dynamic {
+            live: LiveState {
                 state: State::water_filled(n_e),
                 queue: ThresholdQueue::new(n_e, Order::Ascending),
                 connected: vec![false; n_e],
@@ -225,7 +225,7 @@ impl<'a> Engine<'a> {
                 bulk_oil_volume: 0.0,
                 breakthrough_pc: None,
                 next_ganglion: 0,
-                acc: Default::default(),
+                books: Default::default(),
                 flags: vec![FLAG_WATER; n_e],
             },
             mode: Mode::Idle,
@@ -251,7 +251,7 @@ impl<'a> Engine<'a> {
 
     /// The occupancy state.
     pub fn state(&self) -> &State {
-        &self.dyn_.state
+        &self.live.state
     }
 
     /// The process being run.
@@ -279,9 +279,14 @@ impl<'a> Engine<'a> {
         &self.wet
     }
 
+    /// The element index space.
+    pub fn elements(&self) -> Elements {
+        self.elements
+    }
+
     /// Number of pores (the first element indices).
     pub fn n_pores(&self) -> usize {
-        self.n_p
+        self.elements.n_pores()
     }
 
     /// Elements visited by trapping searches and searches run.
@@ -290,13 +295,13 @@ impl<'a> Engine<'a> {
     }
 
     /// Saves the dynamic state (for bisection on a stopping rule).
-    pub fn snapshot(&self) -> Dynamic {
-        self.dyn_.clone()
+    pub fn snapshot(&self) -> LiveState {
+        self.live.clone()
     }
 
     /// Restores a snapshot taken during the current process.
-    pub fn restore(&mut self, d: Dynamic) {
-        self.dyn_ = d;
+    pub fn restore(&mut self, d: LiveState) {
+        self.live = d;
     }
 
     /// Cross-section of element `e`.
@@ -320,15 +325,17 @@ impl<'a> Engine<'a> {
     /// throat's two pores).
     #[inline]
     pub fn for_each_neighbour(&self, e: usize, mut f: impl FnMut(usize)) {
-        let n_p = self.n_p;
-        if e < n_p {
-            for &t in self.setup.network.adjacency().throats_of(e) {
-                f(n_p + t as usize);
+        match self.elements.kind(e) {
+            Element::Pore(p) => {
+                for &t in self.setup.network.adjacency().throats_of(p) {
+                    f(self.elements.of_throat(t as usize));
+                }
             }
-        } else {
-            let [a, b] = self.setup.network.throats().pores[e - n_p];
-            f(a as usize);
-            f(b as usize);
+            Element::Throat(t) => {
+                let [a, b] = self.setup.network.throats().pores[t];
+                f(a as usize);
+                f(b as usize);
+            }
         }
     }
 
@@ -343,30 +350,30 @@ impl<'a> Engine<'a> {
     /// Appends the neighbours of element `e` to `out`.
     #[inline]
     pub fn neighbours_into(&self, e: usize, out: &mut Neighbours) {
-        let n_p = self.n_p;
-        if e < n_p {
-            out.extend(
+        let elements = self.elements;
+        match elements.kind(e) {
+            Element::Pore(p) => out.extend(
                 self.setup
                     .network
                     .adjacency()
-                    .throats_of(e)
+                    .throats_of(p)
                     .iter()
-                    .map(|&t| n_p + t as usize),
-            );
-        } else {
-            let [a, b] = self.setup.network.throats().pores[e - n_p];
-            out.push(a as usize);
-            out.push(b as usize);
+                    .map(|&t| elements.of_throat(t as usize)),
+            ),
+            Element::Throat(t) => {
+                let [a, b] = self.setup.network.throats().pores[t];
+                out.push(a as usize);
+                out.push(b as usize);
+            }
         }
     }
 
     /// The pore's face tag (throats are interior).
     #[inline]
     pub fn boundary(&self, e: usize) -> Boundary {
-        if e < self.n_p {
-            self.setup.network.pores().boundary[e]
-        } else {
-            Boundary::Interior
+        match self.elements.kind(e) {
+            Element::Pore(p) => self.setup.network.pores().boundary[p],
+            Element::Throat(_) => Boundary::Interior,
         }
     }
 
@@ -376,16 +383,16 @@ impl<'a> Engine<'a> {
         let g = self.setup.geometry;
         self.angles.alter(
             spec,
-            &self.dyn_.state.contacted,
-            self.n_p,
+            &self.live.state.contacted,
+            self.elements.n_pores(),
             &g.radius,
             self.setup.seed,
         );
     }
 
     fn new_ganglion(&mut self) -> u32 {
-        let g = self.dyn_.next_ganglion;
-        self.dyn_.next_ganglion += 1;
+        let g = self.live.next_ganglion;
+        self.live.next_ganglion += 1;
         g
     }
 }

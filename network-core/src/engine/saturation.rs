@@ -63,12 +63,12 @@ impl Engine<'_> {
     /// pressure they see (frozen where trapped), the highest drainage
     /// pressure and the lowest imbibition pressure behind them.
     pub(super) fn meniscus_pressures(&self, e: usize) -> (f64, f64, f64) {
-        let s = &self.dyn_.state;
+        let s = &self.live.state;
         let frozen = s.frozen_pc[e].is_finite();
         let mut pc = if frozen { s.frozen_pc[e] } else { s.pc };
         let mut pc_max = s.pc_max[e];
         let pc_min = s.pc_min[e];
-        if s.oil[e] && self.mode == Mode::Drainage && !frozen && self.dyn_.connected[e] {
+        if s.oil[e] && self.mode == Mode::Drainage && !frozen && self.live.connected[e] {
             // Still receding with the invading phase; menisci that an
             // imbibition left at `pc_min` do not re-advance in drainage.
             if pc_min.is_finite() {
@@ -86,7 +86,7 @@ impl Engine<'_> {
     /// back from where it left them ([`capillary::reversed_corner`]).
     pub fn corner_menisci(&self, e: usize) -> [Option<capillary::CornerMeniscus>; 4] {
         let mut out = [None; 4];
-        let s = &self.dyn_.state;
+        let s = &self.live.state;
         if !s.oil[e] || self.wet[e] == 0 {
             return out;
         }
@@ -115,7 +115,7 @@ impl Engine<'_> {
     /// Water area of element `e` at the current state, m² (capped at the
     /// cross-section), and the oil-layer area.
     pub fn element_areas(&self, e: usize) -> (f64, f64) {
-        let s = &self.dyn_.state;
+        let s = &self.live.state;
         let sec = self.section(e);
         let area = crate::geometry::area(sec.radius, sec.shape_factor);
         if s.oil[e] {
@@ -159,7 +159,7 @@ impl Engine<'_> {
             .map(|c| {
                 let mut acc = Sums::default();
                 for e in c * CHUNK..((c + 1) * CHUNK).min(n) {
-                    let s = &self.dyn_.state;
+                    let s = &self.live.state;
                     let v = self.volume[e];
                     let (aw, ao_layer) = self.element_areas(e);
                     let area = self.setup.geometry.area(e);
@@ -196,6 +196,6 @@ impl Engine<'_> {
     /// Bulk (centre) oil saturation from the incremental volume, a cheap
     /// trigger for recording points.
     pub fn bulk_oil_fraction(&self) -> f64 {
-        self.dyn_.bulk_oil_volume / self.pore_volume
+        self.live.bulk_oil_volume / self.pore_volume
     }
 }

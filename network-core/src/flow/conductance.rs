@@ -17,8 +17,8 @@
 use rayon::prelude::*;
 
 use super::FlowError;
-use crate::Network;
 use crate::geometry::{Shape, area};
+use crate::network::{Element, Network};
 
 /// Single-phase hydraulic conductance of a straight prism of inscribed
 /// radius `radius` (m) and shape factor `shape_factor` (dimensionless)
@@ -124,16 +124,15 @@ pub fn element_electrical_conductances(
     clay_tortuosity: f64,
 ) -> Vec<f64> {
     let clay = element_clay_areas(network);
-    let n_p = network.n_pores();
+    let elements = network.elements();
     let p = network.pores();
     let t = network.throats();
-    (0..network.n_elements())
+    (0..elements.len())
         .into_par_iter()
         .map(|e| {
-            let a = if e < n_p {
-                area(p.radius[e], p.shape_factor[e])
-            } else {
-                area(t.radius[e - n_p], t.shape_factor[e - n_p])
+            let a = match elements.kind(e) {
+                Element::Pore(i) => area(p.radius[i], p.shape_factor[i]),
+                Element::Throat(i) => area(t.radius[i], t.shape_factor[i]),
             };
             brine_conductivity * (a + clay[e] / clay_tortuosity)
         })
@@ -176,14 +175,14 @@ pub fn conduit_conductances(
             found: out.len(),
         });
     }
-    let n_p = network.n_pores();
+    let elements = network.elements();
     let t = network.throats();
     out.par_iter_mut().enumerate().for_each(|(th, o)| {
         let [a, b] = t.pores[th];
         let mut resistance = 0.0;
         for (l, g) in [
             (t.conduit_a[th], element_g[a as usize]),
-            (t.throat_length(th), element_g[n_p + th]),
+            (t.throat_length(th), element_g[elements.of_throat(th)]),
             (t.conduit_b[th], element_g[b as usize]),
         ] {
             if l > 0.0 {

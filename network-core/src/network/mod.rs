@@ -17,17 +17,12 @@
 
 use serde::{Deserialize, Serialize};
 
+mod elements;
 pub mod validate;
 
+pub use elements::{Element, Elements};
+
 use validate::Violation;
-
-/// Index of a pore in the network's columns.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
-pub struct PoreId(pub u32);
-
-/// Index of a throat in the network's columns.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize, Deserialize)]
-pub struct ThroatId(pub u32);
 
 /// Where a pore sits with respect to the sample faces.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, Serialize, Deserialize, Default)]
@@ -421,6 +416,11 @@ impl Network {
     /// Number of throats.
     pub fn n_throats(&self) -> usize {
         self.throats.len()
+    }
+
+    /// The shared element index space (pores first, then throats).
+    pub fn elements(&self) -> Elements {
+        Elements::new(self.n_pores(), self.n_throats())
     }
 
     /// Number of displacement elements (pores first, then throats).

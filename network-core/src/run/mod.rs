@@ -16,7 +16,7 @@ use crate::engine::{Engine, Setup};
 use crate::flow::solver::SolveOptions;
 use crate::flow::{PermOptions, PermeabilityReport, permeability};
 use crate::geometry::Geometry;
-use crate::network::Network;
+use crate::network::{Element, Network};
 use crate::params::{ProcessKind, Study};
 use crate::progress::Progress;
 use crate::wettability::ContactAngles;
@@ -435,7 +435,7 @@ fn curve(o: &ProcessOutcome) -> (Vec<f64>, Vec<f64>) {
 pub fn collect_ganglia(engine: &Engine<'_>) -> Vec<Ganglion> {
     let s = engine.state();
     let net = engine.setup().network;
-    let n_p = net.n_pores();
+    let elements = net.elements();
     let mut map: std::collections::HashMap<u32, usize> = std::collections::HashMap::new();
     let mut out: Vec<Ganglion> = Vec::new();
     let geometry = engine.setup().geometry;
@@ -464,23 +464,24 @@ pub fn collect_ganglia(engine: &Engine<'_>) -> Vec<Ganglion> {
         });
         let (aw, _) = engine.element_areas(e);
         let oil = vol[e] * (1.0 - aw / geometry.area(e));
-        let c = if e < n_p {
-            net.pores().centre(e)
-        } else {
-            let [a, b] = net.throats().pores[e - n_p];
-            let (pa, pb) = (
-                net.pores().centre(a as usize),
-                net.pores().centre(b as usize),
-            );
-            [
-                0.5 * (pa[0] + pb[0]),
-                0.5 * (pa[1] + pb[1]),
-                0.5 * (pa[2] + pb[2]),
-            ]
+        let c = match elements.kind(e) {
+            Element::Pore(p) => net.pores().centre(p),
+            Element::Throat(t) => {
+                let [a, b] = net.throats().pores[t];
+                let (pa, pb) = (
+                    net.pores().centre(a as usize),
+                    net.pores().centre(b as usize),
+                );
+                [
+                    0.5 * (pa[0] + pb[0]),
+                    0.5 * (pa[1] + pb[1]),
+                    0.5 * (pa[2] + pb[2]),
+                ]
+            }
         };
         let gl = &mut out[k];
         gl.volume_m3 += oil;
-        if e < n_p {
+        if elements.is_pore(e) {
             gl.pores += 1;
         } else {
             gl.throats += 1;

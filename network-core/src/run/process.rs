@@ -18,7 +18,7 @@
 use serde::{Deserialize, Serialize};
 
 use crate::engine::saturation::Saturation;
-use crate::engine::{Dynamic, Engine, EventCounts, advance_limited, advance_to};
+use crate::engine::{Engine, EventCounts, LiveState, advance_limited, advance_to};
 use crate::params::{ProcessKind, StopAt};
 use crate::progress::Progress;
 use crate::run::relperm::FlowPoint;
@@ -197,9 +197,9 @@ pub fn run_process_observed(
             if (b - last_bulk).abs() >= ds {
                 last_bulk = b;
                 let p = Point {
-                    pc_pa: eng.dyn_.state.pc,
+                    pc_pa: eng.live.state.pc,
                     saturation: eng.saturation(),
-                    events: eng.dyn_.events,
+                    events: eng.live.events,
                     flow: None,
                 };
                 observer(&p, eng);
@@ -247,7 +247,7 @@ pub fn run_process_observed(
 /// `hi` (reached); leaves the engine at the first state that reaches it.
 fn bisect(
     engine: &mut Engine<'_>,
-    mut lo_snap: Dynamic,
+    mut lo_snap: LiveState,
     mut lo: f64,
     mut hi: f64,
     target: f64,
