@@ -244,7 +244,7 @@ mod tests {
             (g / exact - 1.0).abs() < 2e-3,
             "numeric {g} vs exact {exact}"
         );
-        // The closed form gives C = 0.644 there, +7.3 % (physics reference §4).
+        // The closed form gives C = 0.644 there, +7.3 % (docs/physics.md §4).
         let area = corner_area_b(1.0, FRAC_PI_2 - PI / 6.0, PI / 6.0);
         let closed = corner_conductance_b(area, 1.0, FRAC_PI_2 - PI / 6.0, PI / 6.0, 1.0);
         assert!((closed / exact - 0.644 / 0.6).abs() < 1e-12);

@@ -104,7 +104,7 @@ pub struct PermeabilityReport {
 ///
 /// $$K = \frac{\mu\,Q\,L}{A\,\Delta p}$$
 ///
-/// (common practice; physics reference §7). The electrical solve imposes 1 V
+/// (common practice; docs/physics.md §9). The electrical solve imposes 1 V
 /// on the brine conductances of
 /// [`element_electrical_conductances`]; `F = σ_w A ΔV / (I L)`. `Q` and
 /// `I` are taken from the dissipation of the solutions
