@@ -187,7 +187,7 @@ fn conduit_with_zero_length_parts_skips_them() {
 
 #[test]
 fn uniform_lattice_permeability_and_formation_factor_are_analytic() {
-    // Source (analytic; physics reference §10.7): simple-cubic lattice of
+    // Source (analytic; docs/physics.md §9): simple-cubic lattice of
     // n³ pores, spacing L, identical circular throats of radius r and length
     // L, no pore-body resistance (conduit_a = conduit_b = 0). By symmetry each
     // layer normal to the axis is at one pressure, so only the n² columns of
@@ -545,7 +545,7 @@ fn results_are_identical_with_one_and_two_threads() {
 
 #[test]
 fn jacobi_and_multigrid_agree_and_conserve_mass() {
-    // Kirchhoff solutions conserve flow (physics reference §10.10); the two
+    // Kirchhoff solutions conserve flow (docs/physics.md §9); the two
     // preconditioners solve the same system, so K agrees to the tolerance.
     let net = random_lattice(10, 11);
     let a = permeability(

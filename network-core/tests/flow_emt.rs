@@ -60,7 +60,7 @@ fn emt(values: &[(f64, f64)]) -> f64 {
 
 /// Lattice size. The lattice is periodic across the flow direction, so the
 /// only boundary bias is the O(1/n) one of the two fixed-pressure faces
-/// (physics reference §10.8). Measured with these seeds (release build):
+/// (Kirkpatrick 1973, Rev. Mod. Phys. 45:574; docs/physics.md §9). Measured with these seeds (release build):
 /// mixture 4.139, 3.975, 4.074, 4.083, 4.033, 4.017 and dilution 0.512,
 /// 0.546, 0.532, 0.554, 0.553, 0.552 for n = 8, 12, 16, 24, 32, 40 against
 /// EMT 4 and 0.55: from n = 16 on the bias plus sample fluctuation stays

@@ -262,7 +262,7 @@ fn trapped_volumes_add_up_and_saturation_is_monotone_along_each_process() {
 
 #[test]
 fn trapped_clusters_have_no_path_to_the_outlet_and_free_ones_do() {
-    // Definition of trapping (physics reference §7): a cluster is trapped
+    // Definition of trapping (docs/physics.md §7): a cluster is trapped
     // exactly when no path of oil-filled elements or layers reaches an exit.
     let net = sandstone_like(12, 8);
     let geom = Geometry::new(&net, 8);

@@ -67,23 +67,9 @@ fn parse_size(s: &str) -> Result<(usize, usize, usize)> {
 }
 
 /// Reads a lattice specification file.
-pub fn read_spec(path: &Path) -> Result<LatticeSpec> {
-    let text =
-        std::fs::read_to_string(path).with_context(|| format!("cannot read {}", path.display()))?;
-    toml::from_str(&text).map_err(|e| {
-        let line = e
-            .span()
-            .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1);
-        match line {
-            Some(l) => anyhow::anyhow!("{}:{l}: {}", path.display(), e.message().trim()),
-            None => anyhow::anyhow!("{}: {}", path.display(), e.message().trim()),
-        }
-    })
-}
-
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     let mut spec = match &args.spec {
-        Some(p) => read_spec(p)?,
+        Some(p) => network_core::io::study::read_lattice_spec(p)?,
         None => LatticeSpec::default(),
     };
     if let Some(s) = &args.size {

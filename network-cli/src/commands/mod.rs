@@ -25,27 +25,17 @@ pub fn load(path: &Path, progress: &Bars) -> Result<Loaded> {
     Ok(loaded)
 }
 
-/// The network of a study: loaded from a CSV folder or `.gnet` file, or
-/// generated from a parameter file (`.toml`) with its seed plus
-/// `realisation`. Returns the network and its content hash.
+/// The network of a study (loaded, or generated with the realisation's
+/// seed), its warnings printed. Returns the network and its content hash.
 pub fn study_network(
     study_path: &Path,
     study: &network_core::study::Study,
     realisation: usize,
     progress: &Bars,
 ) -> Result<(network_core::Network, String)> {
-    let path = run::network_path(study_path, study);
-    let net = if path
-        .extension()
-        .is_some_and(|e| e.eq_ignore_ascii_case("toml"))
-    {
-        let mut spec = generate::read_spec(&path)?;
-        spec.seed += realisation as u64;
-        network_core::generate::generate(&spec, &network_core::progress::Silent)
-            .with_context(|| format!("cannot generate the network of {}", path.display()))?
-    } else {
-        load(&path, progress)?.network
-    };
-    let hash = io::network_hash(&net);
-    Ok((net, hash))
+    let net = network_core::io::study::study_network(study_path, study, realisation)?;
+    for w in &net.warnings {
+        progress.note(&format!("warning: {w}"));
+    }
+    Ok((net.network, net.hash))
 }

@@ -1,11 +1,10 @@
 //! `ganglion run`: every process of a study file on its network.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 use anyhow::{Context, Result};
 use network_core::io;
 use network_core::run::run_study;
-use network_core::study::Study;
 
 use crate::progress::Bars;
 
@@ -43,38 +42,15 @@ pub struct Args {
     pub table_points: usize,
 }
 
-/// Reads and validates a study file.
-pub fn read_study(path: &Path) -> Result<Study> {
-    let text = std::fs::read_to_string(path)
-        .with_context(|| format!("cannot read study {}", path.display()))?;
-    Study::parse(&text).map_err(|e| {
-        let lines: Vec<String> =
-            e.0.iter()
-                .map(|x| format!("{}: {x}", path.display()))
-                .collect();
-        anyhow::anyhow!("the study was refused:\n  {}", lines.join("\n  "))
-    })
-}
-
-/// The network path of a study, relative to the study file.
-pub fn network_path(study_path: &Path, study: &Study) -> PathBuf {
-    let p = Path::new(&study.network);
-    if p.is_absolute() {
-        p.to_path_buf()
-    } else {
-        study_path.parent().unwrap_or(Path::new(".")).join(p)
-    }
-}
-
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     if args.table_points < 2 {
         anyhow::bail!("--table-points {}: must be at least 2", args.table_points);
     }
-    let study = read_study(&args.study)?;
+    let study = io::study::read_study(&args.study)?;
     let (network, hash) = super::study_network(&args.study, &study, 0, progress)?;
     let mut results = run_study(&network, &study, progress);
     results.network.hash = hash;
-    io::results::write_run(&results, &args.output)
+    network_report::write_run_results(&results, &args.output)
         .with_context(|| format!("cannot write results to {}", args.output.display()))?;
     let opts = network_report::ArtifactOptions {
         png: !args.no_png,

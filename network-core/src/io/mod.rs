@@ -117,8 +117,9 @@ use crate::network::validate::{self, Target, Violation, Warning};
 pub mod atomic;
 pub mod binary;
 pub mod csv;
-pub mod results;
 mod sample;
+pub mod study;
+pub mod sweep_store;
 mod table;
 
 /// A network read from files, with the warnings found while reading.

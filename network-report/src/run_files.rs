@@ -5,12 +5,13 @@
 use std::fmt::Write as _;
 use std::path::Path;
 
-use super::WriteError;
-use super::atomic::write_atomic;
-use crate::run::RunResults;
+use network_core::io::atomic::write_atomic;
+use network_core::run::RunResults;
 
-fn io_err(path: &Path, e: std::io::Error) -> WriteError {
-    WriteError::Io {
+use crate::ReportError;
+
+fn io_err(path: &Path, e: std::io::Error) -> ReportError {
+    ReportError::Io {
         path: path.to_path_buf(),
         source: e,
     }
@@ -66,11 +67,13 @@ pub fn ganglia_csv(results: &RunResults) -> String {
 
 /// Writes `summary.json`, `curves.csv` and `ganglia.csv` into `dir`
 /// (created if missing).
-pub fn write_run(results: &RunResults, dir: &Path) -> Result<(), WriteError> {
+pub fn write_run_results(results: &RunResults, dir: &Path) -> Result<(), ReportError> {
     std::fs::create_dir_all(dir).map_err(|e| io_err(dir, e))?;
-    let summary = serde_json::to_string_pretty(results).map_err(|e| WriteError::Encode {
-        path: dir.join("summary.json"),
-        message: e.to_string(),
+    let summary = serde_json::to_string_pretty(results).map_err(|e| {
+        io_err(
+            &dir.join("summary.json"),
+            std::io::Error::new(std::io::ErrorKind::InvalidData, e),
+        )
     })?;
     for (name, text) in [
         ("curves.csv", curves_csv(results)),

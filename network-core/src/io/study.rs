@@ -1,0 +1,160 @@
+//! The file side of a study: reading and validating a study file, and
+//! getting its network — loaded from a CSV folder or `.gnet` file, or
+//! generated from a parameter file — so that the CLI, a sweep and a library
+//! user all make the same choice.
+
+use std::path::{Path, PathBuf};
+
+use crate::Network;
+use crate::generate::{GenerateError, LatticeSpec, generate};
+use crate::params::Study;
+use crate::progress::Silent;
+use crate::study::StudyErrors;
+
+use super::{ReadError, network_hash, read_network};
+
+/// Why a study or its network could not be had.
+#[non_exhaustive]
+#[derive(Debug, thiserror::Error)]
+pub enum StudyInputError {
+    /// The study file could not be read.
+    #[error("cannot read study {}", path.display())]
+    Read {
+        /// The study file.
+        path: PathBuf,
+        /// The underlying error.
+        source: std::io::Error,
+    },
+    /// The study file was read but refused; every problem with key and
+    /// line.
+    #[error("the study was refused:\n  {}", refused_lines(path, errors))]
+    Refused {
+        /// The study file.
+        path: PathBuf,
+        /// The problems found.
+        errors: StudyErrors,
+    },
+    /// The network files could not be loaded.
+    #[error("cannot load network {}", path.display())]
+    Network {
+        /// The network path, as resolved against the study file.
+        path: PathBuf,
+        /// The underlying error.
+        source: ReadError,
+    },
+    /// A generator parameter file could not be read or parsed.
+    #[error("{}{}: {message}", path.display(), line.map_or(String::new(), |l| format!(":{l}")))]
+    Spec {
+        /// The parameter file.
+        path: PathBuf,
+        /// 1-based line of the problem, where known.
+        line: Option<usize>,
+        /// What is wrong.
+        message: String,
+    },
+    /// The generator refused its parameters.
+    #[error("cannot generate the network of {}", path.display())]
+    Generate {
+        /// The parameter file.
+        path: PathBuf,
+        /// The underlying error.
+        source: GenerateError,
+    },
+}
+
+fn refused_lines(path: &Path, errors: &StudyErrors) -> String {
+    let lines: Vec<String> = errors
+        .0
+        .iter()
+        .map(|x| format!("{}: {x}", path.display()))
+        .collect();
+    lines.join("\n  ")
+}
+
+/// Reads and validates a study file.
+pub fn read_study(path: &Path) -> Result<Study, StudyInputError> {
+    let text = std::fs::read_to_string(path).map_err(|source| StudyInputError::Read {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    Study::parse(&text).map_err(|errors| StudyInputError::Refused {
+        path: path.to_path_buf(),
+        errors,
+    })
+}
+
+/// The network path of a study, relative to the study file.
+pub fn network_path(study_path: &Path, study: &Study) -> PathBuf {
+    let p = Path::new(&study.network);
+    if p.is_absolute() {
+        p.to_path_buf()
+    } else {
+        study_path.parent().unwrap_or(Path::new(".")).join(p)
+    }
+}
+
+/// Reads a generator parameter file (TOML; unknown keys refused, errors
+/// with their line).
+pub fn read_lattice_spec(path: &Path) -> Result<LatticeSpec, StudyInputError> {
+    let spec_err = |line, message: String| StudyInputError::Spec {
+        path: path.to_path_buf(),
+        line,
+        message,
+    };
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| spec_err(None, format!("cannot read the file: {e}")))?;
+    toml::from_str(&text).map_err(|e| {
+        let line = e
+            .span()
+            .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1);
+        spec_err(line, e.message().trim().to_string())
+    })
+}
+
+/// A study's network with its content hash and the warnings met while
+/// loading it.
+#[derive(Clone, Debug)]
+pub struct StudyNetwork {
+    /// The network.
+    pub network: Network,
+    /// Its content hash ([`network_hash`]).
+    pub hash: String,
+    /// Suspicious but loadable features of the network files.
+    pub warnings: Vec<String>,
+}
+
+/// The network of a study: loaded from a CSV folder or `.gnet` file, or
+/// generated from a parameter file (`.toml`) with its seed plus
+/// `realisation`.
+pub fn study_network(
+    study_path: &Path,
+    study: &Study,
+    realisation: usize,
+) -> Result<StudyNetwork, StudyInputError> {
+    let path = network_path(study_path, study);
+    let (network, warnings) = if path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("toml"))
+    {
+        let mut spec = read_lattice_spec(&path)?;
+        spec.seed += realisation as u64;
+        let net = generate(&spec, &Silent).map_err(|source| StudyInputError::Generate {
+            path: path.clone(),
+            source,
+        })?;
+        (net, Vec::new())
+    } else {
+        let loaded = read_network(&path).map_err(|source| StudyInputError::Network {
+            path: path.clone(),
+            source,
+        })?;
+        let warnings = loaded.warnings.iter().map(ToString::to_string).collect();
+        (loaded.network, warnings)
+    };
+    let hash = network_hash(&network);
+    Ok(StudyNetwork {
+        network,
+        hash,
+        warnings,
+    })
+}

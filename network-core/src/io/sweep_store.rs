@@ -1,0 +1,103 @@
+//! A sweep's folder on disk: the case list (`sweep-cases.json`) and one
+//! result file per finished case (`cases/case-NNNNN.json`), each written
+//! atomically. A case's result counts as finished only when its study hash
+//! matches the case, so a changed study never reuses stale results.
+
+use std::path::{Path, PathBuf};
+
+use super::WriteError;
+use super::atomic::write_atomic;
+use crate::sweep::{Case, CaseResult};
+
+/// Why a sweep folder could not be read.
+#[non_exhaustive]
+#[derive(Debug, thiserror::Error)]
+pub enum StoreError {
+    /// A file could not be read.
+    #[error("cannot read {}", path.display())]
+    Read {
+        /// The file.
+        path: PathBuf,
+        /// The underlying error.
+        source: std::io::Error,
+    },
+    /// The case list is not what a sweep writes.
+    #[error("{} is not a sweep case list", path.display())]
+    NotACaseList {
+        /// The file.
+        path: PathBuf,
+        /// The parse error.
+        source: serde_json::Error,
+    },
+    /// A file could not be written.
+    #[error(transparent)]
+    Write(#[from] WriteError),
+    /// A result could not be serialised.
+    #[error("cannot serialise {what}")]
+    Serialise {
+        /// What was being serialised.
+        what: &'static str,
+        /// The underlying error.
+        source: serde_json::Error,
+    },
+}
+
+/// The case list of a sweep folder.
+pub fn case_list_path(out: &Path) -> PathBuf {
+    out.join("sweep-cases.json")
+}
+
+/// The result file of case `k`.
+pub fn case_path(out: &Path, k: usize) -> PathBuf {
+    out.join("cases").join(format!("case-{k:05}.json"))
+}
+
+/// Writes the case list (creating the folder and `cases/`).
+pub fn write_case_list(out: &Path, cases: &[Case]) -> Result<(), StoreError> {
+    let dir = out.join("cases");
+    std::fs::create_dir_all(&dir).map_err(|source| {
+        StoreError::Write(WriteError::Io {
+            path: dir.clone(),
+            source,
+        })
+    })?;
+    let text = serde_json::to_string_pretty(cases).map_err(|source| StoreError::Serialise {
+        what: "the case list",
+        source,
+    })? + "\n";
+    write_atomic(&case_list_path(out), text.as_bytes()).map_err(|source| {
+        StoreError::Write(WriteError::Io {
+            path: case_list_path(out),
+            source,
+        })
+    })
+}
+
+/// Reads the case list of a sweep folder.
+pub fn read_case_list(out: &Path) -> Result<Vec<Case>, StoreError> {
+    let path = case_list_path(out);
+    let text = std::fs::read_to_string(&path).map_err(|source| StoreError::Read {
+        path: path.clone(),
+        source,
+    })?;
+    serde_json::from_str(&text).map_err(|source| StoreError::NotACaseList { path, source })
+}
+
+/// The finished result of `case`, if its file exists, parses and belongs
+/// to the same study.
+pub fn read_case(out: &Path, case: &Case) -> Option<CaseResult> {
+    let text = std::fs::read_to_string(case_path(out, case.index)).ok()?;
+    let r: CaseResult = serde_json::from_str(&text).ok()?;
+    (r.case.study_hash == case.study_hash).then_some(r)
+}
+
+/// Writes the result of one case atomically.
+pub fn write_case(out: &Path, result: &CaseResult) -> Result<(), StoreError> {
+    let text = serde_json::to_string(result).map_err(|source| StoreError::Serialise {
+        what: "a case result",
+        source,
+    })? + "\n";
+    let path = case_path(out, result.case.index);
+    write_atomic(&path, text.as_bytes())
+        .map_err(|source| StoreError::Write(WriteError::Io { path, source }))
+}

@@ -1,0 +1,183 @@
+//! Running a sweep's cases into a folder: every case, the unfinished ones
+//! (resume), or one case alone (a job of a cluster's array); and merging
+//! the finished cases back into a [`SweepSummary`].
+//!
+//! A case reads its own network (loaded, or generated with the realisation's
+//! seed) and runs on its own, so its result never depends on which other
+//! cases run, where, or in what order. Cases run in parallel a few at a time
+//! (as many as there are worker threads), which bounds the memory.
+
+use std::path::{Path, PathBuf};
+use std::sync::Mutex;
+
+use rayon::prelude::*;
+
+use super::{Case, CaseResult, SweepStudy, SweepSummary, summarise};
+use crate::io::study::{StudyInputError, study_network};
+use crate::io::sweep_store::{self, StoreError};
+use crate::progress::{Progress, Silent};
+use crate::run::run_study;
+
+/// Why a sweep could not run or be merged.
+#[non_exhaustive]
+#[derive(Debug, thiserror::Error)]
+pub enum SweepError {
+    /// A case number outside the sweep.
+    #[error("case {case}: the sweep has cases 0 to {}", n_cases.saturating_sub(1))]
+    NoSuchCase {
+        /// The case asked for.
+        case: usize,
+        /// Number of cases of the sweep.
+        n_cases: usize,
+    },
+    /// A case's study or network could not be had.
+    #[error("case {case}")]
+    Input {
+        /// The case.
+        case: usize,
+        /// The underlying error.
+        source: StudyInputError,
+    },
+    /// Reading or writing the sweep folder failed.
+    #[error(transparent)]
+    Store(#[from] StoreError),
+    /// Some cases failed; the others finished and were kept.
+    #[error("{} case(s) failed; first: {}", failures.len(), failures.first().map_or("", String::as_str))]
+    CasesFailed {
+        /// One line per failed case.
+        failures: Vec<String>,
+    },
+}
+
+/// A sweep prepared in its folder: the case list written, the finished
+/// cases found.
+#[derive(Clone, Debug)]
+pub struct SweepRun {
+    study_path: PathBuf,
+    out: PathBuf,
+    cases: Vec<Case>,
+    todo: Vec<usize>,
+}
+
+impl SweepRun {
+    /// Prepares `out` for the cases of `sweep` (read from `study_path`,
+    /// against which relative network paths resolve): writes the case list
+    /// and finds the cases already finished there.
+    pub fn prepare(
+        study_path: &Path,
+        sweep: &SweepStudy,
+        out: &Path,
+    ) -> Result<SweepRun, SweepError> {
+        let cases = sweep.cases();
+        sweep_store::write_case_list(out, &cases)?;
+        let todo = cases
+            .iter()
+            .filter(|c| sweep_store::read_case(out, c).is_none())
+            .map(|c| c.index)
+            .collect();
+        Ok(SweepRun {
+            study_path: study_path.to_path_buf(),
+            out: out.to_path_buf(),
+            cases,
+            todo,
+        })
+    }
+
+    /// Every case of the sweep.
+    pub fn cases(&self) -> &[Case] {
+        &self.cases
+    }
+
+    /// Numbers of the cases not finished yet.
+    pub fn todo(&self) -> &[usize] {
+        &self.todo
+    }
+
+    /// Runs case `k` alone (whether or not it had finished).
+    pub fn run_one(&self, k: usize) -> Result<(), SweepError> {
+        let case = self.cases.get(k).ok_or(SweepError::NoSuchCase {
+            case: k,
+            n_cases: self.cases.len(),
+        })?;
+        run_case(&self.study_path, &self.out, case)
+    }
+
+    /// Runs every unfinished case, in parallel, reporting one unit of
+    /// `progress` per case. Failed cases are listed in the error; the
+    /// others are kept.
+    pub fn run_unfinished(&self, progress: &dyn Progress) -> Result<(), SweepError> {
+        progress.start("sweep", self.todo.len() as u64);
+        let threads = rayon::current_num_threads().max(1);
+        let failures = Mutex::new(Vec::new());
+        for chunk in self.todo.chunks(threads) {
+            chunk.par_iter().for_each(|&k| {
+                if let Err(e) = run_case(&self.study_path, &self.out, &self.cases[k]) {
+                    let mut chain = e.to_string();
+                    let mut src = std::error::Error::source(&e);
+                    while let Some(s) = src {
+                        chain += &format!(": {s}");
+                        src = s.source();
+                    }
+                    failures.lock().expect("lock").push(chain);
+                }
+                progress.advance(1);
+            });
+        }
+        progress.finish();
+        let mut failures = failures.into_inner().expect("lock");
+        failures.sort();
+        if failures.is_empty() {
+            Ok(())
+        } else {
+            Err(SweepError::CasesFailed { failures })
+        }
+    }
+}
+
+/// Runs one case into `out/cases/`.
+pub fn run_case(study_path: &Path, out: &Path, case: &Case) -> Result<(), SweepError> {
+    let study = case.study();
+    let input = |source| SweepError::Input {
+        case: case.index,
+        source,
+    };
+    let net = study_network(study_path, &study, case.realisation).map_err(input)?;
+    let mut r = run_study(&net.network, &study, &Silent);
+    r.network.hash = net.hash;
+    let res = CaseResult::from_run(case.clone(), &r);
+    sweep_store::write_case(out, &res)?;
+    Ok(())
+}
+
+/// The finished cases of a sweep folder and their statistics.
+#[derive(Clone, Debug)]
+pub struct Collected {
+    /// Every case of the sweep.
+    pub cases: Vec<Case>,
+    /// Results of the finished cases, in case order.
+    pub results: Vec<CaseResult>,
+    /// Numbers of the cases not finished.
+    pub missing: Vec<usize>,
+    /// Statistics of the finished cases.
+    pub summary: SweepSummary,
+}
+
+/// Merges the finished cases of the sweep folder `out`.
+pub fn collect(out: &Path) -> Result<Collected, SweepError> {
+    let cases = sweep_store::read_case_list(out)?;
+    let mut results = Vec::new();
+    let mut missing = Vec::new();
+    for c in &cases {
+        match sweep_store::read_case(out, c) {
+            Some(r) => results.push(r),
+            None => missing.push(c.index),
+        }
+    }
+    let summary = summarise(cases.len(), &results);
+    Ok(Collected {
+        cases,
+        results,
+        missing,
+        summary,
+    })
+}

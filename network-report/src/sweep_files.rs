@@ -1,0 +1,87 @@
+//! A sweep's result data files: `summary.json` (statistics per parameter
+//! combination), `trapping-curve.csv` (initial and residual saturation with
+//! spread per group) and `cases.csv` (one row per finished case).
+
+use std::path::Path;
+
+use network_core::io::atomic::write_atomic;
+use network_core::sweep::{CaseResult, SweepSummary};
+
+use crate::ReportError;
+
+/// The `trapping-curve.csv` text.
+pub fn trapping_csv(s: &SweepSummary) -> String {
+    let mut out = String::from(
+        "group,initial_water_saturation,sni_mean,sni_std,snr_mean,snr_std,snr_p05,snr_p95,n\n",
+    );
+    for g in &s.groups {
+        for p in &g.trapping_curve {
+            let (Some(i), Some(r)) = (p.sni, p.snr) else {
+                continue;
+            };
+            out += &format!(
+                "{},{},{},{},{},{},{},{},{}\n",
+                g.group,
+                p.initial_water_saturation
+                    .map_or(String::new(), |x| x.to_string()),
+                i.mean,
+                i.std,
+                r.mean,
+                r.std,
+                r.p05,
+                r.p95,
+                r.n
+            );
+        }
+    }
+    out
+}
+
+/// The `cases.csv` text.
+pub fn cases_csv(results: &[CaseResult]) -> String {
+    let mut out = String::from(
+        "case,group,realisation,initial_water_saturation,sni,snr,swi,krw_at_snr,amott_water,parameters\n",
+    );
+    let o = |x: Option<f64>| x.map_or(String::new(), |v| v.to_string());
+    for r in results {
+        let params: Vec<String> = r
+            .case
+            .parameters
+            .iter()
+            .map(|(p, v)| format!("{p}={v}"))
+            .collect();
+        out += &format!(
+            "{},{},{},{},{},{},{},{},{},\"{}\"\n",
+            r.case.index,
+            r.case.group,
+            r.case.realisation,
+            o(r.case.initial_water_saturation),
+            o(r.sni),
+            o(r.snr),
+            o(r.swi),
+            o(r.krw_at_snr),
+            o(r.amott_water),
+            params.join("; ").replace('"', "'")
+        );
+    }
+    out
+}
+
+/// Writes `summary.json`, `trapping-curve.csv` and `cases.csv` into `out`,
+/// each atomically.
+pub fn write_sweep_results(
+    summary: &SweepSummary,
+    results: &[CaseResult],
+    out: &Path,
+) -> Result<(), ReportError> {
+    let json = serde_json::to_string_pretty(summary).expect("a sweep summary serialises") + "\n";
+    for (name, body) in [
+        ("summary.json", json),
+        ("trapping-curve.csv", trapping_csv(summary)),
+        ("cases.csv", cases_csv(results)),
+    ] {
+        let path = out.join(name);
+        write_atomic(&path, body.as_bytes()).map_err(|source| ReportError::Io { path, source })?;
+    }
+    Ok(())
+}
