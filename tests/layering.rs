@@ -92,7 +92,10 @@ fn strip_tests(text: &str) -> (String, Vec<String>) {
                 i += 1;
             }
             let Some(item) = lines.get(i) else { break };
-            let t = item.trim().trim_start_matches("pub ").trim_start_matches("pub(crate) ");
+            let t = item
+                .trim()
+                .trim_start_matches("pub ")
+                .trim_start_matches("pub(crate) ");
             if let Some(name) = t.strip_prefix("mod ").and_then(|r| r.strip_suffix(';')) {
                 tests.push(name.trim().to_string());
                 i += 1;
@@ -332,13 +335,20 @@ fn no_module_depends_on_a_module_that_depends_on_it() {
             problems.push(format!("{src}: {c}"));
         }
     }
-    assert!(problems.is_empty(), "import cycles:\n{}", problems.join("\n"));
+    assert!(
+        problems.is_empty(),
+        "import cycles:\n{}",
+        problems.join("\n")
+    );
 }
 
 /// `(module, modules it must not depend on)` in `network-core`, from the
 /// code map of `ARCHITECTURE.md`.
 const CORE_RULES: &[(&str, &[&str])] = &[
-    ("network", &["geometry", "capillary", "engine", "io", "study", "run"]),
+    (
+        "network",
+        &["geometry", "capillary", "engine", "io", "study", "run"],
+    ),
     ("geometry", &["engine", "io", "study", "run"]),
     ("capillary", &["engine", "io", "study", "run", "flow"]),
     ("engine", &["io", "study", "run", "flow", "fit", "sweep"]),
@@ -387,7 +397,10 @@ fn the_checker_sees_a_planted_cycle() {
     // The detector itself: two sibling modules naming each other.
     let mut modules = BTreeMap::new();
     modules.insert(Vec::new(), String::new());
-    modules.insert(vec!["a".to_string()], "use crate::b::{X, y::Z};".to_string());
+    modules.insert(
+        vec!["a".to_string()],
+        "use crate::b::{X, y::Z};".to_string(),
+    );
     modules.insert(vec!["b".to_string()], String::new());
     modules.insert(
         vec!["b".to_string(), "y".to_string()],
@@ -400,7 +413,9 @@ fn the_checker_sees_a_planted_cycle() {
     let c = cycles(&sibling_edges(&krate));
     assert_eq!(c.len(), 2, "{c:?}");
     // And test-only code is not counted.
-    let (code, tests) = strip_tests("use a;\n#[cfg(test)]\nmod t;\n#[cfg(test)]\nmod u {\n use crate::x;\n}\nfn f() {}\n");
+    let (code, tests) = strip_tests(
+        "use a;\n#[cfg(test)]\nmod t;\n#[cfg(test)]\nmod u {\n use crate::x;\n}\nfn f() {}\n",
+    );
     assert_eq!(tests, vec!["t".to_string()]);
     assert!(!code.contains("crate::x") && code.contains("fn f"));
 }
