@@ -6,7 +6,7 @@ use network_core::fit::{
     KrFitOptions, KrMax, LetParams, Normalisation, Objective, Phase, fit_corey, fit_let,
 };
 use network_report::plot::{PlotSpec, Scale, Series, SeriesStyle, render_png, render_svg};
-use network_report::tables::{Curve, Process, TableOptions, build_table};
+use network_report::saturation_tables::{Curve, Process, TableOptions, build_table};
 
 fn main() {
     divan::main();

@@ -7,14 +7,13 @@ use std::path::{Path, PathBuf};
 use network_core::Network;
 use network_core::io::atomic::write_atomic;
 use network_core::run::RunResults;
-use thiserror::Error;
 
+pub use crate::error::ReportError;
 use crate::figures::{Figure, run_figures};
 use crate::html::run_report;
-use crate::plot::{PlotError, render_png, render_svg};
-use crate::run_tables::saturation_tables;
-use crate::tables::TableError;
-use crate::vtk::{VtkError, write_vtp};
+use crate::plot::{render_png, render_svg};
+use crate::saturation_tables::from_run::saturation_tables;
+use crate::vtk::write_vtp;
 
 /// PNG size of [`write_run_artifacts`], pixels (1.5 × the SVG size).
 pub const PNG_SIZE: (u32, u32) = (1200, 840);
@@ -39,45 +38,6 @@ impl Default for ArtifactOptions {
             table_points: 21,
         }
     }
-}
-
-/// Why a report file could not be made or written; every variant names
-/// the file.
-#[non_exhaustive]
-#[derive(Debug, Error)]
-pub enum ReportError {
-    /// The output folder could not be created, or a file not written.
-    #[error("cannot write {}: {source}", path.display())]
-    Io {
-        /// The folder or file.
-        path: PathBuf,
-        /// The cause.
-        source: std::io::Error,
-    },
-    /// A figure could not be drawn.
-    #[error("figure {file}: {source}")]
-    Plot {
-        /// File name of the figure.
-        file: String,
-        /// The cause.
-        source: PlotError,
-    },
-    /// A table could not be built or written.
-    #[error("table {file}: {source}")]
-    Table {
-        /// File name of the table.
-        file: String,
-        /// The cause.
-        source: TableError,
-    },
-    /// A 3-D state could not be written.
-    #[error("3-D state {file}: {source}")]
-    Vtk {
-        /// File name of the state.
-        file: String,
-        /// The cause.
-        source: VtkError,
-    },
 }
 
 /// Writes into `dir` (created if missing), each file atomically

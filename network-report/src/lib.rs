@@ -2,22 +2,36 @@
 //!
 //! Plain inputs in (slices and small structs, or a
 //! [`network_core::run::RunResults`]), text and bytes out; no
-//! terminal. Only [`artifacts`] touches the file system; every other module
+//! terminal. Only [`artifacts`], [`sweep_report`](mod@sweep_report), [`run_files`] and
+//! [`sweep_files`] write files; every other module
 //! returns strings and bytes for the caller to write where it likes.
 //!
+//! ## Code map
+//! Each module uses only modules listed above it (and `network_core`). The
+//! crate reads results, never the engine: no module may use
+//! `network_core::engine` or the flow solver.
+//!
+//! - [`error`]: every error type of the crate; uses no other module.
 //! - [`plot`]: line plots (linear or log axes, bands, markers) as SVG text
 //!   or PNG bytes, drawn with `plotters` and an embedded DejaVu Sans font.
-//! - [`tables`]: monotone, resampled saturation-function tables from a
-//!   simulated curve, written as CSV or as a water–oil saturation-function
-//!   keyword table for black-oil reservoir simulators, with parsers for both.
+//! - [`vtk`]: a network and an end state as VTK XML PolyData (`.vtp`).
 //! - [`figures`]: the standard figures of a study run (Pc, kr linear and
 //!   log, resistivity index with the Archie line, ganglion sizes).
-//! - [`run_tables`]: the saturation-function tables of a run, with comment
-//!   headers naming units, source and end-point handling.
-//! - [`html`]: the self-contained HTML report of a run, and the page
-//!   builder it is made with (reusable for other reports).
-//! - [`vtk`]: a network and an end state as VTK XML PolyData (`.vtp`).
-//! - [`artifacts`]: all of the above written into a folder, atomically.
+//! - [`saturation_tables`](mod@saturation_tables): monotone, resampled saturation-function tables
+//!   from a simulated curve, written as CSV or as a water–oil
+//!   saturation-function keyword table for black-oil reservoir simulators,
+//!   with parsers for both; [`saturation_tables::from_run`] makes the tables
+//!   of a run, with comment headers naming units, source and end points.
+//! - [`html`]: the page builder, and the self-contained HTML report of a
+//!   run made with it.
+//! - [`artifacts`]: all of the above for one run, written into a folder,
+//!   each file atomically.
+//! - [`sweep_report`](mod@sweep_report): the figures and the HTML report of a sweep, written
+//!   the same way.
+//! - [`run_files`] and [`sweep_files`]: the result data files of a run
+//!   (`summary.json`, `curves.csv`, `ganglia.csv`) and of a sweep
+//!   (`summary.json`, `trapping-curve.csv`, `cases.csv`), each written
+//!   atomically.
 //!
 //! ## Example
 //! ```
@@ -40,21 +54,22 @@
 #![warn(missing_docs)]
 
 pub mod artifacts;
+pub mod error;
 pub mod figures;
 pub mod html;
 pub mod plot;
 pub mod run_files;
-pub mod run_tables;
+pub mod saturation_tables;
 pub mod sweep_files;
 pub mod sweep_report;
-pub mod tables;
 pub mod vtk;
 
-pub use artifacts::{ArtifactOptions, ReportError, write_run_artifacts};
+pub use artifacts::{ArtifactOptions, write_run_artifacts};
+pub use error::ReportError;
 pub use figures::{Figure, run_figures};
 pub use html::run_report;
 pub use run_files::write_run_results;
-pub use run_tables::saturation_tables;
+pub use saturation_tables::from_run::saturation_tables;
 pub use sweep_files::write_sweep_results;
 pub use sweep_report::{sweep_figures, sweep_report, write_sweep_artifacts};
 pub use vtk::write_vtp;

@@ -8,7 +8,8 @@ use std::path::{Path, PathBuf};
 use network_core::study::ProcessKind;
 use network_core::sweep::{CaseResult, Spread, SweepSummary};
 
-use crate::artifacts::{ReportError, Writer, put_figure};
+use crate::artifacts::{Writer, put_figure};
+use crate::error::ReportError;
 use crate::figures::{Figure, SW_LABEL, process_colour};
 use crate::html::{self, Html, Page};
 use crate::plot::{PlotSpec, Scale, Series, SeriesStyle, render_svg};

@@ -44,7 +44,8 @@ use std::fmt::Write as _;
 use network_core::Network;
 use network_core::run::EndState;
 use network_core::wettability::ContactAngles;
-use thiserror::Error;
+
+pub use crate::error::VtkError;
 
 /// `occupancy`: water fills the element.
 pub const OCCUPANCY_WATER: u8 = 0;
@@ -55,22 +56,6 @@ pub const OCCUPANCY_NONAQUEOUS: u8 = 1;
 pub const OCCUPANCY_LAYERS: u8 = 2;
 /// `pressure` value written where the given pressure is not finite.
 pub const PRESSURE_MISSING: f64 = -1.0e30;
-
-/// Why a state cannot be written.
-#[non_exhaustive]
-#[derive(Clone, Debug, PartialEq, Eq, Error)]
-pub enum VtkError {
-    /// An input column does not have one value per element (or per pore).
-    #[error("{what} has {found} values, the network needs {expected}")]
-    LengthMismatch {
-        /// Which column.
-        what: &'static str,
-        /// Values needed.
-        expected: usize,
-        /// Values given.
-        found: usize,
-    },
-}
 
 /// Occupancy code of element `e` (see the [module docs](self)).
 pub fn occupancy(state: &EndState, e: usize) -> u8 {

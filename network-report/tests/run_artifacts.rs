@@ -14,7 +14,7 @@ use network_core::run::{RunResults, run_study};
 use network_core::study::Study;
 use network_report::html::{CAUTION_TEXT, escape, number};
 use network_report::plot::{Series, render_svg};
-use network_report::tables::{parse_csv, parse_keyword_table};
+use network_report::saturation_tables::{parse_csv, parse_keyword_table};
 use network_report::vtk::{PRESSURE_MISSING, VtkError};
 use network_report::{
     ArtifactOptions, ReportError, run_figures, run_report, saturation_tables, write_run_artifacts,

@@ -1,13 +1,15 @@
 //! A sweep's folder on disk: the case list (`sweep-cases.json`) and one
 //! result file per finished case (`cases/case-NNNNN.json`), each written
-//! atomically. A case's result counts as finished only when its study hash
-//! matches the case, so a changed study never reuses stale results.
+//! atomically. The files hold whatever serialisable types the caller gives
+//! ([`crate::sweep`] decides what counts as a finished case), so this
+//! module knows files, not sweeps.
 
 use std::path::{Path, PathBuf};
 
 use super::WriteError;
 use super::atomic::write_atomic;
-use crate::sweep::{Case, CaseResult};
+use serde::Serialize;
+use serde::de::DeserializeOwned;
 
 /// Why a sweep folder could not be read.
 #[non_exhaustive]
@@ -53,7 +55,7 @@ pub fn case_path(out: &Path, k: usize) -> PathBuf {
 }
 
 /// Writes the case list (creating the folder and `cases/`).
-pub fn write_case_list(out: &Path, cases: &[Case]) -> Result<(), StoreError> {
+pub fn write_case_list<T: Serialize>(out: &Path, cases: &[T]) -> Result<(), StoreError> {
     let dir = out.join("cases");
     std::fs::create_dir_all(&dir).map_err(|source| {
         StoreError::Write(WriteError::Io {
@@ -74,7 +76,7 @@ pub fn write_case_list(out: &Path, cases: &[Case]) -> Result<(), StoreError> {
 }
 
 /// Reads the case list of a sweep folder.
-pub fn read_case_list(out: &Path) -> Result<Vec<Case>, StoreError> {
+pub fn read_case_list<T: DeserializeOwned>(out: &Path) -> Result<Vec<T>, StoreError> {
     let path = case_list_path(out);
     let text = std::fs::read_to_string(&path).map_err(|source| StoreError::Read {
         path: path.clone(),
@@ -83,21 +85,19 @@ pub fn read_case_list(out: &Path) -> Result<Vec<Case>, StoreError> {
     serde_json::from_str(&text).map_err(|source| StoreError::NotACaseList { path, source })
 }
 
-/// The finished result of `case`, if its file exists, parses and belongs
-/// to the same study.
-pub fn read_case(out: &Path, case: &Case) -> Option<CaseResult> {
-    let text = std::fs::read_to_string(case_path(out, case.index)).ok()?;
-    let r: CaseResult = serde_json::from_str(&text).ok()?;
-    (r.case.study_hash == case.study_hash).then_some(r)
+/// The result file of case `k`, if it exists and parses as a `T`.
+pub fn read_case<T: DeserializeOwned>(out: &Path, k: usize) -> Option<T> {
+    let text = std::fs::read_to_string(case_path(out, k)).ok()?;
+    serde_json::from_str(&text).ok()
 }
 
 /// Writes the result of one case atomically.
-pub fn write_case(out: &Path, result: &CaseResult) -> Result<(), StoreError> {
+pub fn write_case<T: Serialize>(out: &Path, k: usize, result: &T) -> Result<(), StoreError> {
     let text = serde_json::to_string(result).map_err(|source| StoreError::Serialise {
         what: "a case result",
         source,
     })? + "\n";
-    let path = case_path(out, result.case.index);
+    let path = case_path(out, k);
     write_atomic(&path, text.as_bytes())
         .map_err(|source| StoreError::Write(WriteError::Io { path, source }))
 }

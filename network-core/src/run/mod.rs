@@ -13,6 +13,10 @@ pub mod relperm;
 
 use crate::engine::state::NO_GANGLION;
 use crate::engine::{Engine, Setup};
+
+/// Event counts by mechanism, as the engine keeps them (part of every
+/// process outcome).
+pub use crate::engine::EventCounts;
 use crate::flow::solver::SolveOptions;
 use crate::flow::{PermOptions, PermeabilityReport, permeability};
 use crate::geometry::Geometry;

@@ -72,7 +72,7 @@ impl SweepRun {
         sweep_store::write_case_list(out, &cases)?;
         let todo = cases
             .iter()
-            .filter(|c| sweep_store::read_case(out, c).is_none())
+            .filter(|c| finished(out, c).is_none())
             .map(|c| c.index)
             .collect();
         Ok(SweepRun {
@@ -134,6 +134,13 @@ impl SweepRun {
     }
 }
 
+/// The finished result of `case` in `out`, if its file exists, parses and
+/// belongs to the same study (a changed study never reuses stale results).
+fn finished(out: &Path, case: &Case) -> Option<CaseResult> {
+    let r: CaseResult = sweep_store::read_case(out, case.index)?;
+    (r.case.study_hash == case.study_hash).then_some(r)
+}
+
 /// Runs one case into `out/cases/`.
 pub fn run_case(study_path: &Path, out: &Path, case: &Case) -> Result<(), SweepError> {
     let study = case.study();
@@ -145,7 +152,7 @@ pub fn run_case(study_path: &Path, out: &Path, case: &Case) -> Result<(), SweepE
     let mut r = run_study(&net.network, &study, &Silent);
     r.network.hash = net.hash;
     let res = CaseResult::from_run(case.clone(), &r);
-    sweep_store::write_case(out, &res)?;
+    sweep_store::write_case(out, case.index, &res)?;
     Ok(())
 }
 
@@ -168,7 +175,7 @@ pub fn collect(out: &Path) -> Result<Collected, SweepError> {
     let mut results = Vec::new();
     let mut missing = Vec::new();
     for c in &cases {
-        match sweep_store::read_case(out, c) {
+        match finished(out, c) {
             Some(r) => results.push(r),
             None => missing.push(c.index),
         }

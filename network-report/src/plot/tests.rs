@@ -1,3 +1,11 @@
+use plotters::prelude::SeriesLabelPosition;
+use plotters::style::RGBColor;
+
+use super::axis::Axis;
+use super::clip::clip_polyline;
+use super::legend::legend_corner;
+use super::prepare::prepare;
+use super::ticks::tick_label;
 use super::*;
 
 fn kr_spec() -> PlotSpec {

@@ -1,14 +1,14 @@
 //! Saturation-function tables of a study run: the first drainage and the
 //! first imbibition with computed relative permeabilities, made monotone
-//! and resampled by [`crate::tables::build_table`], as CSV and as a keyword
-//! include file.
+//! and resampled by [`build_table`], as CSV and as a keyword include file.
 //!
 //! Files (names fixed): `table-drainage.csv`, `table-drainage.inc`,
 //! `table-imbibition.csv`, `table-imbibition.inc`. Each opens with comment
 //! lines (`#` in CSV, `--` in the include file) naming the columns and
 //! units, the source run (network name and hash, study seed, program and
 //! version) and how the end points and monotonicity were handled; both
-//! parsers of [`crate::tables`] skip them.
+//! parsers of [`saturation_tables`](mod@crate::saturation_tables) skip
+//! them.
 //!
 //! The samples of a process are its recorded points where the flow was
 //! solved: `(Sw, krw, krn, Pc)`. A process with fewer than two such points
@@ -18,12 +18,12 @@
 use network_core::run::RunResults;
 use network_core::study::ProcessKind;
 
-use crate::ReportError;
-use crate::figures::process_label;
-use crate::tables::{
+use super::{
     Curve, KeywordTableOptions, Process, SatTable, TableOptions, build_table, write_csv,
     write_keyword_table,
 };
+use crate::error::ReportError;
+use crate::figures::process_label;
 
 /// The tables of `results` with `n_points` rows each, as `(file name,
 /// text)` pairs: for each of the first drainage and the first imbibition

@@ -1,0 +1,108 @@
+//! The HTML report of a study run: the page and its sections, in order.
+//! The sections are built in `inputs` (inputs and network), `results`
+//! (process results, wettability indices, trapped ganglia) and `fits` (end
+//! points and fitted models); figures and warnings are here.
+//!
+//! The types the report reads from `network_core` are imported here, once,
+//! for all its sections.
+
+use network_core::fit::FitQuality;
+use network_core::run::EventCounts;
+use network_core::run::RunResults;
+use network_core::run::end_points::Fitted;
+use network_core::study::{ProcessKind, StopAt};
+
+use super::{Html, Page, caution, figure, input_number, list, number, paragraph};
+use crate::figures::{Figure, process_label};
+use crate::plot::render_svg;
+
+use self::fits::fits;
+use self::inputs::{inputs, network};
+use self::results::{ganglia, processes, wettability};
+
+mod fits;
+mod inputs;
+mod results;
+
+fn opt(v: Option<f64>, sig: usize) -> String {
+    v.map_or_else(|| "n/a".to_string(), |x| number(x, sig))
+}
+
+fn kpa(v: f64) -> String {
+    number(v / 1.0e3, 4)
+}
+
+fn yes_no(b: bool) -> String {
+    if b { "yes" } else { "no" }.to_string()
+}
+
+fn angle_range(r: [f64; 2]) -> String {
+    format!("{}–{}°", input_number(r[0]), input_number(r[1]))
+}
+
+/// The HTML report of a run (see the [module docs](super)), with every
+/// figure of `figures` drawn inline as SVG. A figure that cannot be drawn
+/// is replaced by a visible note with the reason.
+pub fn run_report(results: &RunResults, figures: &[Figure]) -> String {
+    let r = results;
+    let title = match &r.study.title {
+        Some(t) if !t.trim().is_empty() => t.clone(),
+        _ => format!("Pore-network study: {}", r.network.name),
+    };
+    let mut page = Page::new(&title);
+    page.subtitle(&format!(
+        "Network {} · {} {} · seed {}",
+        r.network.name, r.program.name, r.program.version, r.study.seed
+    ));
+    page.lead(caution());
+    page.section("Inputs", inputs(r));
+    page.section("Network", network(r));
+    page.section("Process results", processes(r));
+    page.section("End points and fitted models", fits(r));
+    page.section("Wettability indices", wettability(r));
+    page.section("Trapped ganglia", ganglia(r));
+    page.section("Figures", figures_html(figures));
+    page.section("Warnings", warnings(r));
+    page.footer(&format!(
+        "Written by {} {} from network \"{}\" (hash {}). Model estimates; see the caution at the top.",
+        r.program.name,
+        r.program.version,
+        r.network.name,
+        if r.network.hash.is_empty() {
+            "not recorded"
+        } else {
+            &r.network.hash
+        }
+    ));
+    page.render()
+}
+
+fn figures_html(figures: &[Figure]) -> Html {
+    if figures.is_empty() {
+        return paragraph("No figures: the run recorded no curves.");
+    }
+    figures
+        .iter()
+        .enumerate()
+        .map(|(k, f)| match render_svg(&f.spec) {
+            Ok(svg) => figure(
+                &svg,
+                &format!("Figure {}. {} ({}.svg)", k + 1, f.caption, f.name),
+            ),
+            Err(e) => Html::element(
+                "p",
+                Some("warning"),
+                Html::text(&format!("Figure \"{}\" could not be drawn: {e}", f.title)),
+            ),
+        })
+        .collect()
+}
+
+fn warnings(r: &RunResults) -> Html {
+    if r.warnings.is_empty() {
+        return paragraph("No warnings.");
+    }
+    let mut h = list(&r.warnings);
+    h.0 = h.0.replacen("<ul>", "<ul class=\"warnings\">", 1);
+    h
+}
