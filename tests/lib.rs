@@ -1,4 +1,2 @@
-//! Workspace-level integration tests of Ganglion: relative permeability
-//! against analytic bundles of tubes, the bundled sample networks and demo
-//! studies, and sweep determinism. The tests live in the files named in
-//! `Cargo.toml`; this library is empty.
+//! Workspace-level integration tests of Ganglion. The tests live in
+//! `it/` (one binary, one module per area); this library is empty.

@@ -1,9 +1,7 @@
 //! Imbibition on networks: Roof's criterion, trapping trends with contact
 //! angle and initial saturation, magnitudes, conservation and determinism.
-#![allow(clippy::needless_range_loop)]
 
-mod support;
-
+use crate::networks::{Elem, chain};
 use network_core::engine::{Engine, Setup};
 use network_core::fit::{LandMethod, LandNormalisation, fit_land};
 use network_core::generate::{LatticeSpec, generate};
@@ -17,7 +15,6 @@ use network_core::study::{
 };
 use network_core::wettability::ContactAngles;
 use network_core::{Boundary, Network};
-use support::{Elem, chain};
 
 const SIGMA: f64 = 0.03;
 

@@ -1,8 +1,6 @@
 //! Random resistor networks against effective-medium theory.
 
-mod common;
-
-use common::{Lattice, uniform};
+use crate::networks::{Lattice, uniform};
 use network_core::flow::{PressureSystem, SolveOptions};
 use network_core::{Boundary, Network};
 

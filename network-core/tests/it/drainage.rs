@@ -1,9 +1,7 @@
 //! Primary drainage on networks: invasion order, percolation threshold,
 //! saturation accounting and determinism.
-#![allow(clippy::needless_range_loop)]
 
-mod support;
-
+use crate::networks::{Elem, chain};
 use network_core::Network;
 use network_core::engine::{Engine, Setup};
 use network_core::generate::{LatticeSpec, ShapeMix, WeibullRange, generate};
@@ -13,7 +11,6 @@ use network_core::progress::Silent;
 use network_core::run::process::run_process;
 use network_core::study::{MechanismOptions, OutletRule, ProcessKind, StopAt, WettabilitySpec};
 use network_core::wettability::ContactAngles;
-use support::{Elem, chain};
 
 const SIGMA: f64 = 0.03;
 

@@ -1,11 +1,9 @@
 //! Single-phase flow: conductances, the pressure solve, permeability and
 //! formation factor against analytic and published values.
 
-mod common;
-
 use std::f64::consts::PI;
 
-use common::{Lattice, log_uniform_radius, uniform};
+use crate::networks::{Lattice, log_uniform_radius, uniform};
 use network_core::flow::{
     AmgOptions, FlowError, Method, PermOptions, Preconditioner, PressureSystem, Smoother,
     SolveError, SolveOptions, conduit_conductances, element_hydraulic_conductances,

@@ -1,0 +1,14 @@
+//! Integration tests of network-core, one binary: one module per area, and
+//! the small test networks they share in [`networks`].
+
+// Index loops over parallel columns read better than zipped iterators.
+#![allow(clippy::needless_range_loop)]
+
+mod accounting;
+mod drainage;
+mod flow;
+mod flow_emt;
+mod generate;
+mod imbibition;
+mod io;
+mod networks;
