@@ -151,6 +151,8 @@ impl Corners {
 
 #[cfg(test)]
 mod tests {
+    use std::f64::consts::{FRAC_PI_2, PI};
+
     use super::*;
 
     #[test]

@@ -139,8 +139,7 @@ fn root_exports(lib: &str) -> BTreeMap<String, ModPath> {
             continue;
         };
         let rest = rest.trim_start_matches("crate::");
-        for (prefix, names) in expand(rest) {
-            let _ = names;
+        for prefix in expand(rest) {
             if let Some((last, module)) = prefix.split_last() {
                 map.insert(last.clone(), module.to_vec());
             }
@@ -150,14 +149,14 @@ fn root_exports(lib: &str) -> BTreeMap<String, ModPath> {
 }
 
 /// Expands one use tree (`a::{b, c::{d, e}}`) into full paths.
-fn expand(tree: &str) -> Vec<(ModPath, ())> {
+fn expand(tree: &str) -> Vec<ModPath> {
     let tree: String = tree.chars().filter(|c| !c.is_whitespace()).collect();
     let mut out = Vec::new();
     expand_into(&tree, &mut Vec::new(), &mut out);
     out
 }
 
-fn expand_into(tree: &str, prefix: &mut ModPath, out: &mut Vec<(ModPath, ())>) {
+fn expand_into(tree: &str, prefix: &mut ModPath, out: &mut Vec<ModPath>) {
     if let Some(open) = tree.find('{') {
         let head: ModPath = tree[..open]
             .split("::")
@@ -179,7 +178,7 @@ fn expand_into(tree: &str, prefix: &mut ModPath, out: &mut Vec<(ModPath, ())>) {
                 .filter(|s| !s.is_empty() && *s != "self" && *s != "*")
                 .map(str::to_string),
         );
-        out.push((p, ()));
+        out.push(p);
     }
 }
 
@@ -242,7 +241,7 @@ fn paths_in(code: &str) -> Vec<(String, ModPath)> {
                 base.push_str("::super");
                 tree = r;
             }
-            for (p, ()) in expand(tree) {
+            for p in expand(tree) {
                 found.push((base.clone(), p));
             }
         }
@@ -253,10 +252,10 @@ fn paths_in(code: &str) -> Vec<(String, ModPath)> {
 /// The module a path names: the longest prefix that is a module, with root
 /// re-exports followed.
 fn resolve(krate: &Crate, path: &[String]) -> Option<ModPath> {
-    if path.len() == 1 {
-        if let Some(m) = krate.root_exports.get(&path[0]) {
-            return Some(m.clone());
-        }
+    if let [name] = path
+        && let Some(m) = krate.root_exports.get(name)
+    {
+        return Some(m.clone());
     }
     (1..=path.len())
         .rev()
