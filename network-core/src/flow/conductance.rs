@@ -38,8 +38,7 @@ use crate::network::{Element, Network};
 #[inline]
 pub fn hydraulic_conductance(radius: f64, shape_factor: f64, viscosity: f64) -> f64 {
     let k = Shape::from_shape_factor(shape_factor).conductance_factor();
-    let a = area(radius, shape_factor);
-    k * a * a * shape_factor / viscosity
+    crate::capillary::bulk_conductance(k, area(radius, shape_factor), shape_factor, viscosity)
 }
 
 /// [`hydraulic_conductance`] of every element (pores first, then throats),
