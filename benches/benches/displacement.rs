@@ -62,13 +62,8 @@ fn lattice(n: usize) -> Network {
 fn engine<'a>(net: &'a Network, geom: &'a Geometry, study: &Study) -> Engine<'a> {
     let angles = ContactAngles::intrinsic(&study.wettability, net.n_elements(), study.seed);
     let setup = Setup {
-        network: net,
-        geometry: geom,
-        sigma: study.fluids.interfacial_tension_n_per_m,
-        outlet: study.outlet,
         imbibition_faces: ImbibitionFaces::Both,
-        mechanisms: study.mechanisms.clone(),
-        seed: study.seed,
+        ..Setup::of_study(net, geom, study)
     };
     Engine::new(setup, angles)
 }

@@ -89,6 +89,7 @@ pub mod shape;
 pub mod stats;
 pub mod study;
 pub mod sweep;
+pub mod text;
 pub mod wettability;
 
 pub use network::{

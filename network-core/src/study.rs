@@ -151,12 +151,7 @@ struct RawProcess {
 
 /// Turns a byte span into a 1-based line.
 fn line_of(text: &str, span: Range<usize>) -> usize {
-    let end = span.start.min(text.len());
-    text.as_bytes()[..end]
-        .iter()
-        .filter(|&&b| b == b'\n')
-        .count()
-        + 1
+    crate::text::line_at(text, span.start)
 }
 
 struct Checker<'a> {

@@ -116,37 +116,13 @@ impl Engine<'_> {
         // Non-aqueous phase with no path to an exit face is trapped from
         // the start.
         let mut reach = vec![false; n_e];
-        let mut stack: Vec<usize> = (0..self.elements.n_pores())
+        let exits: Vec<usize> = (0..self.elements.n_pores())
             .filter(|&p| self.is_oil_exit(p) && self.conducts_free_oil(p))
             .collect();
-        for &p in &stack {
-            reach[p] = true;
-        }
-        while let Some(x) = stack.pop() {
-            let nb = self.neighbours(x);
-            for n in nb {
-                if !reach[n] && self.conducts_free_oil(n) {
-                    reach[n] = true;
-                    stack.push(n);
-                }
-            }
-        }
+        self.flood(&exits, &mut reach, Self::conducts_free_oil);
         for e in 0..n_e {
             if self.conducts_free_oil(e) && !reach[e] {
-                let mut piece = vec![e as u32];
-                reach[e] = true;
-                let mut k = 0;
-                while k < piece.len() {
-                    let x = piece[k] as usize;
-                    k += 1;
-                    let nb = self.neighbours(x);
-                    for n in nb {
-                        if !reach[n] && self.conducts_free_oil(n) {
-                            reach[n] = true;
-                            piece.push(n as u32);
-                        }
-                    }
-                }
+                let piece = self.flood(&[e], &mut reach, Self::conducts_free_oil);
                 self.mark_oil_trapped(&piece);
             }
         }

@@ -29,7 +29,7 @@ use serde::{Deserialize, Serialize};
 use crate::capillary::Section;
 use crate::geometry::Geometry;
 use crate::network::{Boundary, Element, Elements, Network};
-use crate::params::{ImbibitionFaces, MechanismOptions, OutletRule};
+use crate::params::{ImbibitionFaces, MechanismOptions, OutletRule, Study};
 use crate::wettability::ContactAngles;
 
 use queue::{Order, ThresholdQueue};
@@ -173,7 +173,29 @@ pub struct Engine<'a> {
     resolved_total: f64,
 }
 
+impl<'a> Setup<'a> {
+    /// The engine inputs a study asks for on `network` with its `geometry`.
+    pub fn of_study(network: &'a Network, geometry: &'a Geometry, study: &Study) -> Setup<'a> {
+        Setup {
+            network,
+            geometry,
+            sigma: study.fluids.interfacial_tension_n_per_m,
+            outlet: study.outlet,
+            imbibition_faces: study.imbibition_faces,
+            mechanisms: study.mechanisms.clone(),
+            seed: study.seed,
+        }
+    }
+}
+
 impl<'a> Engine<'a> {
+    /// A fully water-saturated engine for `study`, with the study's
+    /// intrinsic contact angles (seeded).
+    pub fn for_study(network: &'a Network, geometry: &'a Geometry, study: &Study) -> Engine<'a> {
+        let angles = ContactAngles::intrinsic(&study.wettability, network.n_elements(), study.seed);
+        Engine::new(Setup::of_study(network, geometry, study), angles)
+    }
+
     /// A fully water-saturated engine.
     pub fn new(setup: Setup<'a>, angles: ContactAngles) -> Engine<'a> {
         let net = setup.network;
@@ -388,6 +410,35 @@ impl<'a> Engine<'a> {
             &g.radius,
             self.setup.seed,
         );
+    }
+
+    /// Breadth-first flood from `seeds` through the elements for which
+    /// `through` holds: marks them in `seen` (seeds included, which must
+    /// not be marked yet) and returns them in visiting order. The
+    /// whole-network floods at the start of a process use it; the per-event
+    /// searches are the bounded [`trapping::SplitSearch`].
+    fn flood(
+        &self,
+        seeds: &[usize],
+        seen: &mut [bool],
+        through: impl Fn(&Self, usize) -> bool,
+    ) -> Vec<u32> {
+        let mut found: Vec<u32> = seeds.iter().map(|&e| e as u32).collect();
+        for &e in seeds {
+            seen[e] = true;
+        }
+        let mut k = 0;
+        while k < found.len() {
+            let x = found[k] as usize;
+            k += 1;
+            self.for_each_neighbour(x, |n| {
+                if !seen[n] && through(self, n) {
+                    seen[n] = true;
+                    found.push(n as u32);
+                }
+            });
+        }
+        found
     }
 
     fn new_ganglion(&mut self) -> u32 {

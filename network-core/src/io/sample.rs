@@ -53,10 +53,7 @@ impl Sample {
 }
 
 fn line_at(text: &str, offset: usize) -> u64 {
-    1 + text.as_bytes()[..offset.min(text.len())]
-        .iter()
-        .filter(|&&b| b == b'\n')
-        .count() as u64
+    crate::text::line_at(text, offset) as u64
 }
 
 /// Parses `network.toml`; `file` names it in violations.

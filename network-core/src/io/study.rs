@@ -104,9 +104,7 @@ pub fn read_lattice_spec(path: &Path) -> Result<LatticeSpec, StudyInputError> {
     let text = std::fs::read_to_string(path)
         .map_err(|e| spec_err(None, format!("cannot read the file: {e}")))?;
     toml::from_str(&text).map_err(|e| {
-        let line = e
-            .span()
-            .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1);
+        let line = e.span().map(|s| crate::text::line_at(&text, s.start));
         spec_err(line, e.message().trim().to_string())
     })
 }

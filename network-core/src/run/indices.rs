@@ -94,6 +94,42 @@ pub fn usbm(imb_pc: &[f64], imb_sw: &[f64], dr_pc: &[f64], dr_sw: &[f64]) -> f64
     }
 }
 
+/// The wettability indices of a run's processes: Amott water index from the
+/// first imbibition (process 2), Amott oil index, Amott–Harvey and USBM when
+/// a secondary drainage (process 3) followed; `None` without an imbibition.
+pub fn of_cycle(outcomes: &[super::process::ProcessOutcome]) -> Option<WettabilityIndices> {
+    let curve = |o: &super::process::ProcessOutcome| -> (Vec<f64>, Vec<f64>) {
+        (
+            o.points.iter().map(|p| p.pc_pa).collect(),
+            o.points.iter().map(|p| p.saturation.sw).collect(),
+        )
+    };
+    match outcomes {
+        [_, imb, dra, ..] => {
+            let (ip, is) = curve(imb);
+            let (dp, ds) = curve(dra);
+            let iw = amott_water(&ip, &is);
+            let io = amott_oil(&dp, &ds);
+            Some(WettabilityIndices {
+                amott_water: iw,
+                amott_oil: io,
+                amott_harvey: iw - io,
+                usbm: usbm(&ip, &is, &dp, &ds),
+            })
+        }
+        [_, imb] => {
+            let (ip, is) = curve(imb);
+            Some(WettabilityIndices {
+                amott_water: amott_water(&ip, &is),
+                amott_oil: f64::NAN,
+                amott_harvey: f64::NAN,
+                usbm: f64::NAN,
+            })
+        }
+        _ => None,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

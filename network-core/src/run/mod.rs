@@ -11,8 +11,8 @@ pub mod indices;
 pub mod process;
 pub mod relperm;
 
+use crate::engine::Engine;
 use crate::engine::state::NO_GANGLION;
-use crate::engine::{Engine, Setup};
 
 /// Event counts by mechanism, as the engine keeps them (part of every
 /// process outcome).
@@ -193,17 +193,7 @@ pub struct RunResults {
 /// Runs every process of a study on a network.
 pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> RunResults {
     let geometry = Geometry::new(network, study.seed);
-    let angles = ContactAngles::intrinsic(&study.wettability, network.n_elements(), study.seed);
-    let setup = Setup {
-        network,
-        geometry: &geometry,
-        sigma: study.fluids.interfacial_tension_n_per_m,
-        outlet: study.outlet,
-        imbibition_faces: study.imbibition_faces,
-        mechanisms: study.mechanisms.clone(),
-        seed: study.seed,
-    };
-    let mut engine = Engine::new(setup, angles);
+    let mut engine = Engine::for_study(network, &geometry, study);
     let mut outcomes = Vec::new();
     let mut end_states = Vec::new();
     let mut warnings = Vec::new();
@@ -212,36 +202,7 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
     let mut sn_end = None;
     let mut ganglia = None;
     let axis = study.flow.axis.unwrap_or(network.info().flow_axis);
-    let solve = SolveOptions {
-        tolerance: study.flow.solver_tolerance,
-        ..SolveOptions::default()
-    };
-    let single_phase = match permeability(
-        network,
-        axis,
-        &PermOptions {
-            solve: solve.clone(),
-            brine_conductivity: study.fluids.water_conductivity_s_per_m,
-            clay_tortuosity: study.flow.clay_tortuosity,
-        },
-    ) {
-        Ok(r) => Some(r),
-        Err(e) => {
-            warnings.push(format!("single-phase flow: {e}"));
-            None
-        }
-    };
-    let mut relperm = if study.flow.relative_permeability && single_phase.is_some() {
-        match RelpermSolver::new(network, axis, solve, study.flow.clay_tortuosity) {
-            Ok(r) => Some(r),
-            Err(e) => {
-                warnings.push(format!("relative permeability skipped: {e}"));
-                None
-            }
-        }
-    } else {
-        None
-    };
+    let (single_phase, mut relperm) = flow_references(network, study, axis, &mut warnings);
     for (i, p) in study.processes.iter().enumerate() {
         if p.kind == ProcessKind::Imbibition && i == 1 {
             engine.alter_wettability(&study.wettability);
@@ -256,35 +217,9 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
             &mut |_, _| {},
         );
         if let Some(rp) = relperm.as_mut() {
-            // Second, identical pass from the same start, solving for flow
-            // at the points spaced evenly in saturation.
-            let chosen = kr_selection(&out.points, p.kr_points);
             engine.restore(before);
-            progress.start("flow solves", chosen.len() as u64);
-            let mut failures = Vec::new();
-            let mut flows: Vec<((u64, u64), FlowPoint)> = Vec::new();
-            let again = run_process_observed(
-                &mut engine,
-                p.kind,
-                p.stop,
-                p.pc_steps,
-                &crate::progress::Silent,
-                &mut |pt, eng| {
-                    if chosen.contains(&key(pt)) && !flows.iter().any(|(k, _)| *k == key(pt)) {
-                        match rp.point(eng) {
-                            Ok(f) => flows.push((key(pt), f)),
-                            Err(e) => failures.push(e.to_string()),
-                        }
-                        progress.advance(1);
-                    }
-                },
-            );
-            progress.finish();
-            debug_assert_eq!(again.points.len(), out.points.len());
+            let (again, failures) = rerun_with_flow(&mut engine, p, &out.points, rp, progress);
             out = again;
-            for pt in out.points.iter_mut() {
-                pt.flow = flows.iter().find(|(k, _)| *k == key(pt)).map(|(_, f)| *f);
-            }
             if let Some(f) = failures.first() {
                 warnings.push(format!(
                     "process {}: {} flow solve(s) failed, first: {f}",
@@ -321,29 +256,7 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         });
         outcomes.push(out);
     }
-    let wettability_indices = if outcomes.len() >= 3 {
-        let (ip, is) = curve(&outcomes[1]);
-        let (dp, ds) = curve(&outcomes[2]);
-        let iw = indices::amott_water(&ip, &is);
-        let io = indices::amott_oil(&dp, &ds);
-        Some(WettabilityIndices {
-            amott_water: iw,
-            amott_oil: io,
-            amott_harvey: iw - io,
-            usbm: indices::usbm(&ip, &is, &dp, &ds),
-        })
-    } else if outcomes.len() == 2 {
-        let (ip, is) = curve(&outcomes[1]);
-        let iw = indices::amott_water(&ip, &is);
-        Some(WettabilityIndices {
-            amott_water: iw,
-            amott_oil: f64::NAN,
-            amott_harvey: f64::NAN,
-            usbm: f64::NAN,
-        })
-    } else {
-        None
-    };
+    let wettability_indices = indices::of_cycle(&outcomes);
     let processes = outcomes
         .iter()
         .map(|o| ProcessSummary {
@@ -393,6 +306,87 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
     }
 }
 
+/// The single-phase permeability and formation factor of the network, and
+/// the solver of relative permeability and resistivity index when the study
+/// asks for them (each failure becomes a warning and skips what needs it).
+fn flow_references(
+    network: &Network,
+    study: &Study,
+    axis: crate::network::Axis,
+    warnings: &mut Vec<String>,
+) -> (Option<PermeabilityReport>, Option<RelpermSolver>) {
+    let solve = SolveOptions {
+        tolerance: study.flow.solver_tolerance,
+        ..SolveOptions::default()
+    };
+    let single_phase = match permeability(
+        network,
+        axis,
+        &PermOptions {
+            solve: solve.clone(),
+            brine_conductivity: study.fluids.water_conductivity_s_per_m,
+            clay_tortuosity: study.flow.clay_tortuosity,
+        },
+    ) {
+        Ok(r) => Some(r),
+        Err(e) => {
+            warnings.push(format!("single-phase flow: {e}"));
+            None
+        }
+    };
+    let relperm = if study.flow.relative_permeability && single_phase.is_some() {
+        match RelpermSolver::new(network, axis, solve, study.flow.clay_tortuosity) {
+            Ok(r) => Some(r),
+            Err(e) => {
+                warnings.push(format!("relative permeability skipped: {e}"));
+                None
+            }
+        }
+    } else {
+        None
+    };
+    (single_phase, relperm)
+}
+
+/// The second, identical pass of a process from the same start, solving
+/// for flow at the points of the first pass (`first`) spaced evenly in
+/// saturation. Returns the outcome with `flow` filled at those points, and
+/// the messages of the solves that failed.
+fn rerun_with_flow(
+    engine: &mut Engine<'_>,
+    p: &crate::params::Process,
+    first: &[Point],
+    rp: &mut RelpermSolver,
+    progress: &dyn Progress,
+) -> (ProcessOutcome, Vec<String>) {
+    let chosen = kr_selection(first, p.kr_points);
+    progress.start("flow solves", chosen.len() as u64);
+    let mut failures = Vec::new();
+    let mut flows: Vec<((u64, u64), FlowPoint)> = Vec::new();
+    let mut out = run_process_observed(
+        engine,
+        p.kind,
+        p.stop,
+        p.pc_steps,
+        &crate::progress::Silent,
+        &mut |pt, eng| {
+            if chosen.contains(&key(pt)) && !flows.iter().any(|(k, _)| *k == key(pt)) {
+                match rp.point(eng) {
+                    Ok(f) => flows.push((key(pt), f)),
+                    Err(e) => failures.push(e.to_string()),
+                }
+                progress.advance(1);
+            }
+        },
+    );
+    progress.finish();
+    debug_assert_eq!(out.points.len(), first.len());
+    for pt in out.points.iter_mut() {
+        pt.flow = flows.iter().find(|(k, _)| *k == key(pt)).map(|(_, f)| *f);
+    }
+    (out, failures)
+}
+
 fn key(p: &Point) -> (u64, u64) {
     (p.events, p.pc_pa.to_bits())
 }
@@ -426,13 +420,6 @@ fn kr_selection(points: &[Point], n: usize) -> BTreeSet<(u64, u64)> {
         out.insert(key(best));
     }
     out
-}
-
-fn curve(o: &ProcessOutcome) -> (Vec<f64>, Vec<f64>) {
-    (
-        o.points.iter().map(|p| p.pc_pa).collect(),
-        o.points.iter().map(|p| p.saturation.sw).collect(),
-    )
 }
 
 /// The trapped ganglia of the engine's current state.

@@ -159,9 +159,7 @@ impl SweepStudy {
         let mut base: toml::Table = text.parse().map_err(|e: toml::de::Error| {
             StudyErrors(vec![StudyError {
                 key: String::new(),
-                line: e
-                    .span()
-                    .map(|s| text[..s.start.min(text.len())].matches('\n').count() + 1),
+                line: e.span().map(|s| crate::text::line_at(text, s.start)),
                 message: e.message().trim().to_string(),
             }])
         })?;

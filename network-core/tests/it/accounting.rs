@@ -30,17 +30,13 @@ fn check(
     ))
     .unwrap();
     let geom = Geometry::new(&net, 2);
-    let mut mech = study.mechanisms.clone();
-    mech.snap_off = snap_off;
-    let setup = Setup {
-        network: &net,
-        geometry: &geom,
+    let mut setup = Setup {
         sigma: 0.03,
-        outlet: study.outlet,
         imbibition_faces: faces,
-        mechanisms: mech,
         seed: 2,
+        ..Setup::of_study(&net, &geom, &study)
     };
+    setup.mechanisms.snap_off = snap_off;
     let angles = ContactAngles::intrinsic(&study.wettability, net.n_elements(), 2);
     let mut eng = Engine::new(setup, angles);
     let mut checked = 0usize;
