@@ -16,8 +16,8 @@ use std::time::Instant;
 
 use network_core::connectivity::Components;
 use network_core::flow::{
-    AmgOptions, FlowSolution, Method, Preconditioner, PressureSystem, Smoother, SolveOptions,
-    conduit_conductances, element_hydraulic_conductances,
+    AmgOptions, FlowSolution, Method, Preconditioner, PressureSystem, Smoother, SolveInput,
+    SolveOptions, conduit_conductances, element_hydraulic_conductances,
 };
 use network_core::geometry::{G_CIRCLE, G_SQUARE};
 use network_core::numeric::unit_hash;
@@ -239,28 +239,52 @@ fn main() {
             };
             let mut sys = PressureSystem::new(&net);
             let (cold, t_cold, c_cold) = timed(&mut || {
-                sys.solve(&conduit, &active, &inlet, &outlet, 1.0, 0.0, None, &opts)
-                    .expect("cold solve")
+                sys.solve(
+                    &SolveInput {
+                        conduit_g: &conduit,
+                        active: &active,
+                        inlet: &inlet,
+                        outlet: &outlet,
+                        p_in: 1.0,
+                        p_out: 0.0,
+                        warm_start: None,
+                    },
+                    &opts,
+                )
+                .expect("cold solve")
             });
             let sys_mb = sys.heap_bytes() as f64 / 1e6;
             let hwm_one = peak_rss_mb();
             let (warm, t_warm, c_warm) = timed(&mut || {
                 sys.solve(
-                    &changed,
-                    &active,
-                    &inlet,
-                    &outlet,
-                    1.0,
-                    0.0,
-                    Some(&cold.pressure),
+                    &SolveInput {
+                        conduit_g: &changed,
+                        active: &active,
+                        inlet: &inlet,
+                        outlet: &outlet,
+                        p_in: 1.0,
+                        p_out: 0.0,
+                        warm_start: Some(&cold.pressure),
+                    },
                     &opts,
                 )
                 .expect("warm solve")
             });
             let mut sys2 = PressureSystem::new(&net);
             let (cold2, t_cold2, c_cold2) = timed(&mut || {
-                sys2.solve(&changed, &active, &inlet, &outlet, 1.0, 0.0, None, &opts)
-                    .expect("cold solve of the changed system")
+                sys2.solve(
+                    &SolveInput {
+                        conduit_g: &changed,
+                        active: &active,
+                        inlet: &inlet,
+                        outlet: &outlet,
+                        p_in: 1.0,
+                        p_out: 0.0,
+                        warm_start: None,
+                    },
+                    &opts,
+                )
+                .expect("cold solve of the changed system")
             });
             drop(sys2);
             assert!(cold.imbalance < 1e-8 && warm.imbalance < 1e-8);

@@ -252,6 +252,243 @@ impl Checker<'_> {
     }
 }
 
+impl Checker<'_> {
+    /// The `[fluids]` table, defaults for what it leaves out.
+    fn fluids(&mut self, raw: Option<RawFluids>) -> Fluids {
+        let d = Fluids::default();
+        match raw {
+            None => d,
+            Some(f) => Fluids {
+                interfacial_tension_n_per_m: self.number(
+                    "fluids.interfacial_tension_n_per_m",
+                    f.interfacial_tension_n_per_m,
+                    d.interfacial_tension_n_per_m,
+                    |x| x > 0.0 && x < 1.0,
+                    "a positive tension below 1 N/m",
+                ),
+                water_viscosity_pa_s: self.number(
+                    "fluids.water_viscosity_pa_s",
+                    f.water_viscosity_pa_s,
+                    d.water_viscosity_pa_s,
+                    |x| x > 0.0,
+                    "positive",
+                ),
+                nonaqueous_viscosity_pa_s: self.number(
+                    "fluids.nonaqueous_viscosity_pa_s",
+                    f.nonaqueous_viscosity_pa_s,
+                    d.nonaqueous_viscosity_pa_s,
+                    |x| x > 0.0,
+                    "positive",
+                ),
+                nonaqueous_label: match f.nonaqueous_label {
+                    None => d.nonaqueous_label,
+                    Some(s) if !s.get_ref().trim().is_empty() && s.get_ref().len() <= 40 => {
+                        s.into_inner()
+                    }
+                    Some(s) => {
+                        self.fail(
+                            "fluids.nonaqueous_label",
+                            Some(s.span()),
+                            "must be a short non-empty name such as \"oil\", \"gas\" or \"CO2\"",
+                        );
+                        d.nonaqueous_label
+                    }
+                },
+                water_conductivity_s_per_m: self.number(
+                    "fluids.water_conductivity_s_per_m",
+                    f.water_conductivity_s_per_m,
+                    d.water_conductivity_s_per_m,
+                    |x| x > 0.0,
+                    "positive",
+                ),
+            },
+        }
+    }
+
+    /// The `[wettability]` table, defaults for what it leaves out.
+    fn wettability(&mut self, raw: Option<RawWettability>) -> WettabilitySpec {
+        let d = WettabilitySpec::default();
+        match raw {
+            None => d,
+            Some(w) => {
+                let rec = self.angle_range(
+                    "wettability.receding_contact_angle_deg",
+                    w.receding_contact_angle_deg,
+                    d.receding_contact_angle_deg,
+                );
+                let adv = self.angle_range(
+                    "wettability.advancing_contact_angle_deg",
+                    w.advancing_contact_angle_deg,
+                    rec,
+                );
+                let ow_adv = self.angle_range(
+                    "wettability.oil_wet_advancing_contact_angle_deg",
+                    w.oil_wet_advancing_contact_angle_deg,
+                    d.oil_wet_advancing_contact_angle_deg,
+                );
+                let ow_rec = self.angle_range(
+                    "wettability.oil_wet_receding_contact_angle_deg",
+                    w.oil_wet_receding_contact_angle_deg,
+                    ow_adv,
+                );
+                WettabilitySpec {
+                    receding_contact_angle_deg: rec,
+                    advancing_contact_angle_deg: adv,
+                    oil_wet_fraction: self.number(
+                        "wettability.oil_wet_fraction",
+                        w.oil_wet_fraction,
+                        0.0,
+                        |x| (0.0..=1.0).contains(&x),
+                        "a fraction in [0, 1]",
+                    ),
+                    oil_wet_selection: w.oil_wet_selection.unwrap_or_default(),
+                    oil_wet_advancing_contact_angle_deg: ow_adv,
+                    oil_wet_receding_contact_angle_deg: ow_rec,
+                }
+            }
+        }
+    }
+
+    /// The `[mechanisms]` table, defaults for what it leaves out.
+    fn mechanisms(&mut self, raw: Option<RawMechanisms>) -> MechanismOptions {
+        let d = MechanismOptions::default();
+        match raw {
+            None => d,
+            Some(m) => MechanismOptions {
+                snap_off: m.snap_off.unwrap_or(d.snap_off),
+                oil_layers: m.oil_layers.unwrap_or(d.oil_layers),
+                cooperative_weights: match m.cooperative_weights {
+                    None => d.cooperative_weights,
+                    Some(s) => {
+                        let span = s.span();
+                        let v = s.into_inner();
+                        if v.is_empty() || v.iter().any(|x| !(x.is_finite() && *x >= 0.0)) {
+                            self.fail(
+                                "mechanisms.cooperative_weights",
+                                Some(span),
+                                "must be a non-empty list of non-negative numbers",
+                            );
+                            d.cooperative_weights
+                        } else {
+                            v
+                        }
+                    }
+                },
+            },
+        }
+    }
+
+    /// The `[flow]` table, defaults for what it leaves out.
+    fn flow(&mut self, raw: Option<RawFlow>) -> FlowSpec {
+        let d = FlowSpec::default();
+        match raw {
+            None => d,
+            Some(f) => FlowSpec {
+                relative_permeability: f.relative_permeability.unwrap_or(d.relative_permeability),
+                axis: f.axis,
+                clay_tortuosity: self.number(
+                    "flow.clay_tortuosity",
+                    f.clay_tortuosity,
+                    d.clay_tortuosity,
+                    |x| x >= 1.0,
+                    "at least 1",
+                ),
+                solver_tolerance: self.number(
+                    "flow.solver_tolerance",
+                    f.solver_tolerance,
+                    d.solver_tolerance,
+                    |x| x > 0.0 && x < 1e-2,
+                    "in (0, 0.01)",
+                ),
+            },
+        }
+    }
+
+    /// The `[[process]]` list: at least one, alternating from drainage.
+    fn processes(&mut self, raw_processes: Vec<Spanned<RawProcess>>) -> Vec<Process> {
+        let mut processes = Vec::new();
+        if raw_processes.is_empty() {
+            self.fail("process", None, "at least one [[process]] is required");
+        }
+        for (i, p) in raw_processes.into_iter().enumerate() {
+            let pspan = p.span();
+            let p = p.into_inner();
+            let key = |k: &str| format!("process[{}].{k}", i + 1);
+            let kind = *p.kind.get_ref();
+            let expected = if i % 2 == 0 {
+                ProcessKind::Drainage
+            } else {
+                ProcessKind::Imbibition
+            };
+            if kind != expected {
+                self.fail(
+                    &key("kind"),
+                    Some(p.kind.span()),
+                    format!(
+                        "process {} must be `{}`: processes alternate, starting with drainage",
+                        i + 1,
+                        expected.as_str()
+                    ),
+                );
+            }
+            let stop = match (p.until_pc_pa, p.until_sw) {
+                (Some(pc), None) => {
+                    let x = *pc.get_ref();
+                    let ok = x.is_finite()
+                        && match kind {
+                            ProcessKind::Drainage => x > 0.0 || i > 0,
+                            ProcessKind::Imbibition => true,
+                        };
+                    if !ok {
+                        self.fail(
+                        &key("until_pc_pa"),
+                        Some(pc.span()),
+                        format!("value {x} must be a finite pressure (positive for primary drainage)"),
+                    );
+                    }
+                    StopAt::Pc(x)
+                }
+                (None, Some(sw)) => {
+                    let x = *sw.get_ref();
+                    if !(x > 0.0 && x < 1.0) {
+                        self.fail(
+                            &key("until_sw"),
+                            Some(sw.span()),
+                            format!("value {x} must lie in (0, 1)"),
+                        );
+                    }
+                    StopAt::Sw(x)
+                }
+                (Some(pc), Some(_)) => {
+                    self.fail(
+                        &key("until_sw"),
+                        Some(pc.span()),
+                        "give either until_pc_pa or until_sw, not both",
+                    );
+                    StopAt::Pc(*pc.get_ref())
+                }
+                (None, None) => {
+                    self.fail(
+                        &key("until_pc_pa"),
+                        Some(pspan),
+                        "one of until_pc_pa or until_sw is required",
+                    );
+                    StopAt::Pc(0.0)
+                }
+            };
+            let pc_steps = self.count(&key("pc_steps"), p.pc_steps, 40, 100_000);
+            let kr_points = self.count(&key("kr_points"), p.kr_points, 20, 10_000);
+            processes.push(Process {
+                kind,
+                stop,
+                pc_steps,
+                kr_points,
+            });
+        }
+        processes
+    }
+}
+
 impl Study {
     /// Parses and validates a study from TOML text, reporting every error
     /// found with its key and line.
@@ -299,98 +536,8 @@ impl Study {
                 1
             }
         };
-        let fluids = {
-            let d = Fluids::default();
-            match raw.fluids {
-                None => d,
-                Some(f) => Fluids {
-                    interfacial_tension_n_per_m: c.number(
-                        "fluids.interfacial_tension_n_per_m",
-                        f.interfacial_tension_n_per_m,
-                        d.interfacial_tension_n_per_m,
-                        |x| x > 0.0 && x < 1.0,
-                        "a positive tension below 1 N/m",
-                    ),
-                    water_viscosity_pa_s: c.number(
-                        "fluids.water_viscosity_pa_s",
-                        f.water_viscosity_pa_s,
-                        d.water_viscosity_pa_s,
-                        |x| x > 0.0,
-                        "positive",
-                    ),
-                    nonaqueous_viscosity_pa_s: c.number(
-                        "fluids.nonaqueous_viscosity_pa_s",
-                        f.nonaqueous_viscosity_pa_s,
-                        d.nonaqueous_viscosity_pa_s,
-                        |x| x > 0.0,
-                        "positive",
-                    ),
-                    nonaqueous_label: match f.nonaqueous_label {
-                        None => d.nonaqueous_label,
-                        Some(s) if !s.get_ref().trim().is_empty() && s.get_ref().len() <= 40 => {
-                            s.into_inner()
-                        }
-                        Some(s) => {
-                            c.fail(
-                                "fluids.nonaqueous_label",
-                                Some(s.span()),
-                                "must be a short non-empty name such as \"oil\", \"gas\" or \"CO2\"",
-                            );
-                            d.nonaqueous_label
-                        }
-                    },
-                    water_conductivity_s_per_m: c.number(
-                        "fluids.water_conductivity_s_per_m",
-                        f.water_conductivity_s_per_m,
-                        d.water_conductivity_s_per_m,
-                        |x| x > 0.0,
-                        "positive",
-                    ),
-                },
-            }
-        };
-        let wettability = {
-            let d = WettabilitySpec::default();
-            match raw.wettability {
-                None => d,
-                Some(w) => {
-                    let rec = c.angle_range(
-                        "wettability.receding_contact_angle_deg",
-                        w.receding_contact_angle_deg,
-                        d.receding_contact_angle_deg,
-                    );
-                    let adv = c.angle_range(
-                        "wettability.advancing_contact_angle_deg",
-                        w.advancing_contact_angle_deg,
-                        rec,
-                    );
-                    let ow_adv = c.angle_range(
-                        "wettability.oil_wet_advancing_contact_angle_deg",
-                        w.oil_wet_advancing_contact_angle_deg,
-                        d.oil_wet_advancing_contact_angle_deg,
-                    );
-                    let ow_rec = c.angle_range(
-                        "wettability.oil_wet_receding_contact_angle_deg",
-                        w.oil_wet_receding_contact_angle_deg,
-                        ow_adv,
-                    );
-                    WettabilitySpec {
-                        receding_contact_angle_deg: rec,
-                        advancing_contact_angle_deg: adv,
-                        oil_wet_fraction: c.number(
-                            "wettability.oil_wet_fraction",
-                            w.oil_wet_fraction,
-                            0.0,
-                            |x| (0.0..=1.0).contains(&x),
-                            "a fraction in [0, 1]",
-                        ),
-                        oil_wet_selection: w.oil_wet_selection.unwrap_or_default(),
-                        oil_wet_advancing_contact_angle_deg: ow_adv,
-                        oil_wet_receding_contact_angle_deg: ow_rec,
-                    }
-                }
-            }
-        };
+        let fluids = c.fluids(raw.fluids);
+        let wettability = c.wettability(raw.wettability);
         let (outlet, imbibition_faces) = match raw.boundary {
             Some(b) => (
                 b.outlet.unwrap_or_default(),
@@ -398,139 +545,9 @@ impl Study {
             ),
             None => Default::default(),
         };
-        let mechanisms = {
-            let d = MechanismOptions::default();
-            match raw.mechanisms {
-                None => d,
-                Some(m) => MechanismOptions {
-                    snap_off: m.snap_off.unwrap_or(d.snap_off),
-                    oil_layers: m.oil_layers.unwrap_or(d.oil_layers),
-                    cooperative_weights: match m.cooperative_weights {
-                        None => d.cooperative_weights,
-                        Some(s) => {
-                            let span = s.span();
-                            let v = s.into_inner();
-                            if v.is_empty() || v.iter().any(|x| !(x.is_finite() && *x >= 0.0)) {
-                                c.fail(
-                                    "mechanisms.cooperative_weights",
-                                    Some(span),
-                                    "must be a non-empty list of non-negative numbers",
-                                );
-                                d.cooperative_weights
-                            } else {
-                                v
-                            }
-                        }
-                    },
-                },
-            }
-        };
-        let flow = {
-            let d = FlowSpec::default();
-            match raw.flow {
-                None => d,
-                Some(f) => FlowSpec {
-                    relative_permeability: f
-                        .relative_permeability
-                        .unwrap_or(d.relative_permeability),
-                    axis: f.axis,
-                    clay_tortuosity: c.number(
-                        "flow.clay_tortuosity",
-                        f.clay_tortuosity,
-                        d.clay_tortuosity,
-                        |x| x >= 1.0,
-                        "at least 1",
-                    ),
-                    solver_tolerance: c.number(
-                        "flow.solver_tolerance",
-                        f.solver_tolerance,
-                        d.solver_tolerance,
-                        |x| x > 0.0 && x < 1e-2,
-                        "in (0, 0.01)",
-                    ),
-                },
-            }
-        };
-        let mut processes = Vec::new();
-        let raw_processes = raw.process.unwrap_or_default();
-        if raw_processes.is_empty() {
-            c.fail("process", None, "at least one [[process]] is required");
-        }
-        for (i, p) in raw_processes.into_iter().enumerate() {
-            let pspan = p.span();
-            let p = p.into_inner();
-            let key = |k: &str| format!("process[{}].{k}", i + 1);
-            let kind = *p.kind.get_ref();
-            let expected = if i % 2 == 0 {
-                ProcessKind::Drainage
-            } else {
-                ProcessKind::Imbibition
-            };
-            if kind != expected {
-                c.fail(
-                    &key("kind"),
-                    Some(p.kind.span()),
-                    format!(
-                        "process {} must be `{}`: processes alternate, starting with drainage",
-                        i + 1,
-                        expected.as_str()
-                    ),
-                );
-            }
-            let stop = match (p.until_pc_pa, p.until_sw) {
-                (Some(pc), None) => {
-                    let x = *pc.get_ref();
-                    let ok = x.is_finite()
-                        && match kind {
-                            ProcessKind::Drainage => x > 0.0 || i > 0,
-                            ProcessKind::Imbibition => true,
-                        };
-                    if !ok {
-                        c.fail(
-                            &key("until_pc_pa"),
-                            Some(pc.span()),
-                            format!("value {x} must be a finite pressure (positive for primary drainage)"),
-                        );
-                    }
-                    StopAt::Pc(x)
-                }
-                (None, Some(sw)) => {
-                    let x = *sw.get_ref();
-                    if !(x > 0.0 && x < 1.0) {
-                        c.fail(
-                            &key("until_sw"),
-                            Some(sw.span()),
-                            format!("value {x} must lie in (0, 1)"),
-                        );
-                    }
-                    StopAt::Sw(x)
-                }
-                (Some(pc), Some(_)) => {
-                    c.fail(
-                        &key("until_sw"),
-                        Some(pc.span()),
-                        "give either until_pc_pa or until_sw, not both",
-                    );
-                    StopAt::Pc(*pc.get_ref())
-                }
-                (None, None) => {
-                    c.fail(
-                        &key("until_pc_pa"),
-                        Some(pspan),
-                        "one of until_pc_pa or until_sw is required",
-                    );
-                    StopAt::Pc(0.0)
-                }
-            };
-            let pc_steps = c.count(&key("pc_steps"), p.pc_steps, 40, 100_000);
-            let kr_points = c.count(&key("kr_points"), p.kr_points, 20, 10_000);
-            processes.push(Process {
-                kind,
-                stop,
-                pc_steps,
-                kr_points,
-            });
-        }
+        let mechanisms = c.mechanisms(raw.mechanisms);
+        let flow = c.flow(raw.flow);
+        let processes = c.processes(raw.process.unwrap_or_default());
         if c.errors.is_empty() {
             Ok(Study {
                 network,

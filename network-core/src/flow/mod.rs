@@ -85,7 +85,7 @@ pub use permeability::{
 };
 pub use solver::{
     AmgOptions, FlowSolution, Method, Preconditioner, PressureSystem, Smoother, SolveError,
-    SolveOptions,
+    SolveInput, SolveOptions,
 };
 
 /// Why a flow computation failed.

@@ -6,7 +6,7 @@ use super::FlowError;
 use super::conductance::{
     conduit_conductances, element_electrical_conductances, element_hydraulic_conductances,
 };
-use super::solver::{PressureSystem, SolveOptions};
+use super::solver::{PressureSystem, SolveInput, SolveOptions};
 use crate::connectivity::{Components, face_masks, sample_length_and_area};
 use crate::{Axis, Network};
 
@@ -162,13 +162,15 @@ pub fn permeability(
     drop(g);
     let flow = system
         .solve(
-            &conduit,
-            &active,
-            &inlet,
-            &outlet,
-            PRESSURE_DROP_PA,
-            0.0,
-            None,
+            &SolveInput {
+                conduit_g: &conduit,
+                active: &active,
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: PRESSURE_DROP_PA,
+                p_out: 0.0,
+                warm_start: None,
+            },
             &opts.solve,
         )
         .map_err(FlowError::Hydraulic)?;
@@ -186,13 +188,15 @@ pub fn permeability(
     };
     let current = system
         .solve(
-            &conduit,
-            &active,
-            &inlet,
-            &outlet,
-            1.0,
-            0.0,
-            None,
+            &SolveInput {
+                conduit_g: &conduit,
+                active: &active,
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
             &electrical_opts,
         )
         .map_err(FlowError::Electrical)?;

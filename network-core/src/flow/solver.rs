@@ -295,6 +295,29 @@ enum Pcg {
     Slow(usize),
 }
 
+/// What one pressure solve is given: conductances, which pores take part,
+/// and the two faces held at fixed pressures.
+#[derive(Clone, Copy, Debug)]
+pub struct SolveInput<'a> {
+    /// Conduit conductances, one per throat, `≥ 0` (0: no conduit).
+    pub conduit_g: &'a [f64],
+    /// Pores that take part (one per pore).
+    pub active: &'a [bool],
+    /// Inlet face mask (one per pore), held at `p_in`.
+    pub inlet: &'a [bool],
+    /// Outlet face mask (one per pore), held at `p_out`.
+    pub outlet: &'a [bool],
+    /// Inlet pressure, Pa.
+    pub p_in: f64,
+    /// Outlet pressure, Pa.
+    pub p_out: f64,
+    /// Initial guess of the unknowns, one value per pore (e.g. the previous
+    /// [`FlowSolution::pressure`]); non-finite entries (excluded pores of an
+    /// earlier solve) start at `(p_in + p_out)/2`. Without it CG starts
+    /// from zero.
+    pub warm_start: Option<&'a [f64]>,
+}
+
 impl PressureSystem {
     /// Copies the adjacency pattern of `network` and allocates the work
     /// vectors.
@@ -348,30 +371,25 @@ impl PressureSystem {
             + self.amg.as_ref().map_or(0, |k| k.amg.heap_bytes())
     }
 
-    /// Solves for the pressures with conduit conductances `conduit_g` (one
-    /// per throat, `≥ 0`; 0 means no conduit), the `active` pore mask, the
-    /// `inlet` and `outlet` face masks held at `p_in` and `p_out`.
-    ///
-    /// `warm_start` (one value per pore, e.g. the previous
-    /// [`FlowSolution::pressure`]) is the initial guess of the unknowns;
-    /// non-finite entries (excluded pores of an earlier solve) start at
-    /// `(p_in + p_out)/2`. Without it CG starts from zero.
+    /// Solves for the pressures of one [`SolveInput`] (see its fields).
     ///
     /// Errors: [`SolveError::LengthMismatch`], [`SolveError::NonFinite`],
     /// [`SolveError::NegativeConductance`], [`SolveError::FaceOverlap`],
     /// [`SolveError::NoSpanningCluster`], [`SolveError::NoConvergence`].
-    #[allow(clippy::too_many_arguments)]
     pub fn solve(
         &mut self,
-        conduit_g: &[f64],
-        active: &[bool],
-        inlet: &[bool],
-        outlet: &[bool],
-        p_in: f64,
-        p_out: f64,
-        warm_start: Option<&[f64]>,
+        input: &SolveInput<'_>,
         opts: &SolveOptions,
     ) -> Result<FlowSolution, SolveError> {
+        let SolveInput {
+            conduit_g,
+            active,
+            inlet,
+            outlet,
+            p_in,
+            p_out,
+            warm_start,
+        } = *input;
         let n = self.n_pores();
         check_len("conduit_g", conduit_g.len(), self.n_throats)?;
         check_len("active", active.len(), n)?;
@@ -941,7 +959,18 @@ mod tests {
         let dp = 3.0;
         let solve = |tol: f64| {
             PressureSystem::new(&net)
-                .solve(&c, &active, &inlet, &outlet, dp, 0.0, None, &tolerance(tol))
+                .solve(
+                    &SolveInput {
+                        conduit_g: &c,
+                        active: &active,
+                        inlet: &inlet,
+                        outlet: &outlet,
+                        p_in: dp,
+                        p_out: 0.0,
+                        warm_start: None,
+                    },
+                    &tolerance(tol),
+                )
                 .unwrap()
         };
         let exact = solve(1e-13);
@@ -1001,23 +1030,47 @@ mod tests {
         let opts = tolerance(1e-8);
         let mut sys = PressureSystem::new(&net);
         let first = sys
-            .solve(&c, &active, &inlet, &outlet, 1.0, 0.0, None, &opts)
+            .solve(
+                &SolveInput {
+                    conduit_g: &c,
+                    active: &active,
+                    inlet: &inlet,
+                    outlet: &outlet,
+                    p_in: 1.0,
+                    p_out: 0.0,
+                    warm_start: None,
+                },
+                &opts,
+            )
             .unwrap();
         assert!(first.preconditioner_built);
         let second = sys
             .solve(
-                &c2,
-                &active,
-                &inlet,
-                &outlet,
-                1.0,
-                0.0,
-                Some(&first.pressure),
+                &SolveInput {
+                    conduit_g: &c2,
+                    active: &active,
+                    inlet: &inlet,
+                    outlet: &outlet,
+                    p_in: 1.0,
+                    p_out: 0.0,
+                    warm_start: Some(&first.pressure),
+                },
                 &opts,
             )
             .unwrap();
         let cold = PressureSystem::new(&net)
-            .solve(&c2, &active, &inlet, &outlet, 1.0, 0.0, None, &opts)
+            .solve(
+                &SolveInput {
+                    conduit_g: &c2,
+                    active: &active,
+                    inlet: &inlet,
+                    outlet: &outlet,
+                    p_in: 1.0,
+                    p_out: 0.0,
+                    warm_start: None,
+                },
+                &opts,
+            )
             .unwrap();
         assert_eq!(second.n_unknowns, first.n_unknowns);
         assert!(second.preconditioner_built);

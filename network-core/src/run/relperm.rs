@@ -28,7 +28,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::capillary;
 use crate::engine::Engine;
-use crate::flow::solver::{FlowSolution, PressureSystem, SolveError, SolveOptions};
+use crate::flow::solver::{FlowSolution, PressureSystem, SolveError, SolveInput, SolveOptions};
 use crate::flow::{self, FlowError, conduit_conductances, element_clay_areas};
 use crate::geometry::Shape;
 use crate::network::{Axis, Network};
@@ -305,13 +305,15 @@ impl RelpermSolver {
             Which::Electric => &mut self.electric,
         };
         match self.system.solve(
-            &phase.conduit,
-            &self.active,
-            &self.inlet,
-            &self.outlet,
-            1.0,
-            0.0,
-            phase.warm.as_deref(),
+            &SolveInput {
+                conduit_g: &phase.conduit,
+                active: &self.active,
+                inlet: &self.inlet,
+                outlet: &self.outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: phase.warm.as_deref(),
+            },
             &self.opts,
         ) {
             Ok(sol) => {

@@ -6,7 +6,7 @@ use std::f64::consts::PI;
 use crate::networks::{Lattice, log_uniform_radius, uniform};
 use network_core::flow::{
     AmgOptions, FlowError, Method, PermOptions, Preconditioner, PressureSystem, Smoother,
-    SolveError, SolveOptions, conduit_conductances, element_hydraulic_conductances,
+    SolveError, SolveInput, SolveOptions, conduit_conductances, element_hydraulic_conductances,
     hydraulic_conductance, permeability,
 };
 use network_core::geometry::{G_CIRCLE, G_EQUILATERAL, G_SQUARE};
@@ -292,13 +292,15 @@ fn dead_end_cluster_is_excluded_and_counted() {
     let mut sys = PressureSystem::new(&net);
     let sol = sys
         .solve(
-            &conduit,
-            &active,
-            &inlet,
-            &outlet,
-            1.0,
-            0.0,
-            None,
+            &SolveInput {
+                conduit_g: &conduit,
+                active: &active,
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
             &SolveOptions::default(),
         )
         .unwrap();
@@ -361,13 +363,15 @@ fn network_without_spanning_cluster_gives_typed_error() {
     let zero = vec![0.0; net2.n_throats()];
     let e = sys
         .solve(
-            &zero,
-            &vec![true; n_p],
-            &inlet,
-            &outlet,
-            1.0,
-            0.0,
-            None,
+            &SolveInput {
+                conduit_g: &zero,
+                active: &vec![true; n_p],
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
             &SolveOptions::default(),
         )
         .unwrap_err();
@@ -388,7 +392,18 @@ fn bad_inputs_give_typed_errors() {
     let mut g = vec![1e-12; net.n_throats()];
     let o = SolveOptions::default();
     let e = sys
-        .solve(&g[1..], &active, &inlet, &outlet, 1.0, 0.0, None, &o)
+        .solve(
+            &SolveInput {
+                conduit_g: &g[1..],
+                active: &active,
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
+            &o,
+        )
         .unwrap_err();
     assert!(matches!(
         e,
@@ -399,7 +414,18 @@ fn bad_inputs_give_typed_errors() {
     ));
     g[7] = f64::NAN;
     let e = sys
-        .solve(&g, &active, &inlet, &outlet, 1.0, 0.0, None, &o)
+        .solve(
+            &SolveInput {
+                conduit_g: &g,
+                active: &active,
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
+            &o,
+        )
         .unwrap_err();
     assert!(matches!(
         e,
@@ -411,7 +437,18 @@ fn bad_inputs_give_typed_errors() {
     ));
     g[7] = -1.0;
     let e = sys
-        .solve(&g, &active, &inlet, &outlet, 1.0, 0.0, None, &o)
+        .solve(
+            &SolveInput {
+                conduit_g: &g,
+                active: &active,
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
+            &o,
+        )
         .unwrap_err();
     assert!(matches!(
         e,
@@ -419,7 +456,18 @@ fn bad_inputs_give_typed_errors() {
     ));
     g[7] = 1e-12;
     let e = sys
-        .solve(&g, &active, &inlet, &outlet, f64::INFINITY, 0.0, None, &o)
+        .solve(
+            &SolveInput {
+                conduit_g: &g,
+                active: &active,
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: f64::INFINITY,
+                p_out: 0.0,
+                warm_start: None,
+            },
+            &o,
+        )
         .unwrap_err();
     assert!(matches!(
         e,
@@ -430,7 +478,18 @@ fn bad_inputs_give_typed_errors() {
     ));
     let both = vec![true; n_p];
     let e = sys
-        .solve(&g, &active, &both, &outlet, 1.0, 0.0, None, &o)
+        .solve(
+            &SolveInput {
+                conduit_g: &g,
+                active: &active,
+                inlet: &both,
+                outlet: &outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
+            &o,
+        )
         .unwrap_err();
     assert!(matches!(e, SolveError::FaceOverlap { .. }));
     // An iteration limit too small to converge.
@@ -444,13 +503,15 @@ fn bad_inputs_give_typed_errors() {
     conduit_conductances(&rnet, &element_hydraulic_conductances(&rnet, MU), &mut rg).unwrap();
     let e = PressureSystem::new(&rnet)
         .solve(
-            &rg,
-            &vec![true; rnet.n_pores()],
-            &ri,
-            &ro,
-            1.0,
-            0.0,
-            None,
+            &SolveInput {
+                conduit_g: &rg,
+                active: &vec![true; rnet.n_pores()],
+                inlet: &ri,
+                outlet: &ro,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
             &few,
         )
         .unwrap_err();
@@ -498,13 +559,15 @@ fn results_are_identical_with_one_and_two_threads() {
                 let c = random_conduits(&net);
                 let sol = PressureSystem::new(&net)
                     .solve(
-                        &c,
-                        &vec![true; net.n_pores()],
-                        &inlet,
-                        &outlet,
-                        2.0,
-                        1.0,
-                        None,
+                        &SolveInput {
+                            conduit_g: &c,
+                            active: &vec![true; net.n_pores()],
+                            inlet: &inlet,
+                            outlet: &outlet,
+                            p_in: 2.0,
+                            p_out: 1.0,
+                            warm_start: None,
+                        },
                         &SolveOptions::default(),
                     )
                     .unwrap();
@@ -603,7 +666,18 @@ fn warm_start_after_small_change_converges_faster_to_same_answer() {
     for opts in [jacobi(), SolveOptions::default()] {
         let mut sys = PressureSystem::new(&net);
         let first = sys
-            .solve(&c, &active, &inlet, &outlet, 1.0, 0.0, None, &opts)
+            .solve(
+                &SolveInput {
+                    conduit_g: &c,
+                    active: &active,
+                    inlet: &inlet,
+                    outlet: &outlet,
+                    p_in: 1.0,
+                    p_out: 0.0,
+                    warm_start: None,
+                },
+                &opts,
+            )
             .unwrap();
         let mut c2 = c.clone();
         for (t, v) in c2.iter_mut().enumerate() {
@@ -613,18 +687,31 @@ fn warm_start_after_small_change_converges_faster_to_same_answer() {
         }
         let warm = sys
             .solve(
-                &c2,
-                &active,
-                &inlet,
-                &outlet,
-                1.0,
-                0.0,
-                Some(&first.pressure),
+                &SolveInput {
+                    conduit_g: &c2,
+                    active: &active,
+                    inlet: &inlet,
+                    outlet: &outlet,
+                    p_in: 1.0,
+                    p_out: 0.0,
+                    warm_start: Some(&first.pressure),
+                },
                 &opts,
             )
             .unwrap();
         let cold = PressureSystem::new(&net)
-            .solve(&c2, &active, &inlet, &outlet, 1.0, 0.0, None, &opts)
+            .solve(
+                &SolveInput {
+                    conduit_g: &c2,
+                    active: &active,
+                    inlet: &inlet,
+                    outlet: &outlet,
+                    p_in: 1.0,
+                    p_out: 0.0,
+                    warm_start: None,
+                },
+                &opts,
+            )
             .unwrap();
         assert!(
             warm.iterations < cold.iterations,

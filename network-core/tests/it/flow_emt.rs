@@ -1,7 +1,7 @@
 //! Random resistor networks against effective-medium theory.
 
 use crate::networks::{Lattice, uniform};
-use network_core::flow::{PressureSystem, SolveOptions};
+use network_core::flow::{PressureSystem, SolveInput, SolveOptions};
 use network_core::{Boundary, Network};
 
 /// Effective bond conductance of a transverse-periodic simple-cubic lattice
@@ -26,13 +26,15 @@ fn lattice_conductance(n: usize, g: impl Fn(usize) -> f64) -> (f64, f64) {
     let conduit: Vec<f64> = (0..net.n_throats()).map(g).collect();
     let sol = PressureSystem::new(&net)
         .solve(
-            &conduit,
-            &vec![true; net.n_pores()],
-            &inlet,
-            &outlet,
-            1.0,
-            0.0,
-            None,
+            &SolveInput {
+                conduit_g: &conduit,
+                active: &vec![true; net.n_pores()],
+                inlet: &inlet,
+                outlet: &outlet,
+                p_in: 1.0,
+                p_out: 0.0,
+                warm_start: None,
+            },
             &SolveOptions::default(),
         )
         .unwrap();
