@@ -70,14 +70,28 @@ pub struct Books {
     trapped_water: f64,
 }
 
+/// Live element: corner coefficient it will add to the sum when its
+/// pending switch happens.
+const SWITCH_COEF: usize = 0;
+/// Live element: its coefficient now in the running sum.
+const SUM_COEF: usize = 1;
+/// Frozen element: its water relative to the bulk baseline.
+const FROZEN_ADJUST: usize = 0;
+/// Frozen element: its trapped oil.
+const FROZEN_OIL: usize = 1;
+/// Frozen element: its trapped water.
+const FROZEN_WATER: usize = 2;
+
 /// The record of one element.
 #[derive(Clone, Copy, Debug)]
 struct Cell {
-    /// `[switch coefficient, coefficient in the running sum, 0]` for live
-    /// elements (coefficients in m: water volume per `(σ/Pc)²`);
-    /// `[water adjustment, trapped oil, trapped water]` volumes (m³) for
-    /// frozen ones.
-    rec: [f64; 3],
+    /// Three numbers whose meaning depends on the regime (one cache line
+    /// per cell is worth the indirection); always indexed through the
+    /// named slots below: [`SWITCH_COEF`] and [`SUM_COEF`] for live
+    /// elements (coefficients in m: water volume per `(σ/Pc)²`),
+    /// [`FROZEN_ADJUST`], [`FROZEN_OIL`] and [`FROZEN_WATER`] volumes (m³)
+    /// for frozen ones.
+    slots: [f64; 3],
     /// Drainage: pressure at which an explicit element switches to the
     /// receding regime (NaN if none).
     switch_pc: f64,
@@ -93,7 +107,7 @@ struct Cell {
 impl Default for Cell {
     fn default() -> Self {
         Cell {
-            rec: [0.0; 3],
+            slots: [0.0; 3],
             switch_pc: f64::NAN,
             generation: 0,
             regime: Regime::Bulk,
@@ -204,22 +218,22 @@ impl Engine<'_> {
         }
         let oil = self.live.state.oil[e];
         let a = &mut self.live.books;
-        let r = a.cell[e].rec;
+        let r = a.cell[e].slots;
         match a.cell[e].regime {
-            Regime::Fast | Regime::Explicit => a.sum_fast -= r[1],
+            Regime::Fast | Regime::Explicit => a.sum_fast -= r[SUM_COEF],
             Regime::Frozen => {
                 if oil {
-                    a.frozen_corner -= r[0];
+                    a.frozen_corner -= r[FROZEN_ADJUST];
                 } else {
-                    a.frozen_layer -= r[0];
+                    a.frozen_layer -= r[FROZEN_ADJUST];
                 }
-                a.trapped_oil -= r[1];
-                a.trapped_water -= r[2];
+                a.trapped_oil -= r[FROZEN_OIL];
+                a.trapped_water -= r[FROZEN_WATER];
             }
             Regime::Bulk => {}
         }
         a.cell[e].regime = Regime::Bulk;
-        a.cell[e].rec = [0.0; 3];
+        a.cell[e].slots = [0.0; 3];
         a.cell[e].switch_pc = f64::NAN;
         a.cell[e].fast_mask = 0;
         a.cell[e].generation = a.cell[e].generation.wrapping_add(1);
@@ -292,7 +306,10 @@ impl Engine<'_> {
             let oil = s.oil[e];
             let a = &mut self.live.books;
             a.cell[e].regime = Regime::Frozen;
-            a.cell[e].rec = [p.adjust, trapped_oil, trapped_water];
+            let slots = &mut a.cell[e].slots;
+            slots[FROZEN_ADJUST] = p.adjust;
+            slots[FROZEN_OIL] = trapped_oil;
+            slots[FROZEN_WATER] = trapped_water;
             if oil {
                 a.frozen_corner += p.adjust;
             } else {
@@ -326,14 +343,14 @@ impl Engine<'_> {
                     // old drainage pressure, then receding.
                     self.set_explicit(e);
                     if fits(pc_max) {
-                        self.live.books.cell[e].rec[0] = c;
+                        self.live.books.cell[e].slots[SWITCH_COEF] = c;
                         self.live.books.cell[e].switch_pc = pc_max;
                         self.push_pending(e, 0, pc_max);
                     }
                 } else if fits(pc) {
                     let a = &mut self.live.books;
                     a.cell[e].regime = Regime::Fast;
-                    a.cell[e].rec[1] = c;
+                    a.cell[e].slots[SUM_COEF] = c;
                     a.sum_fast += c;
                 } else {
                     self.set_explicit(e);
@@ -364,7 +381,7 @@ impl Engine<'_> {
                 );
                 let full = mask == self.wet[e] && self.advancing_is_safe(e);
                 let a = &mut self.live.books;
-                a.cell[e].rec[1] = c;
+                a.cell[e].slots[SUM_COEF] = c;
                 a.sum_fast += c;
                 a.cell[e].fast_mask = mask;
                 if full {
@@ -495,17 +512,17 @@ impl Engine<'_> {
                 let full = (a.cell[e].fast_mask | bit) == self.wet[e] && self.advancing_is_safe(e);
                 let a = &mut self.live.books;
                 a.cell[e].fast_mask |= bit;
-                a.cell[e].rec[1] += c;
+                a.cell[e].slots[SUM_COEF] += c;
                 a.sum_fast += c;
                 if full {
                     a.cell[e].regime = Regime::Fast;
                 }
             } else {
                 let a = &mut self.live.books;
-                let c = a.cell[e].rec[0];
+                let c = a.cell[e].slots[SWITCH_COEF];
                 a.cell[e].switch_pc = f64::NAN;
                 a.cell[e].regime = Regime::Fast;
-                a.cell[e].rec[1] = c;
+                a.cell[e].slots[SUM_COEF] = c;
                 a.sum_fast += c;
             }
         }
@@ -596,7 +613,7 @@ impl Engine<'_> {
                     if a.cell[e].regime != Regime::Explicit {
                         continue;
                     }
-                    let in_sum = a.cell[e].rec[1] * r2;
+                    let in_sum = a.cell[e].slots[SUM_COEF] * r2;
                     let adj = if imbibition
                         && pc > 0.0
                         && st.oil[e]
@@ -610,7 +627,7 @@ impl Engine<'_> {
                         && a.cell[e].switch_pc.is_finite()
                         && pc >= a.cell[e].switch_pc
                     {
-                        a.cell[e].rec[0] * r2
+                        a.cell[e].slots[SWITCH_COEF] * r2
                     } else {
                         self.parts(e).adjust - in_sum
                     };
