@@ -62,8 +62,9 @@ pub struct WettabilitySpec {
     /// Advancing angle range of water-wet elements after drainage
     /// (default: the receding range).
     pub advancing_contact_angle_deg: [f64; 2],
-    /// Fraction of the oil-contacted pores (and, separately, throats) that
-    /// become oil-wet after drainage (default 0).
+    /// Fraction of the oil-contacted pores that become oil-wet after
+    /// drainage (default 0); a contacted throat turns oil-wet when both its
+    /// pores did (see [`crate::wettability::ContactAngles::alter`]).
     pub oil_wet_fraction: f64,
     /// Which contacted elements become oil-wet (default `random`).
     pub oil_wet_selection: OilWetSelection,
@@ -109,9 +110,11 @@ pub struct MechanismOptions {
     /// Cooperative-filling weights `a_i` for `i = 2, 3, …` oil-filled
     /// throats (`A_1 = 0`), dimensionless; the model uses `A_i = a_i / r̄_t`
     /// with `r̄_t` the mean throat radius (Blunt 1998, J. Pet. Sci. Eng.
-    /// 20:117–125). The last weight repeats for larger `i`. Default
-    /// `[0.5, 1, 2, 5, 10]` (weights growing with `i` as used after Blunt
-    /// 1998; values from memory).
+    /// 20:117–125), subtracted from the pore's piston-like threshold
+    /// (`docs/physics.md` §5.4). The last weight repeats for larger `i`.
+    /// Default `[0.5, 1, 2, 5, 10]`: a parameter set of ours, of the order
+    /// the model asks and growing with `i`; not verified against published
+    /// values.
     pub cooperative_weights: Vec<f64>,
 }
 

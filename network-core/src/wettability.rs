@@ -82,11 +82,22 @@ impl ContactAngles {
 
     /// Applies the alteration after primary drainage.
     ///
-    /// `contacted[e]` marks elements the non-aqueous phase filled;
-    /// `n_pores` separates pores from throats (the oil-wet fraction applies
-    /// to the contacted pores and, separately, to the contacted throats);
-    /// `size[e]` (inscribed radius) orders the `largest`/`smallest`
-    /// selections, ties broken by index.
+    /// `contacted[e]` marks elements the non-aqueous phase filled; the first
+    /// `throat_ends.len()` elements after the `n_pores` pores are throats,
+    /// `throat_ends[t]` their two pores; `size[e]` (inscribed radius)
+    /// orders the `largest`/`smallest` selections, ties broken by index.
+    ///
+    /// Which elements turn oil-wet (`docs/physics.md` §6.1). After Kovscek,
+    /// Wong & Radke (1993, AIChE J 39:1072–1085), wall turns oil-wet where
+    /// oil contacted it and the water film on it ruptured. The pores are
+    /// chosen: `oil_wet_fraction` of the contacted pores, at random, the
+    /// largest or the smallest first. A contacted throat turns oil-wet when
+    /// both of its pores did — the throat wall between two altered pores
+    /// that oil contacted. Choosing pores and throats by one rule keeps the
+    /// altered elements in connected regions, so oil-wet paths form as the
+    /// fraction grows (the mixed-wet rock of Salathiel 1973, J. Pet.
+    /// Technol. 25:1216–1224, where continuous oil-wet paths let oil drain
+    /// to low residual saturation).
     ///
     /// Contacted water-wet elements draw an advancing angle from
     /// `advancing_contact_angle_deg`, raised to the receding angle where the
@@ -99,34 +110,39 @@ impl ContactAngles {
         spec: &WettabilitySpec,
         contacted: &[bool],
         n_pores: usize,
+        throat_ends: &[[u32; 2]],
         size: &[f64],
         seed: u64,
     ) {
         let n = self.len();
         let mut oil_wet = vec![false; n];
-        for range in [0..n_pores, n_pores..n] {
-            let mut chosen: Vec<usize> = range.filter(|&e| contacted[e]).collect();
+        {
+            let mut chosen: Vec<usize> = (0..n_pores).filter(|&e| contacted[e]).collect();
             let k = (spec.oil_wet_fraction * chosen.len() as f64).round() as usize;
-            if k == 0 {
-                continue;
-            }
-            match spec.oil_wet_selection {
-                OilWetSelection::Random => {
-                    chosen.sort_by(|&a, &b| {
-                        unit_hash(seed, STREAM_OIL_WET, a as u64)
-                            .total_cmp(&unit_hash(seed, STREAM_OIL_WET, b as u64))
-                            .then(a.cmp(&b))
-                    });
+            if k > 0 {
+                match spec.oil_wet_selection {
+                    OilWetSelection::Random => {
+                        chosen.sort_by(|&a, &b| {
+                            unit_hash(seed, STREAM_OIL_WET, a as u64)
+                                .total_cmp(&unit_hash(seed, STREAM_OIL_WET, b as u64))
+                                .then(a.cmp(&b))
+                        });
+                    }
+                    OilWetSelection::Largest => {
+                        chosen.sort_by(|&a, &b| size[b].total_cmp(&size[a]).then(a.cmp(&b)));
+                    }
+                    OilWetSelection::Smallest => {
+                        chosen.sort_by(|&a, &b| size[a].total_cmp(&size[b]).then(a.cmp(&b)));
+                    }
                 }
-                OilWetSelection::Largest => {
-                    chosen.sort_by(|&a, &b| size[b].total_cmp(&size[a]).then(a.cmp(&b)));
+                for &e in &chosen[..k] {
+                    oil_wet[e] = true;
                 }
-                OilWetSelection::Smallest => {
-                    chosen.sort_by(|&a, &b| size[a].total_cmp(&size[b]).then(a.cmp(&b)));
+                for (t, ends) in throat_ends.iter().enumerate() {
+                    let e = n_pores + t;
+                    oil_wet[e] =
+                        contacted[e] && oil_wet[ends[0] as usize] && oil_wet[ends[1] as usize];
                 }
-            }
-            for &e in &chosen[..k] {
-                oil_wet[e] = true;
             }
         }
         for e in 0..n {
@@ -179,7 +195,9 @@ mod tests {
         let before = a.clone();
         let contacted: Vec<bool> = (0..n).map(|e| e % 3 != 0).collect();
         let size: Vec<f64> = (0..n).map(|e| e as f64).collect();
-        a.alter(&spec(), &contacted, 400, &size, 3);
+        // 600 throats joining pores (t mod 400, (t + 1) mod 400).
+        let ends: Vec<[u32; 2]> = (0..600u32).map(|t| [t % 400, (t + 1) % 400]).collect();
+        a.alter(&spec(), &contacted, 400, &ends, &size, 3);
         for e in 0..n {
             assert!(a.advancing[e] >= a.receding[e]);
             if !contacted[e] {
@@ -192,6 +210,13 @@ mod tests {
         let ow_pores = (0..400).filter(|&e| a.oil_wet[e]).count();
         assert_eq!(ow_pores, (0.5 * contacted_pores as f64).round() as usize);
         assert!(a.oil_wet[398] && !a.oil_wet[1]);
+        // A throat is oil-wet exactly when oil contacted it and both its
+        // pores are oil-wet (the rule of `alter`).
+        for (t, ends) in ends.iter().enumerate() {
+            let e = 400 + t;
+            let both = a.oil_wet[ends[0] as usize] && a.oil_wet[ends[1] as usize];
+            assert_eq!(a.oil_wet[e], contacted[e] && both, "throat {t}");
+        }
     }
 
     #[test]

@@ -60,7 +60,7 @@ pub mod snapoff;
 #[cfg(test)]
 mod testgeom;
 
-pub use cooperative::{cooperative_fill_pc, default_cooperative_weights, pore_imbibition_pc};
+pub use cooperative::{cooperative_fill_pc, pore_imbibition_pc};
 pub use corner::{
     CornerMeniscus, corner_arc_length_b, corner_area, corner_area_b, drainage_corner_water_area,
     hinged_corner, imbibition_corner_water_area, pinned_corner_area, pinned_distance,

@@ -200,22 +200,30 @@ impl Engine<'_> {
         }
     }
 
+    /// `P_c(I_n)` of pore `p` on the base of its piston-like threshold
+    /// (`docs/physics.md` §5.4). The draw of the `i`-th oil-filled throat is
+    /// `x = 1 − u` with `u` the counter-based uniform of the seed, the pore
+    /// and `i`, so `x ∈ (0, 1]` and the threshold falls strictly with `n`.
     fn cooperative_pc(&self, p: usize, n_oil: usize, n_throats: usize) -> f64 {
         // weights[k] and draws[k] belong to the (k+2)-th oil-filled throat.
         let w = &self.setup.mechanisms.cooperative_weights;
         let mut weights = [0.0f64; 32];
         let mut draws = [0.0f64; 32];
         let n = n_oil.saturating_sub(1).min(32);
+        if w.is_empty() {
+            return self.piston[p];
+        }
         for k in 0..n {
             weights[k] = w[k.min(w.len() - 1)] * self.coop_scale;
-            draws[k] = unit_hash(
-                self.setup.seed,
-                STREAM_COOPERATIVE,
-                (p as u64) << 5 | k as u64,
-            );
+            draws[k] = 1.0
+                - unit_hash(
+                    self.setup.seed,
+                    STREAM_COOPERATIVE,
+                    (p as u64) << 5 | k as u64,
+                );
         }
         capillary::cooperative_fill_pc(
-            self.setup.geometry.radius[p],
+            self.piston[p],
             self.angles.advancing[p],
             self.setup.sigma,
             n_oil,
@@ -223,7 +231,6 @@ impl Engine<'_> {
             &weights[..n],
             &draws[..n],
         )
-        .min(self.piston[p])
     }
 
     fn layer_collapse(&self, e: usize, corner: usize) -> f64 {

@@ -403,10 +403,12 @@ impl<'a> Engine<'a> {
     /// [`ContactAngles::alter`]).
     pub fn alter_wettability(&mut self, spec: &crate::params::WettabilitySpec) {
         let g = self.setup.geometry;
+        let net = self.setup.network;
         self.angles.alter(
             spec,
             &self.live.state.contacted,
             self.elements.n_pores(),
+            &net.throats().pores,
             &g.radius,
             self.setup.seed,
         );

@@ -8,6 +8,7 @@ use serde::{Deserialize, Serialize};
 
 pub mod end_points;
 pub mod indices;
+pub mod model_limits;
 pub mod process;
 pub mod relperm;
 
@@ -206,6 +207,11 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
     for (i, p) in study.processes.iter().enumerate() {
         if p.kind == ProcessKind::Imbibition && i == 1 {
             engine.alter_wettability(&study.wettability);
+            warnings.extend(model_limits::isolated_oil_wet_regions(
+                network,
+                &engine.angles.oil_wet,
+            ));
+            warnings.extend(model_limits::low_initial_water(engine.saturation().sw));
         }
         let before = engine.snapshot();
         let mut out = run_process_observed(

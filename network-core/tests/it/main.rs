@@ -11,4 +11,5 @@ mod flow_emt;
 mod generate;
 mod imbibition;
 mod io;
+mod mixed_wet;
 mod networks;

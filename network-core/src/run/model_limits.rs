@@ -1,0 +1,81 @@
+//! Warnings where a run reaches a known limit of the model: states a
+//! practitioner would not accept as reservoir states, or wettability
+//! patterns whose results hinge on details the model cannot know. Each
+//! check returns its warning text (or nothing); the run collects them into
+//! its `warnings`. See `docs/physics.md` §6.1 and §7.
+
+use crate::network::{Boundary, Network};
+
+/// Water saturation below which an initial state is not a reservoir state:
+/// connate water of sandstones lies at about 0.1–0.3 (common practice).
+pub const LOW_INITIAL_SW: f64 = 0.10;
+
+/// Warning when the imbibition (and so a trapping point) starts from a
+/// water saturation below [`LOW_INITIAL_SW`].
+pub fn low_initial_water(sw_initial: f64) -> Option<String> {
+    (sw_initial < LOW_INITIAL_SW).then(|| {
+        format!(
+            "the imbibition starts from Sw = {sw_initial:.3}, below the connate water of most \
+             reservoir rocks (about 0.1–0.3); the network holds no water below its resolution \
+             unless clay/microporosity volumes are given, so residual saturations from this state \
+             are not those of a reservoir"
+        )
+    })
+}
+
+/// Whether the oil-wet elements (`oil_wet`, indexed pores first, then
+/// throats) hold a connected path from an inlet pore to an outlet pore.
+/// A pore-throat-pore path counts only through oil-wet throats and pores.
+pub fn oil_wet_spans(network: &Network, oil_wet: &[bool]) -> bool {
+    let n_p = network.n_pores();
+    let pores = network.pores();
+    let adj = network.adjacency();
+    let mut seen = vec![false; n_p];
+    let mut stack: Vec<usize> = (0..n_p)
+        .filter(|&p| oil_wet[p] && pores.boundary[p] == Boundary::Inlet)
+        .collect();
+    for &p in &stack {
+        seen[p] = true;
+    }
+    while let Some(p) = stack.pop() {
+        if pores.boundary[p] == Boundary::Outlet {
+            return true;
+        }
+        for (&t, &q) in adj.throats_of(p).iter().zip(adj.neighbours_of(p)) {
+            let (t, q) = (t as usize, q as usize);
+            if oil_wet[n_p + t] && oil_wet[q] && !seen[q] {
+                seen[q] = true;
+                stack.push(q);
+            }
+        }
+    }
+    false
+}
+
+/// Warning for a mixed-wet state whose oil-wet elements span nothing: oil
+/// in the oil-wet regions is then held by water-wet surroundings, and the
+/// residual saturation depends on how the regions are placed more than on
+/// any measured property.
+pub fn isolated_oil_wet_regions(network: &Network, oil_wet: &[bool]) -> Option<String> {
+    let n = oil_wet.iter().filter(|&&w| w).count();
+    if n == 0 || oil_wet_spans(network, oil_wet) {
+        return None;
+    }
+    Some(format!(
+        "mixed-wet state: the {n} oil-wet elements form no connected path from inlet to outlet; \
+         oil in them is surrounded by water-wet elements, so its trapping depends on where the \
+         oil-wet regions sit (compare oil_wet_selection variants and several seeds)"
+    ))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn connate_water_warning_starts_below_a_tenth() {
+        // 0.1–0.3 connate water in sandstones (common practice).
+        assert!(low_initial_water(0.05).is_some());
+        assert!(low_initial_water(0.15).is_none());
+    }
+}
