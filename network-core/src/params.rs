@@ -128,6 +128,21 @@ impl Default for MechanismOptions {
     }
 }
 
+/// Water held below the resolution of the network: the clay
+/// (microporosity) volume of each element (table `[microporosity]`).
+///
+/// The model keeps that volume water-filled at every simulated pressure
+/// (it counts in `S_w` and in electrical conduction). That is right below
+/// the capillary entry pressure of the microporosity; the study states it
+/// here so that a drainage beyond it is refused instead of silently
+/// overstating connate water (`docs/physics.md` §10).
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct Microporosity {
+    /// Capillary pressure, Pa, up to which the microporosity stays
+    /// water-filled (default: none given, no check).
+    pub entry_pressure_pa: Option<f64>,
+}
+
 /// Relative-permeability and resistivity settings (table `[flow]`).
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct FlowSpec {
@@ -227,6 +242,9 @@ pub struct Study {
     pub mechanisms: MechanismOptions,
     /// Flow settings (table `[flow]`).
     pub flow: FlowSpec,
+    /// Microporosity (table `[microporosity]`).
+    #[serde(default)]
+    pub microporosity: Microporosity,
     /// The processes, in order.
     pub processes: Vec<Process>,
 }

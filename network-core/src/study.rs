@@ -73,8 +73,8 @@ impl fmt::Display for StudyErrors {
 impl std::error::Error for StudyErrors {}
 
 pub use crate::params::{
-    FlowSpec, Fluids, ImbibitionFaces, MechanismOptions, OilWetSelection, OutletRule, Process,
-    ProcessKind, StopAt, Study, WettabilitySpec,
+    FlowSpec, Fluids, ImbibitionFaces, MechanismOptions, Microporosity, OilWetSelection,
+    OutletRule, Process, ProcessKind, StopAt, Study, WettabilitySpec,
 };
 
 #[derive(Deserialize)]
@@ -88,6 +88,7 @@ struct RawStudy {
     boundary: Option<RawBoundary>,
     mechanisms: Option<RawMechanisms>,
     flow: Option<RawFlow>,
+    microporosity: Option<RawMicroporosity>,
     process: Option<Vec<Spanned<RawProcess>>>,
     /// Checked by [`crate::sweep::SweepStudy`]; ignored by a single run.
     #[allow(dead_code)]
@@ -101,6 +102,12 @@ struct RawFlow {
     axis: Option<crate::network::Axis>,
     clay_tortuosity: Option<Spanned<f64>>,
     solver_tolerance: Option<Spanned<f64>>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawMicroporosity {
+    entry_pressure_pa: Option<Spanned<f64>>,
 }
 
 #[derive(Deserialize)]
@@ -404,6 +411,52 @@ impl Checker<'_> {
         }
     }
 
+    /// The `[microporosity]` table.
+    fn microporosity(&mut self, raw: Option<RawMicroporosity>) -> Microporosity {
+        let entry = raw.and_then(|m| m.entry_pressure_pa);
+        Microporosity {
+            entry_pressure_pa: entry.map(|v| {
+                self.number(
+                    "microporosity.entry_pressure_pa",
+                    Some(v),
+                    f64::INFINITY,
+                    |x| x > 0.0,
+                    "a positive pressure in Pa",
+                )
+            }),
+        }
+    }
+
+    /// Refuses drainage targets above the microporosity entry pressure:
+    /// the model keeps the microporosity water-filled, which holds only
+    /// below it.
+    fn drainage_within_microporosity(
+        &mut self,
+        m: &Microporosity,
+        raw: &[(usize, Option<Range<usize>>)],
+        processes: &[Process],
+    ) {
+        let Some(entry) = m.entry_pressure_pa else {
+            return;
+        };
+        for &(i, ref span) in raw {
+            let p = &processes[i];
+            if let (ProcessKind::Drainage, StopAt::Pc(pc)) = (p.kind, p.stop) {
+                if pc > entry {
+                    self.fail(
+                        &format!("process[{}].until_pc_pa", i + 1),
+                        span.clone(),
+                        format!(
+                            "drainage to {pc} Pa exceeds microporosity.entry_pressure_pa = {entry} Pa; \
+                             the model keeps the microporosity water-filled, which holds only below \
+                             its entry pressure: stop the drainage at or below it"
+                        ),
+                    );
+                }
+            }
+        }
+    }
+
     /// The `[[process]]` list: at least one, alternating from drainage.
     fn processes(&mut self, raw_processes: Vec<Spanned<RawProcess>>) -> Vec<Process> {
         let mut processes = Vec::new();
@@ -547,7 +600,17 @@ impl Study {
         };
         let mechanisms = c.mechanisms(raw.mechanisms);
         let flow = c.flow(raw.flow);
-        let processes = c.processes(raw.process.unwrap_or_default());
+        let microporosity = c.microporosity(raw.microporosity);
+        let raw_processes = raw.process.unwrap_or_default();
+        let pc_spans: Vec<(usize, Option<Range<usize>>)> = raw_processes
+            .iter()
+            .enumerate()
+            .map(|(i, p)| (i, p.get_ref().until_pc_pa.as_ref().map(|v| v.span())))
+            .collect();
+        let processes = c.processes(raw_processes);
+        if processes.len() == pc_spans.len() {
+            c.drainage_within_microporosity(&microporosity, &pc_spans, &processes);
+        }
         if c.errors.is_empty() {
             Ok(Study {
                 network,
@@ -559,6 +622,7 @@ impl Study {
                 imbibition_faces,
                 mechanisms,
                 flow,
+                microporosity,
                 processes,
             })
         } else {
@@ -570,6 +634,30 @@ impl Study {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn drainage_beyond_the_microporosity_entry_pressure_is_refused() {
+        let text = |pc: f64| {
+            format!(
+                "network = \"n\"\n[microporosity]\nentry_pressure_pa = 5.0e5\n\
+                 [[process]]\nkind = \"drainage\"\nuntil_pc_pa = {pc:.1}\n"
+            )
+        };
+        let s = Study::parse(&text(1.0e5)).unwrap();
+        assert_eq!(s.microporosity.entry_pressure_pa, Some(5.0e5));
+        let e = Study::parse(&text(1.0e6)).unwrap_err();
+        assert_eq!(e.0[0].key, "process[1].until_pc_pa");
+        assert_eq!(e.0[0].line, Some(6));
+        assert!(
+            e.0[0].message.contains("microporosity"),
+            "{}",
+            e.0[0].message
+        );
+        let bad = "network = \"n\"\n[microporosity]\nentry_pressure_pa = -3.0\n\
+                   [[process]]\nkind = \"drainage\"\nuntil_pc_pa = 1.0\n";
+        let e = Study::parse(bad).unwrap_err();
+        assert_eq!(e.0[0].key, "microporosity.entry_pressure_pa");
+    }
 
     const GOOD: &str = r#"
 network = "net"

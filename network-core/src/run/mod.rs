@@ -234,6 +234,12 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
                 ));
             }
         }
+        if p.kind == ProcessKind::Drainage {
+            warnings.extend(model_limits::microporosity_overrun(
+                study.microporosity.entry_pressure_pa,
+                out.final_pc_pa,
+            ));
+        }
         if out.target_unreached {
             warnings.push(format!(
                 "process {} ({}): the saturation target was not reached; it ended at Sw = {:.4}",

@@ -68,6 +68,22 @@ pub fn isolated_oil_wet_regions(network: &Network, oil_wet: &[bool]) -> Option<S
     ))
 }
 
+/// Warning when a drainage (stopped at a saturation, so not checked when
+/// the study was read) ended above the microporosity entry pressure.
+pub fn microporosity_overrun(
+    entry_pressure_pa: Option<f64>,
+    drainage_end_pc: f64,
+) -> Option<String> {
+    let entry = entry_pressure_pa?;
+    (drainage_end_pc > entry).then(|| {
+        format!(
+            "a drainage ended at Pc = {drainage_end_pc:.0} Pa, above the microporosity entry \
+             pressure {entry:.0} Pa; the model kept the microporosity water-filled, so Sw there \
+             is overstated"
+        )
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

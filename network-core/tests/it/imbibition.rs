@@ -350,17 +350,23 @@ fn cooperative_weights_change_how_pores_fill_and_what_is_trapped() {
     let net = sandstone_like(if cfg!(debug_assertions) { 10 } else { 16 }, 5);
     let run = |w: &str| {
         let mut s = study([30.0, 50.0], "until_pc_pa = 1.0e5", "");
-        s.mechanisms.cooperative_weights = w
-            .split(',')
-            .map(|x| x.trim().parse().unwrap())
-            .collect();
+        s.mechanisms.cooperative_weights =
+            w.split(',').map(|x| x.trim().parse().unwrap()).collect();
         s.flow.relative_permeability = false;
         run_study(&net, &s, &Silent)
     };
     let easy = run("0.0");
     let hard = run("10.0, 20.0, 40.0");
     let coop = |r: &RunResults| r.processes[1].events.cooperative.iter().sum::<u64>();
-    assert!(coop(&hard) < coop(&easy) / 2, "{} vs {}", coop(&hard), coop(&easy));
+    assert!(
+        coop(&hard) < coop(&easy) / 2,
+        "{} vs {}",
+        coop(&hard),
+        coop(&easy)
+    );
     let (e, h) = (easy.snr.unwrap(), hard.snr.unwrap());
-    assert!(e - h > 0.05, "Snr with easy {e}, hard {h} cooperative filling");
+    assert!(
+        e - h > 0.05,
+        "Snr with easy {e}, hard {h} cooperative filling"
+    );
 }
