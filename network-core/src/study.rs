@@ -441,18 +441,18 @@ impl Checker<'_> {
         };
         for &(i, ref span) in raw {
             let p = &processes[i];
-            if let (ProcessKind::Drainage, StopAt::Pc(pc)) = (p.kind, p.stop) {
-                if pc > entry {
-                    self.fail(
-                        &format!("process[{}].until_pc_pa", i + 1),
-                        span.clone(),
-                        format!(
-                            "drainage to {pc} Pa exceeds microporosity.entry_pressure_pa = {entry} Pa; \
-                             the model keeps the microporosity water-filled, which holds only below \
-                             its entry pressure: stop the drainage at or below it"
-                        ),
-                    );
-                }
+            if let (ProcessKind::Drainage, StopAt::Pc(pc)) = (p.kind, p.stop)
+                && pc > entry
+            {
+                self.fail(
+                    &format!("process[{}].until_pc_pa", i + 1),
+                    span.clone(),
+                    format!(
+                        "drainage to {pc} Pa exceeds microporosity.entry_pressure_pa = {entry} Pa; \
+                         the model keeps the microporosity water-filled, which holds only below \
+                         its entry pressure: stop the drainage at or below it"
+                    ),
+                );
             }
         }
     }
