@@ -12,3 +12,4 @@ mod generate;
 mod imbibition;
 mod io;
 mod networks;
+mod profiles;
