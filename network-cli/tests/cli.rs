@@ -221,6 +221,17 @@ fn run_writes_summary_curves_and_ganglia() {
     }
     let ganglia = std::fs::read_to_string(out.join("ganglia.csv")).unwrap();
     assert!(ganglia.starts_with("id,volume_m3,pores,throats,"));
+    let ee = &v["end_effects"];
+    assert_eq!(ee["drainage_faces"], "inlet");
+    assert_eq!(ee["profile_slabs"], 10);
+    assert!(ee["interior_window"].is_null());
+    let profiles = std::fs::read_to_string(out.join("profiles.csv")).unwrap();
+    assert!(profiles.starts_with("process,kind,step,pc_pa,sw,slab,"));
+    assert_eq!(
+        profiles.lines().count(),
+        1 + 10 * (curves.lines().count() - 1)
+    );
+    assert!(out.join("sw-profile.svg").exists());
     no_temp_files(&out);
 }
 

@@ -238,6 +238,9 @@ pub struct Study {
     /// Faces open to the displaced phase in imbibition (key
     /// `boundary.imbibition_faces`: `outlet` or `both`; default `outlet`).
     pub imbibition_faces: ImbibitionFaces,
+    /// Faces through which the non-aqueous phase enters in drainage (key
+    /// `boundary.drainage_faces`: `inlet` or `all`; default `inlet`).
+    pub drainage_faces: DrainageFaces,
     /// Mechanism options (table `[mechanisms]`).
     pub mechanisms: MechanismOptions,
     /// Flow settings (table `[flow]`).
@@ -245,8 +248,56 @@ pub struct Study {
     /// Microporosity (table `[microporosity]`).
     #[serde(default)]
     pub microporosity: Microporosity,
+    /// Saturation profiles and the interior window (table `[output]`).
+    pub output: OutputSpec,
     /// The processes, in order.
     pub processes: Vec<Process>,
+}
+
+/// Faces through which the non-aqueous phase enters in drainage.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "kebab-case")]
+pub enum DrainageFaces {
+    /// The inlet face only (a displacement along the flow axis).
+    #[default]
+    Inlet,
+    /// Every external face of the sample: the pores at the six faces of its
+    /// bounding box enter the non-aqueous phase and let water out, as for a
+    /// sample surrounded by the non-aqueous phase (initial states for a
+    /// trapping curve without an inlet end effect).
+    All,
+}
+
+impl DrainageFaces {
+    /// The value as written in study files.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            DrainageFaces::Inlet => "inlet",
+            DrainageFaces::All => "all",
+        }
+    }
+}
+
+/// Saturation profiles along the flow axis and the interior window (table
+/// `[output]`).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct OutputSpec {
+    /// Number of equal slabs along the flow axis of the saturation profiles
+    /// (default 10).
+    pub profile_slabs: usize,
+    /// Window `[start, end]` along the flow axis, as fractions of the
+    /// sample length, over which saturations are also reported (default
+    /// `None`: whole-sample saturations only).
+    pub interior_window: Option<[f64; 2]>,
+}
+
+impl Default for OutputSpec {
+    fn default() -> Self {
+        OutputSpec {
+            profile_slabs: 10,
+            interior_window: None,
+        }
+    }
 }
 
 /// Faces through which the displaced non-aqueous phase may leave during

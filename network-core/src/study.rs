@@ -73,8 +73,8 @@ impl fmt::Display for StudyErrors {
 impl std::error::Error for StudyErrors {}
 
 pub use crate::params::{
-    FlowSpec, Fluids, ImbibitionFaces, MechanismOptions, Microporosity, OilWetSelection,
-    OutletRule, Process, ProcessKind, StopAt, Study, WettabilitySpec,
+    DrainageFaces, FlowSpec, Fluids, ImbibitionFaces, MechanismOptions, Microporosity,
+    OilWetSelection, OutletRule, OutputSpec, Process, ProcessKind, StopAt, Study, WettabilitySpec,
 };
 
 #[derive(Deserialize)]
@@ -89,6 +89,7 @@ struct RawStudy {
     mechanisms: Option<RawMechanisms>,
     flow: Option<RawFlow>,
     microporosity: Option<RawMicroporosity>,
+    output: Option<RawOutput>,
     process: Option<Vec<Spanned<RawProcess>>>,
     /// Checked by [`crate::sweep::SweepStudy`]; ignored by a single run.
     #[allow(dead_code)]
@@ -136,6 +137,14 @@ struct RawWettability {
 struct RawBoundary {
     outlet: Option<OutletRule>,
     imbibition_faces: Option<ImbibitionFaces>,
+    drainage_faces: Option<DrainageFaces>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawOutput {
+    profile_slabs: Option<Spanned<i64>>,
+    interior_window: Option<Spanned<Vec<f64>>>,
 }
 
 #[derive(Deserialize)]
@@ -457,6 +466,58 @@ impl Checker<'_> {
         }
     }
 
+    /// The `[output]` table, defaults for what it leaves out.
+    fn output(&mut self, raw: Option<RawOutput>) -> OutputSpec {
+        let d = OutputSpec::default();
+        let Some(o) = raw else { return d };
+        let profile_slabs = self.count(
+            "output.profile_slabs",
+            o.profile_slabs,
+            d.profile_slabs,
+            1000,
+        );
+        let interior_window = match o.interior_window {
+            None => None,
+            Some(s) => {
+                let span = s.span();
+                let w = s.into_inner();
+                if w.len() != 2 {
+                    self.fail(
+                        "output.interior_window",
+                        Some(span),
+                        format!(
+                            "expected [start, end] as fractions of the sample length, got {} values",
+                            w.len()
+                        ),
+                    );
+                    None
+                } else if !(w[0].is_finite()
+                    && w[1].is_finite()
+                    && 0.0 <= w[0]
+                    && w[0] < w[1]
+                    && w[1] <= 1.0)
+                {
+                    self.fail(
+                        "output.interior_window",
+                        Some(span),
+                        format!(
+                            "window [{}, {}] must satisfy 0 <= start < end <= 1 (fractions of \
+                             the sample length along the flow axis)",
+                            w[0], w[1]
+                        ),
+                    );
+                    None
+                } else {
+                    Some([w[0], w[1]])
+                }
+            }
+        };
+        OutputSpec {
+            profile_slabs,
+            interior_window,
+        }
+    }
+
     /// The `[[process]]` list: at least one, alternating from drainage.
     fn processes(&mut self, raw_processes: Vec<Spanned<RawProcess>>) -> Vec<Process> {
         let mut processes = Vec::new();
@@ -591,10 +652,11 @@ impl Study {
         };
         let fluids = c.fluids(raw.fluids);
         let wettability = c.wettability(raw.wettability);
-        let (outlet, imbibition_faces) = match raw.boundary {
+        let (outlet, imbibition_faces, drainage_faces) = match raw.boundary {
             Some(b) => (
                 b.outlet.unwrap_or_default(),
                 b.imbibition_faces.unwrap_or_default(),
+                b.drainage_faces.unwrap_or_default(),
             ),
             None => Default::default(),
         };
@@ -611,6 +673,7 @@ impl Study {
         if processes.len() == pc_spans.len() {
             c.drainage_within_microporosity(&microporosity, &pc_spans, &processes);
         }
+        let output = c.output(raw.output);
         if c.errors.is_empty() {
             Ok(Study {
                 network,
@@ -620,9 +683,11 @@ impl Study {
                 wettability,
                 outlet,
                 imbibition_faces,
+                drainage_faces,
                 mechanisms,
                 flow,
                 microporosity,
+                output,
                 processes,
             })
         } else {
@@ -728,6 +793,40 @@ until_sw = 0.9
     fn processes_must_alternate_from_drainage() {
         let e = first_error(&GOOD.replace("kind = \"drainage\"", "kind = \"imbibition\""));
         assert_eq!(e.key, "process[1].kind");
+    }
+
+    #[test]
+    fn output_and_drainage_faces_parse_with_defaults() {
+        let s = Study::parse(GOOD).unwrap();
+        assert_eq!(s.output, OutputSpec::default());
+        assert_eq!(s.drainage_faces, DrainageFaces::Inlet);
+        let text = GOOD.replace(
+            "seed = 7",
+            "seed = 7\n[boundary]\ndrainage_faces = \"all\"\n[output]\nprofile_slabs = 5\ninterior_window = [0.1, 0.9]",
+        );
+        let s = Study::parse(&text).unwrap();
+        assert_eq!(s.drainage_faces, DrainageFaces::All);
+        assert_eq!(s.output.profile_slabs, 5);
+        assert_eq!(s.output.interior_window, Some([0.1, 0.9]));
+    }
+
+    #[test]
+    fn bad_interior_window_is_refused_with_key_and_line() {
+        for w in ["[0.9, 0.1]", "[0.1]", "[-0.1, 0.5]", "[0.2, 1.5]"] {
+            let text = GOOD.replace(
+                "seed = 7",
+                &format!("seed = 7\n[output]\ninterior_window = {w}"),
+            );
+            let e = first_error(&text);
+            assert_eq!(e.key, "output.interior_window", "{w}: {e}");
+            assert_eq!(e.line, Some(5), "{w}: {e}");
+        }
+        let text = GOOD.replace("seed = 7", "seed = 7\n[output]\nprofile_slabs = 0");
+        assert_eq!(first_error(&text).key, "output.profile_slabs");
+        let text = GOOD.replace("seed = 7", "seed = 7\n[boundary]\ndrainage_faces = \"top\"");
+        let e = first_error(&text);
+        assert_eq!(e.line, Some(5), "{e}");
+        assert!(e.message.contains("top"), "{e}");
     }
 
     #[test]

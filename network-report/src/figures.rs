@@ -8,17 +8,20 @@
 //! | `kr-sw-log` | the same | Sw linear, kr log |
 //! | `ri-sw` | resistivity index of every process, Archie line | log–log |
 //! | `ganglion-sizes` | trapped ganglia per pore-count bin | pores log, count linear |
+//! | `sw-profile` | water saturation of each slab along the flow axis, up to nine steps per process | position (mm) linear, Sw linear |
 //!
 //! A figure without data is left out: the kr figures when no process has
 //! computed relative permeabilities, `ri-sw` when no point has a finite
 //! resistivity index, `ganglion-sizes` when no imbibition ran or nothing
-//! was trapped.
+//! was trapped, `sw-profile` when the run recorded no profiles.
 //!
 //! Each process keeps one colour of [`PALETTE`] across the figures
 //! (process `k` takes colour `k`). In the kr figures the water curve is a
 //! solid line with markers and the non-aqueous curve a dashed line with
 //! markers; markers sit only at the points where the flow was solved. The
-//! ganglion figure has one unlabelled series and no legend.
+//! ganglion figure has one unlabelled series and no legend. In the profile
+//! figure the steps of a process share its colour, lighter for earlier
+//! steps; only the last step of each process is in the legend.
 
 use network_core::run::RunResults;
 use network_core::run::end_points::Fitted;
@@ -72,7 +75,103 @@ pub fn run_figures(results: &RunResults) -> Vec<Figure> {
     {
         out.push(ganglion_figure(&stats.pores_histogram, label));
     }
+    if let Some(f) = profile_figure(results) {
+        out.push(f);
+    }
     out
+}
+
+/// The steps of a process drawn in the profile figure: nine evenly spaced
+/// point indices from the first to the last (all when there are fewer).
+pub fn profile_steps(n_points: usize) -> Vec<usize> {
+    const LINES: usize = 9;
+    if n_points <= LINES {
+        return (0..n_points).collect();
+    }
+    let mut v: Vec<usize> = (0..LINES)
+        .map(|k| ((k * (n_points - 1)) as f64 / (LINES - 1) as f64).round() as usize)
+        .collect();
+    v.dedup();
+    v
+}
+
+/// `colour` mixed with white: `t = 1` the colour itself, `t = 0` white.
+fn tint((r, g, b): (u8, u8, u8), t: f64) -> (u8, u8, u8) {
+    let mix = |c: u8| (255.0 - (255.0 - c as f64) * t).round().clamp(0.0, 255.0) as u8;
+    (mix(r), mix(g), mix(b))
+}
+
+fn profile_figure(results: &RunResults) -> Option<Figure> {
+    let layout = results.profile_layout.as_ref()?;
+    let kinds = kinds(results);
+    let edges = &layout.slab_edges_m;
+    if edges[edges.len() - 1].partial_cmp(&edges[0]) != Some(std::cmp::Ordering::Greater) {
+        return None;
+    }
+    let centres_mm: Vec<f64> = edges
+        .windows(2)
+        .map(|w| 0.5 * (w[0] + w[1]) * 1.0e3)
+        .collect();
+    let mut series = Vec::new();
+    for (i, o) in results.outcomes.iter().enumerate() {
+        let Some(profiles) = results.profiles.get(i) else {
+            continue;
+        };
+        let steps = profile_steps(profiles.len().min(o.points.len()));
+        for (j, &k) in steps.iter().enumerate() {
+            let last = j + 1 == steps.len();
+            let t = 0.25 + 0.75 * (j + 1) as f64 / steps.len() as f64;
+            let label = if last {
+                format!(
+                    "{}, end: Sw = {:.3}",
+                    process_label(&kinds, i),
+                    o.points[k].saturation.sw
+                )
+            } else {
+                String::new()
+            };
+            let style = if last {
+                SeriesStyle::LineMarkers
+            } else {
+                SeriesStyle::Line
+            };
+            series.push(
+                Series::line(label, centres_mm.clone(), profiles[k].slab_sw.clone())
+                    .with_style(style)
+                    .with_colour(tint(process_colour(i), t)),
+            );
+        }
+    }
+    if series.is_empty() {
+        return None;
+    }
+    let title = "Saturation profile along the flow axis".to_string();
+    let axis = layout.axis.as_str();
+    let window = match layout.window_m() {
+        Some([a, b]) => format!(
+            " The interior window runs from {:.3} to {:.3} mm.",
+            a * 1.0e3,
+            b * 1.0e3
+        ),
+        None => String::new(),
+    };
+    Some(Figure {
+        name: "sw-profile",
+        title: title.clone(),
+        caption: format!(
+            "Water saturation of each of {} equal slabs along the flow axis ({axis}, inlet              on the left; drawn at slab centres) at up to nine steps of each process, one              colour per process, lighter for earlier steps; saturations that differ near              the faces from the rest of the sample are end effects.{window}",
+            layout.slabs()
+        ),
+        spec: PlotSpec {
+            title,
+            x_label: format!("Position along the flow axis {axis} (mm)"),
+            y_label: SW_LABEL.into(),
+            x_range: Some((edges[0] * 1.0e3, edges[edges.len() - 1] * 1.0e3)),
+            y_range: Some((0.0, 1.0)),
+            series,
+            ..PlotSpec::default()
+        },
+    })
 }
 
 /// A process's name for legends and tables: its 1-based number and kind,

@@ -16,7 +16,8 @@
 //!   or PNG bytes, drawn with `plotters` and an embedded DejaVu Sans font.
 //! - [`vtk`]: a network and an end state as VTK XML PolyData (`.vtp`).
 //! - [`figures`]: the standard figures of a study run (Pc, kr linear and
-//!   log, resistivity index with the Archie line, ganglion sizes).
+//!   log, resistivity index with the Archie line, ganglion sizes, saturation
+//!   profile along the flow axis).
 //! - [`saturation_tables`](mod@saturation_tables): monotone, resampled saturation-function tables
 //!   from a simulated curve, written as CSV or as a water–oil
 //!   saturation-function keyword table for black-oil reservoir simulators,
@@ -29,7 +30,7 @@
 //! - [`sweep_report`](mod@sweep_report): the figures and the HTML report of a sweep, written
 //!   the same way.
 //! - [`run_files`] and [`sweep_files`]: the result data files of a run
-//!   (`summary.json`, `curves.csv`, `ganglia.csv`) and of a sweep
+//!   (`summary.json`, `curves.csv`, `ganglia.csv`, `profiles.csv`) and of a sweep
 //!   (`summary.json`, `trapping-curve.csv`, `cases.csv`), each written
 //!   atomically.
 //!

@@ -14,6 +14,7 @@ use network_core::run::{RunResults, run_study};
 use network_core::study::Study;
 use network_report::html::{CAUTION_TEXT, escape, number};
 use network_report::plot::{Series, render_svg};
+use network_report::run_files::{curves_csv, profiles_csv};
 use network_report::saturation_tables::{parse_csv, parse_keyword_table};
 use network_report::vtk::{PRESSURE_MISSING, VtkError};
 use network_report::{
@@ -107,7 +108,14 @@ fn figures_hold_every_process_series_with_the_run_data() {
     let names: Vec<&str> = figs.iter().map(|f| f.name).collect();
     assert_eq!(
         names,
-        ["pc-sw", "kr-sw", "kr-sw-log", "ri-sw", "ganglion-sizes"]
+        [
+            "pc-sw",
+            "kr-sw",
+            "kr-sw-log",
+            "ri-sw",
+            "ganglion-sizes",
+            "sw-profile"
+        ]
     );
     let procs = ["1 primary drainage", "2 imbibition", "3 secondary drainage"];
 
@@ -607,6 +615,104 @@ fn tables_read_back_equal_monotone_and_spanning_the_simulated_range() {
     }
 }
 
+#[test]
+fn profiles_csv_and_figure_follow_the_recorded_profiles() {
+    let r = &RUN.results;
+    let layout = r.profile_layout.as_ref().unwrap();
+    let n = layout.slabs();
+    let csv = profiles_csv(r);
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next().unwrap(),
+        "process,kind,step,pc_pa,sw,slab,slab_start_m,slab_end_m,slab_pore_volume_m3,slab_sw,slab_sn_trapped"
+    );
+    let rows: Vec<Vec<f64>> = lines
+        .map(|l| {
+            l.split(',')
+                .enumerate()
+                .filter(|(i, _)| *i != 1)
+                .map(|(_, v)| v.parse().unwrap())
+                .collect()
+        })
+        .collect();
+    let points: usize = r.outcomes.iter().map(|o| o.points.len()).sum();
+    assert_eq!(rows.len(), points * n);
+    // Analytic derivation: the slabs partition the pore volume, so the
+    // pore-volume-weighted mean of the slab saturations is the point's
+    // whole-sample Sw (to the 1e-11 between the engine's incremental and
+    // element-by-element sums).
+    for chunk in rows.chunks(n) {
+        let pv: f64 = chunk.iter().map(|c| c[7]).sum();
+        let w: f64 = chunk.iter().map(|c| c[7] * c[8]).sum();
+        assert!((w / pv - chunk[0][3]).abs() < 1e-11, "{chunk:?}");
+        assert!(chunk.iter().enumerate().all(|(j, c)| c[4] == j as f64));
+        assert!(chunk.windows(2).all(|c| c[0][6] == c[1][5]));
+    }
+    // The figure: the selected steps of every process, the last labelled
+    // with the process name and drawn through the last point's profile.
+    let figs = run_figures(r);
+    let f = figs.iter().find(|f| f.name == "sw-profile").unwrap();
+    let expected: usize = r
+        .profiles
+        .iter()
+        .map(|p| network_report::figures::profile_steps(p.len()).len())
+        .sum();
+    assert_eq!(f.spec.series.len(), expected);
+    let labelled: Vec<&Series> = f
+        .spec
+        .series
+        .iter()
+        .filter(|s| !s.label.is_empty())
+        .collect();
+    assert_eq!(labelled.len(), 3);
+    assert!(
+        labelled[1].label.starts_with("2 imbibition, end"),
+        "{}",
+        labelled[1].label
+    );
+    assert_eq!(labelled[1].y, r.profiles[1].last().unwrap().slab_sw);
+    assert_eq!(labelled[1].x.len(), n);
+}
+
+#[test]
+fn interior_columns_appear_in_curves_only_with_a_window() {
+    let r = &RUN.results;
+    let curves = curves_csv(r);
+    assert!(curves.lines().next().unwrap().ends_with(",krw,krn,ri"));
+    assert!(r.end_effects.interior.is_none());
+    let study = Study::parse(
+        r#"
+network = "unused"
+[output]
+interior_window = [0.2, 0.8]
+profile_slabs = 4
+[flow]
+relative_permeability = false
+[[process]]
+kind = "drainage"
+until_sw = 0.7
+"#,
+    )
+    .unwrap();
+    let w = run_study(&RUN.network, &study, &Silent);
+    let curves = curves_csv(&w);
+    let mut lines = curves.lines();
+    assert!(
+        lines
+            .next()
+            .unwrap()
+            .ends_with(",ri,sw_interior,sn_interior,sn_trapped_interior")
+    );
+    for (line, prof) in lines.zip(&w.profiles[0]) {
+        let cols: Vec<&str> = line.split(',').collect();
+        assert_eq!(cols.len(), 17);
+        let sw: f64 = cols[14].parse().unwrap();
+        assert_eq!(sw, prof.interior.unwrap().sw);
+    }
+    let html = run_report(&w, &run_figures(&w));
+    assert!(html.contains("Interior window 0.2–0.8"), "no window row");
+}
+
 fn temp_dir(name: &str) -> PathBuf {
     let d = std::env::temp_dir().join(format!("ganglion-report-{name}-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&d);
@@ -633,10 +739,17 @@ fn artifacts_are_all_written_and_listed() {
         .map(|p| p.file_name().unwrap().to_string_lossy().into_owned())
         .collect();
     names.sort();
-    let mut expect: Vec<String> = ["pc-sw", "kr-sw", "kr-sw-log", "ri-sw", "ganglion-sizes"]
-        .iter()
-        .flat_map(|s| [format!("{s}.svg"), format!("{s}.png")])
-        .collect();
+    let mut expect: Vec<String> = [
+        "pc-sw",
+        "kr-sw",
+        "kr-sw-log",
+        "ri-sw",
+        "ganglion-sizes",
+        "sw-profile",
+    ]
+    .iter()
+    .flat_map(|s| [format!("{s}.svg"), format!("{s}.png")])
+    .collect();
     expect.extend(
         [
             "table-drainage.csv",

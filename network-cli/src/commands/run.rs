@@ -13,8 +13,10 @@ use crate::progress::Bars;
 ///
 /// OUT receives summary.json (inputs echoed, network hash, program version,
 /// per-process results, end points, fits), curves.csv (one row per recorded
-/// point, with krw, krn and RI where computed), ganglia.csv (trapped
-/// clusters of the non-aqueous phase), the figures (SVG and PNG), the
+/// point, with krw, krn and RI where computed, and the interior-window
+/// saturations when [output] interior_window is set), profiles.csv (water
+/// saturation of each slab along the flow axis at every recorded point),
+/// ganglia.csv (trapped clusters of the non-aqueous phase), the figures (SVG and PNG), the
 /// saturation-function tables for drainage and imbibition (CSV and a
 /// simulator include file), report.html (one self-contained file) and the
 /// end state of every process as VTK PolyData (state-K-KIND.vtp). Every

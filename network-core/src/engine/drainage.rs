@@ -4,11 +4,14 @@
 //! [`crate::capillary::drainage_entry_pc`].
 //!
 //! Rules:
-//! - an element can be invaded when it is an inlet pore (the non-aqueous
-//!   reservoir is at the inlet face) or touches an element whose
+//! - an element can be invaded when it is an entry pore (the non-aqueous
+//!   reservoir is at the inlet face, or at every external face with
+//!   [`crate::params::DrainageFaces::All`]) or touches an element whose
 //!   non-aqueous phase (bulk or layer) is connected to the inlet supply;
 //! - with [`OutletRule::SemiPermeable`] outlet pores are never invaded;
-//! - water leaves only through the outlet face. It stays connected through
+//! - water leaves only through the outlet face (through every external
+//!   face with `DrainageFaces::All`, counter-current to the entering
+//!   phase; no breakthrough is recorded then). It stays connected through
 //!   bulk water and through the corner films of drained angular elements
 //!   (corners with θ < π/2 − β). Water that loses every such path to an
 //!   outlet pore is trapped and keeps its volume;
@@ -43,7 +46,7 @@ impl Engine<'_> {
         // Oil connected to the inlet supply (secondary drainage: what
         // imbibition left connected to inlet pores).
         let mut stack: Vec<usize> = (0..self.elements.n_pores())
-            .filter(|&p| self.boundary(p) == Boundary::Inlet && self.live.state.conducts_oil(p))
+            .filter(|&p| self.is_drainage_entry(p) && self.live.state.conducts_oil(p))
             .collect();
         for &p in &stack {
             self.live.connected[p] = true;
@@ -53,7 +56,7 @@ impl Engine<'_> {
         }
         // Initial accessible elements.
         for p in 0..self.elements.n_pores() {
-            if self.boundary(p) == Boundary::Inlet {
+            if self.is_drainage_entry(p) {
                 self.push_drainage(p);
             }
         }
@@ -110,6 +113,28 @@ impl Engine<'_> {
         }
     }
 
+    /// True when pore `p` lets the non-aqueous phase in (an inlet pore, or
+    /// any face pore with `DrainageFaces::All`).
+    #[inline]
+    fn is_drainage_entry(&self, p: usize) -> bool {
+        if self.all_faces.is_empty() {
+            self.boundary(p) == Boundary::Inlet
+        } else {
+            p < self.elements.n_pores() && self.all_faces[p]
+        }
+    }
+
+    /// True when element `x` lets water out in drainage (an outlet pore, or
+    /// any face pore with `DrainageFaces::All`).
+    #[inline]
+    fn is_water_exit(&self, x: usize) -> bool {
+        if self.all_faces.is_empty() {
+            self.boundary(x) == Boundary::Outlet
+        } else {
+            x < self.elements.n_pores() && self.all_faces[x]
+        }
+    }
+
     /// Queues element `e` for invasion if it can be invaded.
     fn push_drainage(&mut self, e: usize) {
         let s = &self.live.state;
@@ -160,7 +185,7 @@ impl Engine<'_> {
         } else {
             self.live.counts.drainage_throats += 1;
         }
-        if self.live.breakthrough_pc.is_none() {
+        if self.live.breakthrough_pc.is_none() && self.all_faces.is_empty() {
             let reached = match self.setup.outlet {
                 OutletRule::Open => self.boundary(e) == Boundary::Outlet,
                 OutletRule::SemiPermeable => {
@@ -205,7 +230,7 @@ impl Engine<'_> {
                 .copied()
                 .filter(|&n| self.conducts_water(n))
                 .collect();
-            let one_must_escape = self.boundary(e) != Boundary::Outlet;
+            let one_must_escape = !self.is_water_exit(e);
             self.trap_water(&seeds, one_must_escape);
         }
     }
@@ -219,7 +244,7 @@ impl Engine<'_> {
         search.run(
             seeds,
             |x| self.conducts_water(x),
-            |x| self.boundary(x) == Boundary::Outlet,
+            |x| self.is_water_exit(x),
             |x, out| self.neighbours_into(x, out),
             one_must_escape,
             |p| pieces.push(p.to_vec()),

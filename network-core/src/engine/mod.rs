@@ -29,7 +29,7 @@ use serde::{Deserialize, Serialize};
 use crate::capillary::Section;
 use crate::geometry::Geometry;
 use crate::network::{Boundary, Element, Elements, Network};
-use crate::params::{ImbibitionFaces, MechanismOptions, OutletRule, Study};
+use crate::params::{DrainageFaces, ImbibitionFaces, MechanismOptions, OutletRule, Study};
 use crate::wettability::ContactAngles;
 
 use queue::{Order, ThresholdQueue};
@@ -171,6 +171,10 @@ pub struct Engine<'a> {
     clay_total: f64,
     /// Σ resolved volume, m³.
     resolved_total: f64,
+    /// Pores at any external face, which enter the non-aqueous phase and
+    /// let water out in drainage ([`DrainageFaces::All`]); empty: the inlet
+    /// face enters, the outlet face lets water out.
+    all_faces: Vec<bool>,
 }
 
 impl<'a> Setup<'a> {
@@ -193,7 +197,45 @@ impl<'a> Engine<'a> {
     /// intrinsic contact angles (seeded).
     pub fn for_study(network: &'a Network, geometry: &'a Geometry, study: &Study) -> Engine<'a> {
         let angles = ContactAngles::intrinsic(&study.wettability, network.n_elements(), study.seed);
-        Engine::new(Setup::of_study(network, geometry, study), angles)
+        let mut engine = Engine::new(Setup::of_study(network, geometry, study), angles);
+        engine.set_drainage_faces(study.drainage_faces);
+        engine
+    }
+
+    /// Chooses the faces through which the non-aqueous phase enters (and
+    /// water leaves) in drainage. [`DrainageFaces::All`] takes the pores at
+    /// the six faces of the sample: the inlet and outlet pores along the
+    /// flow axis and, along the other two axes, the pores of
+    /// [`crate::connectivity::face_masks`] (centres within half the median
+    /// throat length of the extreme centre coordinate).
+    pub fn set_drainage_faces(&mut self, faces: DrainageFaces) {
+        self.all_faces = match faces {
+            DrainageFaces::Inlet => Vec::new(),
+            DrainageFaces::All => {
+                let net = self.setup.network;
+                let mut mask = vec![false; net.n_pores()];
+                for axis in [
+                    crate::network::Axis::X,
+                    crate::network::Axis::Y,
+                    crate::network::Axis::Z,
+                ] {
+                    let (lo, hi) = crate::connectivity::face_masks(net, axis);
+                    for (m, (a, b)) in mask.iter_mut().zip(lo.iter().zip(&hi)) {
+                        *m |= *a || *b;
+                    }
+                }
+                mask
+            }
+        };
+    }
+
+    /// The faces through which the non-aqueous phase enters in drainage.
+    pub fn drainage_faces(&self) -> DrainageFaces {
+        if self.all_faces.is_empty() {
+            DrainageFaces::Inlet
+        } else {
+            DrainageFaces::All
+        }
     }
 
     /// A fully water-saturated engine.
@@ -262,6 +304,7 @@ impl<'a> Engine<'a> {
             angle_cos: Vec::new(),
             clay_total,
             resolved_total,
+            all_faces: Vec::new(),
             setup,
         }
     }

@@ -36,6 +36,33 @@ pub struct Saturation {
     pub sn_layers: f64,
 }
 
+/// Phase volumes of one element, m³ ([`Engine::element_volumes`]).
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct ElementVolumes {
+    /// Water, clay water included.
+    pub water: f64,
+    /// Non-aqueous phase (centre or layers).
+    pub oil: f64,
+    /// Water in the corners of an oil-filled centre.
+    pub corner_water: f64,
+    /// Non-aqueous phase in layers of a water-filled centre.
+    pub layer_oil: f64,
+}
+
+/// Phase volumes summed over a region of the sample, m³
+/// ([`Engine::region_volumes`]).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
+pub struct RegionVolumes {
+    /// Pore volume (clay included), `water + oil`.
+    pub pore: f64,
+    /// Water.
+    pub water: f64,
+    /// Non-aqueous phase.
+    pub oil: f64,
+    /// Trapped non-aqueous phase.
+    pub oil_trapped: f64,
+}
+
 #[derive(Clone, Copy, Default)]
 struct Sums {
     water: f64,
@@ -149,6 +176,69 @@ impl Engine<'_> {
         }
     }
 
+    /// Phase volumes of element `e` at the current state, m³: the one
+    /// formula behind every saturation of the engine (see the module
+    /// docs). Water counts the clay volume; `water + oil` is the element's
+    /// pore volume (clay included).
+    #[inline]
+    pub fn element_volumes(&self, e: usize) -> ElementVolumes {
+        let v = self.volume[e];
+        let (aw, ao_layer) = self.element_areas(e);
+        let area = self.setup.geometry.area(e);
+        ElementVolumes {
+            water: self.clay[e] + v * aw / area,
+            oil: v * (area - aw) / area,
+            corner_water: if self.live.state.oil[e] {
+                v * aw / area
+            } else {
+                0.0
+            },
+            layer_oil: v * ao_layer / area,
+        }
+    }
+
+    /// Phase volumes summed over regions of the sample (slabs of a
+    /// saturation profile, an interior window): element `e` belongs to
+    /// region `region[e]` (`u32::MAX` or any value `≥ n_regions`: none).
+    /// Parallel with fixed grouping ([`CHUNK`]): the same bits with any
+    /// number of threads. Whole-sample saturations follow from the sums
+    /// over every region when every element belongs to one.
+    pub fn region_volumes(&self, region: &[u32], n_regions: usize) -> Vec<RegionVolumes> {
+        let n = self.volume.len().min(region.len());
+        let n_chunks = n.div_ceil(CHUNK);
+        let parts: Vec<Vec<RegionVolumes>> = (0..n_chunks)
+            .into_par_iter()
+            .map(|c| {
+                let mut acc = vec![RegionVolumes::default(); n_regions];
+                for e in c * CHUNK..((c + 1) * CHUNK).min(n) {
+                    let r = region[e] as usize;
+                    if r >= n_regions {
+                        continue;
+                    }
+                    let ev = self.element_volumes(e);
+                    let a = &mut acc[r];
+                    a.pore += ev.water + ev.oil;
+                    a.water += ev.water;
+                    a.oil += ev.oil;
+                    if self.live.state.oil_trapped[e] {
+                        a.oil_trapped += ev.oil;
+                    }
+                }
+                acc
+            })
+            .collect();
+        let mut out = vec![RegionVolumes::default(); n_regions];
+        for part in parts {
+            for (o, p) in out.iter_mut().zip(part) {
+                o.pore += p.pore;
+                o.water += p.water;
+                o.oil += p.oil;
+                o.oil_trapped += p.oil_trapped;
+            }
+        }
+        out
+    }
+
     /// Saturations of the current state recomputed element by element
     /// (parallel, deterministic): the reference for [`Engine::saturation`].
     pub fn saturation_full(&self) -> Saturation {
@@ -160,23 +250,19 @@ impl Engine<'_> {
                 let mut acc = Sums::default();
                 for e in c * CHUNK..((c + 1) * CHUNK).min(n) {
                     let s = &self.live.state;
-                    let v = self.volume[e];
-                    let (aw, ao_layer) = self.element_areas(e);
-                    let area = self.setup.geometry.area(e);
-                    let w = self.clay[e] + v * aw / area;
-                    let o = v * (area - aw) / area;
-                    acc.water += w;
-                    acc.oil += o;
+                    let ev = self.element_volumes(e);
+                    acc.water += ev.water;
+                    acc.oil += ev.oil;
                     if s.oil_trapped[e] {
-                        acc.oil_trapped += o;
+                        acc.oil_trapped += ev.oil;
                     }
                     if s.water_trapped[e] {
-                        acc.water_trapped += w;
+                        acc.water_trapped += ev.water;
                     }
                     if s.oil[e] {
-                        acc.corners += v * aw / area;
+                        acc.corners += ev.corner_water;
                     }
-                    acc.layers += v * ao_layer / area;
+                    acc.layers += ev.layer_oil;
                 }
                 acc
             })

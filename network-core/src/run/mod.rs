@@ -10,6 +10,7 @@ pub mod end_points;
 pub mod indices;
 pub mod model_limits;
 pub mod process;
+pub mod profiles;
 pub mod relperm;
 
 use crate::engine::Engine;
@@ -28,6 +29,7 @@ use crate::wettability::ContactAngles;
 use end_points::{ArchieSummary, EndPoints, ProcessFits};
 use indices::WettabilityIndices;
 use process::{Point, ProcessOutcome, run_process_observed};
+use profiles::{EndEffects, PointProfile, ProfileLayout, ProfileRecorder};
 use relperm::{FlowPoint, RelpermSolver};
 
 /// The program that made a result.
@@ -165,6 +167,9 @@ pub struct RunResults {
     pub single_phase: Option<PermeabilityReport>,
     /// End points of the curves.
     pub end_points: EndPoints,
+    /// Drainage faces, profile slabs, interior window and the end points
+    /// over the whole sample and the window.
+    pub end_effects: EndEffects,
     /// Fitted relative-permeability models per process.
     pub fits: Vec<ProcessFits>,
     /// Archie exponents.
@@ -180,6 +185,13 @@ pub struct RunResults {
     /// Recorded curves, per process.
     #[serde(skip)]
     pub outcomes: Vec<ProcessOutcome>,
+    /// Saturation profile of every recorded point: `profiles[i][k]` belongs
+    /// to point `k` of process `i`.
+    #[serde(skip)]
+    pub profiles: Vec<Vec<PointProfile>>,
+    /// The slabs of the profiles and the interior window.
+    #[serde(skip)]
+    pub profile_layout: Option<ProfileLayout>,
     /// Trapped ganglia at the end of the first imbibition.
     #[serde(skip)]
     pub ganglia: Vec<Ganglion>,
@@ -204,6 +216,12 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
     let mut ganglia = None;
     let axis = study.flow.axis.unwrap_or(network.info().flow_axis);
     let (single_phase, mut relperm) = flow_references(network, study, axis, &mut warnings);
+    let layout = ProfileLayout::new(network, axis, &study.output);
+    if layout.window.is_some() && layout.window_pore_volume_m3 <= 0.0 {
+        warnings
+            .push("the interior window holds no pore volume: no interior saturations".to_string());
+    }
+    let mut profiles = Vec::new();
     for (i, p) in study.processes.iter().enumerate() {
         if p.kind == ProcessKind::Imbibition && i == 1 {
             engine.alter_wettability(&study.wettability);
@@ -214,17 +232,25 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
             warnings.extend(model_limits::low_initial_water(engine.saturation().sw));
         }
         let before = engine.snapshot();
+        let mut recorder = ProfileRecorder::default();
         let mut out = run_process_observed(
             &mut engine,
             p.kind,
             p.stop,
             p.pc_steps,
             progress,
-            &mut |_, _| {},
+            &mut |pt, eng| {
+                if relperm.is_none() {
+                    recorder.observe(&layout, pt, eng);
+                }
+            },
         );
         if let Some(rp) = relperm.as_mut() {
             engine.restore(before);
-            let (again, failures) = rerun_with_flow(&mut engine, p, &out.points, rp, progress);
+            let (again, failures) =
+                rerun_with_flow(&mut engine, p, &out.points, rp, progress, &mut |pt, eng| {
+                    recorder.observe(&layout, pt, eng)
+                });
             out = again;
             if let Some(f) = failures.first() {
                 warnings.push(format!(
@@ -266,8 +292,10 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
                 .as_ref()
                 .and_then(|r| r.water_pressure().map(<[f64]>::to_vec)),
         });
+        profiles.push(recorder.finish(&out.points));
         outcomes.push(out);
     }
+    let end_effects = layout.end_effects(engine.drainage_faces(), &outcomes, &profiles);
     let wettability_indices = indices::of_cycle(&outcomes);
     let processes = outcomes
         .iter()
@@ -304,6 +332,7 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         wettability_indices,
         end_points: end_points::end_points(&outcomes),
         fits: end_points::process_fits(&outcomes),
+        end_effects,
         archie: single_phase
             .as_ref()
             .map(|r| end_points::archie(r.porosity, r.formation_factor, &outcomes)),
@@ -312,6 +341,8 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         single_phase,
         warnings,
         outcomes,
+        profiles,
+        profile_layout: Some(layout),
         ganglia,
         end_states,
         angles: Some(engine.angles.clone()),
@@ -362,14 +393,16 @@ fn flow_references(
 
 /// The second, identical pass of a process from the same start, solving
 /// for flow at the points of the first pass (`first`) spaced evenly in
-/// saturation. Returns the outcome with `flow` filled at those points, and
-/// the messages of the solves that failed.
+/// saturation, calling `also` with every candidate point as the first pass
+/// would. Returns the outcome with `flow` filled at those points, and the
+/// messages of the solves that failed.
 fn rerun_with_flow(
     engine: &mut Engine<'_>,
     p: &crate::params::Process,
     first: &[Point],
     rp: &mut RelpermSolver,
     progress: &dyn Progress,
+    also: &mut dyn FnMut(&Point, &Engine<'_>),
 ) -> (ProcessOutcome, Vec<String>) {
     let chosen = kr_selection(first, p.kr_points);
     progress.start("flow solves", chosen.len() as u64);
@@ -382,6 +415,7 @@ fn rerun_with_flow(
         p.pc_steps,
         &crate::progress::Silent,
         &mut |pt, eng| {
+            also(pt, eng);
             if chosen.contains(&key(pt)) && !flows.iter().any(|(k, _)| *k == key(pt)) {
                 match rp.point(eng) {
                     Ok(f) => flows.push((key(pt), f)),

@@ -13,3 +13,4 @@ mod imbibition;
 mod io;
 mod mixed_wet;
 mod networks;
+mod profiles;

@@ -66,6 +66,10 @@ pub(super) fn inputs(r: &RunResults) -> Html {
             "Faces open to the displaced phase in imbibition",
             format!("{:?}", s.imbibition_faces).to_lowercase(),
         ),
+        (
+            "Faces the non-aqueous phase enters in drainage",
+            s.drainage_faces.as_str().to_string(),
+        ),
         ("Snap-off", yes_no(m.snap_off)),
         ("Oil layers", yes_no(m.oil_layers)),
         (

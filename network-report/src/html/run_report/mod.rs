@@ -1,6 +1,6 @@
 //! The HTML report of a study run: the page and its sections, in order.
 //! The sections are built in `inputs` (inputs and network), `results`
-//! (process results, wettability indices, trapped ganglia) and `fits` (end
+//! (process results, end effects, wettability indices, trapped ganglia) and `fits` (end
 //! points and fitted models); figures and warnings are here.
 //!
 //! The types the report reads from `network_core` are imported here, once,
@@ -18,7 +18,7 @@ use crate::plot::render_svg;
 
 use self::fits::fits;
 use self::inputs::{inputs, network};
-use self::results::{ganglia, processes, wettability};
+use self::results::{end_effects, ganglia, processes, wettability};
 
 mod fits;
 mod inputs;
@@ -59,6 +59,7 @@ pub fn run_report(results: &RunResults, figures: &[Figure]) -> String {
     page.section("Network", network(r));
     page.section("Process results", processes(r));
     page.section("End points and fitted models", fits(r));
+    page.section("End effects", end_effects(r));
     page.section("Wettability indices", wettability(r));
     page.section("Trapped ganglia", ganglia(r));
     page.section("Figures", figures_html(figures));

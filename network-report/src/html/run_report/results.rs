@@ -1,8 +1,8 @@
-//! The "Process results", "Wettability indices" and "Trapped ganglia"
-//! sections of the run report.
+//! The "Process results", "End effects", "Wettability indices" and
+//! "Trapped ganglia" sections of the run report.
 
 use super::{EventCounts, ProcessKind, RunResults, kpa, process_label};
-use crate::html::{Html, key_values, note, number, paragraph, subheading, table};
+use crate::html::{Html, input_number, key_values, note, number, paragraph, subheading, table};
 
 fn event_rows(counts: &[&EventCounts]) -> Vec<Vec<String>> {
     type Getter = fn(&EventCounts) -> u64;
@@ -158,5 +158,47 @@ pub(super) fn ganglia(r: &RunResults) -> Html {
              also holds ganglia held in throats only."
         )));
     }
+    h
+}
+
+/// The "End effects" section: drainage faces, profile slabs, interior
+/// window, and the end points over the whole sample and the window.
+pub(super) fn end_effects(r: &RunResults) -> Html {
+    let e = &r.end_effects;
+    let mut h = paragraph(&format!(
+        "The non-aqueous phase entered by {} in drainage. The saturation profile \
+         (profiles.csv, figure sw-profile) cuts the sample into {} equal slabs along the \
+         flow axis {}; saturations that differ near the faces are end effects.",
+        match e.drainage_faces.as_str() {
+            "all" => "every external face",
+            _ => "the inlet face",
+        },
+        e.profile_slabs,
+        e.flow_axis.as_str()
+    ));
+    let fmt = |v: Option<f64>| v.map_or("n/a".to_string(), |x| number(x, 4));
+    let mut rows = vec![vec![
+        "Whole sample".to_string(),
+        fmt(e.whole_sample.swi),
+        fmt(e.whole_sample.sni),
+        fmt(e.whole_sample.snr),
+    ]];
+    match (&e.interior_window, &e.interior) {
+        (Some(w), Some(i)) => rows.push(vec![
+            format!(
+                "Interior window {}–{} of the length ({} % of the pore volume)",
+                input_number(w.fraction[0]),
+                input_number(w.fraction[1]),
+                number(100.0 * w.pore_volume_fraction, 3)
+            ),
+            fmt(i.swi),
+            fmt(i.sni),
+            fmt(i.snr),
+        ]),
+        _ => h.push(note(
+            "No interior window was set ([output] interior_window): whole-sample values only.",
+        )),
+    }
+    h.push(table(&["Region", "Swi", "Sni", "Snr"], &rows));
     h
 }
