@@ -45,7 +45,10 @@ pub use brooks_corey::{
     brooks_corey_pc, fit_brooks_corey_kr, fit_brooks_corey_pc,
 };
 pub use corey::{CoreyFit, CoreyParams, corey_1954, fit_corey};
-pub use land::{LandFit, LandMethod, LandNormalisation, fit_land, land_residual};
+pub use land::{
+    LandFit, LandLsqFit, LandLsqOptions, LandMethod, LandNormalisation, LandShapeIssue, fit_land,
+    fit_land_least_squares, land_residual,
+};
 pub use let_model::{LET_E_BOUNDS, LET_L_BOUNDS, LET_T_BOUNDS, LetFit, LetParams, fit_let};
 
 /// Why a fit could not be made.
