@@ -512,7 +512,10 @@ pub fn fit_land_least_squares(
         .map(|(a, b)| b - land_residual(*a, c))
         .collect();
     let rss: f64 = residuals.iter().map(|r| r * r).sum();
-    let jj: f64 = x.iter().map(|a| (a * a / (1.0 + c * a).powi(2)).powi(2)).sum();
+    let jj: f64 = x
+        .iter()
+        .map(|a| (a * a / (1.0 + c * a).powi(2)).powi(2))
+        .sum();
     let c_se = (rss / (n - 1) as f64 / jj).sqrt();
     let rmse_snr = (rss / n as f64).sqrt();
 
@@ -602,7 +605,10 @@ pub fn fit_land_least_squares(
         }
     }
     let lo = keep.iter().map(|&i| sni[i]).fold(f64::INFINITY, f64::min);
-    let hi = keep.iter().map(|&i| sni[i]).fold(f64::NEG_INFINITY, f64::max);
+    let hi = keep
+        .iter()
+        .map(|&i| sni[i])
+        .fold(f64::NEG_INFINITY, f64::max);
     Ok(LandLsqFit {
         c,
         c_se,

@@ -431,7 +431,10 @@ fn land_least_squares_is_exact_on_noise_free_data() {
     assert!(fit.rmse_snr < 1e-15 && fit.c_se < 1e-12, "{fit:?}");
     assert_eq!((fit.n_points, fit.n_outside_range, fit.levels), (9, 0, 9));
     assert_eq!(fit.sni_range, (0.1, 0.9));
-    assert!(fit.shape_issues.is_empty() && fit.warning().is_none(), "{fit:?}");
+    assert!(
+        fit.shape_issues.is_empty() && fit.warning().is_none(),
+        "{fit:?}"
+    );
     // Small and large C, and a point with no trapping at all in a set that
     // traps: still exact where the data are exact.
     for c in [0.05, 8.0] {
