@@ -602,6 +602,87 @@ pub fn write_sweep_artifacts(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use network_core::sweep::{GroupSummary, TrappingPoint};
+
+    #[test]
+    fn value_with_standard_error_is_rounded_to_the_error() {
+        // Common practice: two significant figures of the error, the value
+        // to the same decimal place; no float noise, no "-0".
+        assert_eq!(
+            value_pm(0.927_439_356_964, 0.052_416_739_9),
+            "0.927 ± 0.052"
+        );
+        assert_eq!(value_pm(1.412_345, 0.079_1), "1.412 ± 0.079");
+        assert_eq!(value_pm(2.3456, 0.15), "2.35 ± 0.15");
+        assert_eq!(value_pm(12.345, 2.3), "12.3 ± 2.3");
+        assert_eq!(value_pm(-0.000_01, 0.02), "0.000 ± 0.020");
+        assert_eq!(value_pm(1.7, 0.0), "1.70");
+        assert_eq!(value_pm(1.7, f64::NAN), "1.70");
+    }
+
+    fn point(sni: f64, snr: f64) -> TrappingPoint {
+        let one = |m: f64| Spread {
+            n: 3,
+            mean: m,
+            std: 0.01,
+            p05: m - 0.01,
+            p95: m + 0.01,
+        };
+        TrappingPoint {
+            initial_water_saturation: Some(1.0 - sni),
+            sni: Some(one(sni)),
+            snr: Some(one(snr)),
+            krw_at_snr: None,
+            amott_water: None,
+            land_snr: Some(sni / (1.0 + 1.2 * sni)),
+            in_land_fit: true,
+        }
+    }
+
+    #[test]
+    fn trapping_figure_shows_points_the_land_fit_with_its_error_and_the_one_to_one_line() {
+        let g = GroupSummary {
+            group: 0,
+            parameters: vec![],
+            cases: 9,
+            trapping_curve: vec![point(0.3, 0.22), point(0.5, 0.31), point(0.7, 0.38)],
+            land_coefficient: Some(1.213_333_333),
+            land_coefficient_se: Some(0.043_21),
+            land_rmse_snr: Some(0.004),
+            land_points: 9,
+            land_sni_range: Some([0.3, 0.7]),
+            land_warning: Some("example warning".into()),
+        };
+        let summary = SweepSummary {
+            cases_total: 9,
+            cases_done: 9,
+            land_coefficient: g.land_coefficient,
+            land_coefficient_se: g.land_coefficient_se,
+            land_fit_sni_range: None,
+            groups: vec![g],
+        };
+        let figs = sweep_figures(&summary, &[]);
+        let f = figs.iter().find(|f| f.name == "trapping-curve").unwrap();
+        let labels: Vec<&str> = f.spec.series.iter().map(|s| s.label.as_str()).collect();
+        assert_eq!(labels[0], "S_nr = S_ni (everything trapped)");
+        assert_eq!(f.spec.series[0].y, f.spec.series[0].x);
+        assert!(labels[1].starts_with("S_nr (mean"), "{labels:?}");
+        let land = &f.spec.series[2];
+        assert_eq!(land.label, "Land C = 1.213 ± 0.043");
+        // The curve is Land's form with the fitted C (Land 1968), drawn to
+        // the highest fitted S_ni; the band is C ∓ se.
+        let (lo, hi) = land.band.as_ref().unwrap();
+        for k in 0..land.x.len() {
+            let s = land.x[k];
+            assert!((land.y[k] - s / (1.0 + 1.213_333_333 * s)).abs() < 1e-12);
+            assert!(lo[k] <= land.y[k] && land.y[k] <= hi[k]);
+        }
+        assert!((land.x.last().unwrap() - 0.7).abs() < 1e-12);
+        let page = sweep_report("t", &summary, &[], &figs);
+        assert!(page.contains("C = 1.213 ± 0.043"), "fit sentence missing");
+        assert!(page.contains("rmse 0.0040 in S_nr"), "rmse missing");
+        assert!(page.contains("Warning: example warning."));
+    }
 
     #[test]
     fn interpolation_is_exact_on_a_straight_line_and_none_outside() {
