@@ -16,7 +16,7 @@ cd "$(dirname "$0")/.."
 sums=tests/golden/demo-outputs.sha256
 mode=${1:-check}
 cargo build --release --locked -q -p network-cli
-bin=$PWD/target/release/ganglion
+bin=${CARGO_TARGET_DIR:-$PWD/target}/release/ganglion
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
 for study in kestrel-waterflood tarnwick-mixed-wet saltmere-co2-storage kestrel-trapping; do
