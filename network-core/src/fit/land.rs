@@ -1,11 +1,15 @@
-//! Land (1968) trapping: the trapping constant and the residual saturation.
+//! Land (1968) trapping: the trapping constant and the residual saturation,
+//! by linearised estimators ([`fit_land`]) or by least squares in `S_nr`
+//! with a shape diagnostic ([`fit_land_least_squares`]).
 
 use serde::Serialize;
 
 use super::FitError;
 use super::common::check_pair;
 
-/// How Land's constant is estimated.
+/// How [`fit_land`] estimates Land's constant: linearised estimators in
+/// `1/S_nr`. A trapping curve is better fitted in `S_nr` itself by
+/// [`fit_land_least_squares`], which sweeps use.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum LandMethod {
@@ -356,12 +360,12 @@ const SCAN: usize = 1000;
 /// points, refines it to a relative step of `1e-15`. The standard error is
 /// the linearised one of one-parameter non-linear least squares (e.g.
 /// Bates & Watts 1988, *Nonlinear Regression Analysis and Its
-/// Applications*, Wiley, §2.3): $se = \sqrt{s^2/\sum_i J_i^2}$,
+/// Applications*, Wiley): $se = \sqrt{s^2/\sum_i J_i^2}$,
 /// $s^2 = \mathrm{RSS}/(n - 1)$.
 ///
 /// Shape diagnostic ([`LandShapeIssue`]): replicate points (same level)
 /// give a pure-error spread, the classical lack-of-fit comparison (Draper
-/// & Smith 1998, *Applied Regression Analysis*, 3rd ed., Wiley, §2.1); the
+/// & Smith 1998, *Applied Regression Analysis*, 3rd ed., Wiley); the
 /// thresholds are ours: the fit misses when `rmse > 3 s_pe` and
 /// `rmse > 0.01`; the curve falls at the top when the mean `S_nr` of the
 /// highest `S_ni` lies below that of a lower `S_ni` by more than

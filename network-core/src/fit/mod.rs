@@ -26,7 +26,9 @@
 //! starts, keeps the best, and confines `L`, `E`, `T` to boxes (flagging a
 //! fit that ends on a bound). Parameter standard errors are the linearised
 //! estimates $s\sqrt{[(J^T J)^{-1}]_{jj}}$ with $s^2 = \mathrm{SSE}/(m - p)$,
-//! mapped back to the natural parameters.
+//! mapped back to the natural parameters. The one-parameter Land fit in
+//! `S_nr` ([`fit_land_least_squares`]) needs no solver: a fixed scan and a
+//! safeguarded Newton iteration find its minimum.
 
 mod archie;
 mod brooks_corey;

@@ -23,9 +23,12 @@
 //! cooperative draws) and, for a generated network, for the network.
 //!
 //! `land_fit_sni_range = [lo, hi]` (`0 < lo < hi ≤ 1`) restricts the
-//! least-squares Land fit of each group to the points with
-//! `lo ≤ S_ni ≤ hi` (fractions of the pore volume); the cases themselves
-//! do not change. Without it every point is fitted.
+//! least-squares Land fit of each group to the cases with
+//! `lo ≤ S_ni ≤ hi` (fractions of the pore volume, within
+//! [`LAND_RANGE_SLACK`] = 0.001, since drainage overshoots its target
+//! saturation by a fraction of one element); the cases themselves do not
+//! change, so finished cases are kept when only the range changes.
+//! Without it every case is fitted.
 
 use serde::{Deserialize, Serialize};
 
@@ -39,8 +42,8 @@ mod summary;
 
 pub use runner::{Collected, SweepError, SweepRun, collect, run_case};
 pub use summary::{
-    CaseCurve, CaseResult, GroupSummary, Spread, SweepSummary, TrappingPoint, summarise,
-    summarise_with,
+    CaseCurve, CaseResult, GroupSummary, LAND_RANGE_SLACK, Spread, SweepSummary, TrappingPoint,
+    summarise, summarise_with,
 };
 
 /// The `[sweep]` table.

@@ -236,10 +236,17 @@ pub fn summarise(total: usize, results: &[CaseResult]) -> SweepSummary {
     summarise_with(total, results, range)
 }
 
+/// How far (in saturation) a case's `S_ni` may lie outside
+/// `land_fit_sni_range` and still count as inside: drainage stops at the
+/// element that crosses the target saturation, so `S_ni` overshoots the
+/// target `1 − S_w` slightly (by under 1e-4 on the 8000-pore demo network).
+pub const LAND_RANGE_SLACK: f64 = 1e-3;
+
 /// Statistics of finished cases with the Land fit restricted to
-/// `lo ≤ S_ni ≤ hi` when `land_fit_sni_range` is given. Cases without an
-/// initial or residual saturation, with `S_ni = 0` or with `S_nr > S_ni`
-/// are left out of the fit.
+/// `lo ≤ S_ni ≤ hi` (widened by [`LAND_RANGE_SLACK`] at both ends) when
+/// `land_fit_sni_range` is given. Cases without an initial or residual
+/// saturation, with `S_ni = 0` or with `S_nr > S_ni` are left out of the
+/// fit.
 pub fn summarise_with(
     total: usize,
     results: &[CaseResult],
@@ -251,7 +258,8 @@ pub fn summarise_with(
     for r in &sorted {
         by_group.entry(r.case.group).or_default().push(r);
     }
-    let in_range = |s: f64| land_fit_sni_range.is_none_or(|[lo, hi]| lo <= s && s <= hi);
+    let widened = land_fit_sni_range.map(|[lo, hi]| (lo - LAND_RANGE_SLACK, hi + LAND_RANGE_SLACK));
+    let in_range = |s: f64| widened.is_none_or(|(lo, hi)| lo <= s && s <= hi);
     let mut groups = Vec::new();
     for (g, rs) in by_group {
         let mut by_swi: BTreeMap<u64, Vec<&CaseResult>> = BTreeMap::new();
@@ -268,7 +276,7 @@ pub fn summarise_with(
             }
         }
         let options = LandLsqOptions {
-            sni_range: land_fit_sni_range.map(|[lo, hi]| (lo, hi)),
+            sni_range: widened,
             levels: Some(&level),
             ..LandLsqOptions::default()
         };
