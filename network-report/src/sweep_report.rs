@@ -17,6 +17,53 @@ use crate::plot::{PlotSpec, Scale, Series, SeriesStyle, render_svg};
 /// Points of the common saturation grid of a band.
 const GRID: usize = 41;
 
+/// Colour of reference lines (the 1:1 line of the trapping curve).
+const REFERENCE_GREY: (u8, u8, u8) = (0xB0, 0xB0, 0xB0);
+
+/// `value ± se` rounded to the precision of the standard error: two
+/// significant figures of `se` and `value` to the same decimal place
+/// (common practice). Without a usable `se`, three significant figures.
+pub(crate) fn value_pm(value: f64, se: f64) -> String {
+    if !(se.is_finite() && se > 0.0 && value.is_finite()) {
+        return html::number(value, 3);
+    }
+    let decimals = (1 - se.log10().floor() as i32).clamp(0, 12) as usize;
+    let fmt = |v: f64| {
+        let t = format!("{v:.decimals$}");
+        // No "-0.00" from rounding a tiny negative value.
+        if t.trim_start_matches('-')
+            .chars()
+            .all(|ch| ch == '0' || ch == '.')
+        {
+            t.trim_start_matches('-').to_string()
+        } else {
+            t
+        }
+    };
+    format!("{} ± {}", fmt(value), fmt(se))
+}
+
+/// The Land fit of a group in one sentence (HTML text, not escaped yet).
+fn land_sentence(g: &network_core::sweep::GroupSummary) -> String {
+    match (
+        g.land_coefficient,
+        g.land_coefficient_se,
+        g.land_rmse_snr,
+        g.land_sni_range,
+    ) {
+        (Some(c), Some(se), Some(rmse), Some([lo, hi])) => format!(
+            "Land (1968) coefficient by least squares in S_nr over {} cases with S_ni {}–{}: \
+             C = {} (± one standard error), rmse {} in S_nr.",
+            g.land_points,
+            html::number(lo, 3),
+            html::number(hi, 3),
+            value_pm(c, se),
+            html::number(rmse, 2)
+        ),
+        _ => "No Land coefficient.".into(),
+    }
+}
+
 /// Linear interpolation of `y(x)` at `x0` on a curve sorted by `x`
 /// (`None` outside its range).
 fn interpolate(xs: &[f64], ys: &[f64], x0: f64) -> Option<f64> {
@@ -145,6 +192,7 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
         .unwrap_or_else(|| "oil".into());
     // Initial–residual curve with the Land fit of each group.
     let mut series = Vec::new();
+    let several = summary.groups.len() > 1;
     for (gi, g) in summary.groups.iter().enumerate() {
         let pts: Vec<(f64, Spread)> = g
             .trapping_curve
@@ -154,24 +202,45 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
         if pts.is_empty() {
             continue;
         }
+        if series.is_empty() {
+            series.push(
+                Series::line(
+                    "S_nr = S_ni (everything trapped)",
+                    vec![0.0, 1.0],
+                    vec![0.0, 1.0],
+                )
+                .with_style(SeriesStyle::Dashed)
+                .with_colour(REFERENCE_GREY),
+            );
+        }
         let colour = process_colour(gi);
         let x: Vec<f64> = pts.iter().map(|p| p.0).collect();
         let y: Vec<f64> = pts.iter().map(|p| p.1.mean).collect();
         let lo: Vec<f64> = pts.iter().map(|p| p.1.p05).collect();
         let hi: Vec<f64> = pts.iter().map(|p| p.1.p95).collect();
         series.push(
-            Series::line(format!("S_nr, {}", group_label(summary, gi)), x, y)
-                .with_style(SeriesStyle::Markers)
-                .with_colour(colour)
-                .with_band(lo, hi),
+            Series::line(
+                format!("S_nr (mean, 5–95 %), {}", group_label(summary, gi)),
+                x,
+                y,
+            )
+            .with_style(SeriesStyle::Markers)
+            .with_colour(colour)
+            .with_band(lo, hi),
         );
-        if let Some(c) = g.land_coefficient {
-            let sx: Vec<f64> = (0..=50).map(|k| k as f64 / 50.0).collect();
-            let sy: Vec<f64> = sx.iter().map(|&s| s / (1.0 + c * s)).collect();
+        if let (Some(c), Some(se), Some([_, top])) =
+            (g.land_coefficient, g.land_coefficient_se, g.land_sni_range)
+        {
+            let sx: Vec<f64> = (0..=50).map(|k| top * k as f64 / 50.0).collect();
+            let curve = |c: f64| -> Vec<f64> { sx.iter().map(|&s| s / (1.0 + c * s)).collect() };
+            let mut label = format!("Land C = {}", value_pm(c, se));
+            if several {
+                label = format!("{label}, {}", group_label(summary, gi));
+            }
             series.push(
-                Series::line(format!("Land fit C = {c:.2}"), sx, sy)
-                    .with_style(SeriesStyle::Dashed)
-                    .with_colour(colour),
+                Series::line(label, sx.clone(), curve(c))
+                    .with_colour(colour)
+                    .with_band(curve(c + se), curve((c - se).max(0.0))),
             );
         }
     }
@@ -181,8 +250,10 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
             title: "Initial–residual trapping curve".into(),
             caption: format!(
                 "Residual (trapped) {label} saturation after imbibition against the initial saturation \
-                 reached by drainage: mean over realisations with the 5–95 % band, and the Land (1968) \
-                 curve S_nr = S_ni/(1 + C S_ni) fitted to each group."
+                 reached by drainage: mean over realisations with the 5–95 % band; the Land (1968) \
+                 curve S_nr = S_ni/(1 + C S_ni) fitted by least squares in S_nr to every case of each \
+                 group, drawn up to the highest fitted S_ni with the band of C ± one standard error; \
+                 the dashed grey line S_nr = S_ni is the limit where everything stays trapped."
             ),
             spec: PlotSpec {
                 title: "Initial–residual trapping curve".into(),
@@ -413,37 +484,62 @@ pub fn sweep_report(
                 gi.to_string(),
                 group_label(summary, gi),
                 g.cases.to_string(),
-                g.land_coefficient
-                    .map_or("n/a".into(), |c| html::number(c, 4)),
+                match (g.land_coefficient, g.land_coefficient_se) {
+                    (Some(c), Some(se)) => value_pm(c, se),
+                    _ => "n/a".into(),
+                },
                 g.land_rmse_snr.map_or("n/a".into(), |c| html::number(c, 2)),
-                spread_text(g.snr),
-                spread_text(g.krw_at_snr),
-                spread_text(g.amott_water),
+                g.land_sni_range.map_or("n/a".into(), |[lo, hi]| {
+                    format!(
+                        "{} ({}–{})",
+                        g.land_points,
+                        html::number(lo, 3),
+                        html::number(hi, 3)
+                    )
+                }),
+                g.land_warning.clone().unwrap_or_else(|| "none".into()),
             ]
         })
         .collect();
-    page.section(
-        "Groups",
-        html::table(
-            &[
-                "group",
-                "parameters",
-                "cases",
-                "Land C",
-                "Land fit RMS (S_nr)",
-                "S_nr",
-                "k_rw at S_nr",
-                "Amott water index",
-            ],
-            &rows,
-        ),
+    let mut groups = html::table(
+        &[
+            "group",
+            "parameters",
+            "cases",
+            "Land C ± se",
+            "Land fit rmse (S_nr)",
+            "points fitted (S_ni range)",
+            "Land fit warning",
+        ],
+        &rows,
     );
+    groups.push(html::note(&format!(
+        "Land (1968, SPE J 8:149): S_nr = S_ni/(1 + C S_ni), C fitted by least squares in S_nr over \
+         every case of the group{}; the standard error is the linearised one, s/√Σ(∂S_nr/∂C)². A \
+         warning says when the points do not follow Land's form over the fitted range (the fit \
+         misses them by more than their scatter between realisations, S_nr falls at the highest \
+         S_ni, or the residuals trend); C is then a summary, not a property of the rock. \
+         Residual saturation, k_rw at S_nr and the Amott index are given per initial saturation \
+         below, never pooled over different S_ni.",
+        summary
+            .land_fit_sni_range
+            .map_or(String::new(), |[lo, hi]| format!(
+                " with {} ≤ S_ni ≤ {} (land_fit_sni_range)",
+                html::input_number(lo),
+                html::input_number(hi)
+            ))
+    )));
+    page.section("Groups", groups);
     let mut tables = Html::new();
     for (gi, g) in summary.groups.iter().enumerate() {
         tables.push(html::subheading(&format!(
             "Group {gi}: {}",
             group_label(summary, gi)
         )));
+        tables.push(html::paragraph(&land_sentence(g)));
+        if let Some(w) = &g.land_warning {
+            tables.push(html::paragraph(&format!("Warning: {w}.")));
+        }
         let rows: Vec<Vec<String>> = g
             .trapping_curve
             .iter()
@@ -453,15 +549,30 @@ pub fn sweep_report(
                         .map_or("as in the study".into(), |s| html::number(s, 3)),
                     spread_text(p.sni),
                     spread_text(p.snr),
+                    p.land_snr.map_or("n/a".into(), |v| html::number(v, 3)),
+                    if p.in_land_fit { "yes" } else { "no" }.into(),
+                    spread_text(p.krw_at_snr),
+                    spread_text(p.amott_water),
                 ]
             })
             .collect();
-        tables.push(html::table(&["target initial Sw", "S_ni", "S_nr"], &rows));
+        tables.push(html::table(
+            &[
+                "target initial Sw",
+                "S_ni",
+                "S_nr",
+                "Land fit S_nr",
+                "in the fit",
+                "k_rw at S_nr",
+                "Amott water index",
+            ],
+            &rows,
+        ));
     }
     page.section("Trapping tables", tables);
     page.footer(&format!(
-        "Made by ganglion {} from {} finished cases. Land (1968): 1/S_nr − 1/S_ni = C, saturations as \
-         fractions of the pore volume.",
+        "Made by ganglion {} from {} finished cases. Land (1968): S_nr = S_ni/(1 + C S_ni), \
+         saturations as fractions of the pore volume.",
         env!("CARGO_PKG_VERSION"),
         summary.cases_done
     ));
@@ -491,6 +602,87 @@ pub fn write_sweep_artifacts(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use network_core::sweep::{GroupSummary, TrappingPoint};
+
+    #[test]
+    fn value_with_standard_error_is_rounded_to_the_error() {
+        // Common practice: two significant figures of the error, the value
+        // to the same decimal place; no float noise, no "-0".
+        assert_eq!(
+            value_pm(0.927_439_356_964, 0.052_416_739_9),
+            "0.927 ± 0.052"
+        );
+        assert_eq!(value_pm(1.412_345, 0.079_1), "1.412 ± 0.079");
+        assert_eq!(value_pm(2.3456, 0.15), "2.35 ± 0.15");
+        assert_eq!(value_pm(12.345, 2.3), "12.3 ± 2.3");
+        assert_eq!(value_pm(-0.000_01, 0.02), "0.000 ± 0.020");
+        assert_eq!(value_pm(1.7, 0.0), "1.70");
+        assert_eq!(value_pm(1.7, f64::NAN), "1.70");
+    }
+
+    fn point(sni: f64, snr: f64) -> TrappingPoint {
+        let one = |m: f64| Spread {
+            n: 3,
+            mean: m,
+            std: 0.01,
+            p05: m - 0.01,
+            p95: m + 0.01,
+        };
+        TrappingPoint {
+            initial_water_saturation: Some(1.0 - sni),
+            sni: Some(one(sni)),
+            snr: Some(one(snr)),
+            krw_at_snr: None,
+            amott_water: None,
+            land_snr: Some(sni / (1.0 + 1.2 * sni)),
+            in_land_fit: true,
+        }
+    }
+
+    #[test]
+    fn trapping_figure_shows_points_the_land_fit_with_its_error_and_the_one_to_one_line() {
+        let g = GroupSummary {
+            group: 0,
+            parameters: vec![],
+            cases: 9,
+            trapping_curve: vec![point(0.3, 0.22), point(0.5, 0.31), point(0.7, 0.38)],
+            land_coefficient: Some(1.213_333_333),
+            land_coefficient_se: Some(0.043_21),
+            land_rmse_snr: Some(0.004),
+            land_points: 9,
+            land_sni_range: Some([0.3, 0.7]),
+            land_warning: Some("example warning".into()),
+        };
+        let summary = SweepSummary {
+            cases_total: 9,
+            cases_done: 9,
+            land_coefficient: g.land_coefficient,
+            land_coefficient_se: g.land_coefficient_se,
+            land_fit_sni_range: None,
+            groups: vec![g],
+        };
+        let figs = sweep_figures(&summary, &[]);
+        let f = figs.iter().find(|f| f.name == "trapping-curve").unwrap();
+        let labels: Vec<&str> = f.spec.series.iter().map(|s| s.label.as_str()).collect();
+        assert_eq!(labels[0], "S_nr = S_ni (everything trapped)");
+        assert_eq!(f.spec.series[0].y, f.spec.series[0].x);
+        assert!(labels[1].starts_with("S_nr (mean"), "{labels:?}");
+        let land = &f.spec.series[2];
+        assert_eq!(land.label, "Land C = 1.213 ± 0.043");
+        // The curve is Land's form with the fitted C (Land 1968), drawn to
+        // the highest fitted S_ni; the band is C ∓ se.
+        let (lo, hi) = land.band.as_ref().unwrap();
+        for k in 0..land.x.len() {
+            let s = land.x[k];
+            assert!((land.y[k] - s / (1.0 + 1.213_333_333 * s)).abs() < 1e-12);
+            assert!(lo[k] <= land.y[k] && land.y[k] <= hi[k]);
+        }
+        assert!((land.x.last().unwrap() - 0.7).abs() < 1e-12);
+        let page = sweep_report("t", &summary, &[], &figs);
+        assert!(page.contains("C = 1.213 ± 0.043"), "fit sentence missing");
+        assert!(page.contains("rmse 0.0040 in S_nr"), "rmse missing");
+        assert!(page.contains("Warning: example warning."));
+    }
 
     #[test]
     fn interpolation_is_exact_on_a_straight_line_and_none_outside() {

@@ -3,7 +3,7 @@
 use network_core::generate::{LatticeSpec, generate};
 use network_core::progress::Silent;
 use network_core::run::run_study;
-use network_core::sweep::{CaseResult, SweepStudy, summarise};
+use network_core::sweep::{CaseResult, SweepStudy, summarise, summarise_with};
 
 const TEXT: &str = r#"
 network = "unused"
@@ -66,4 +66,57 @@ fn sweep_summary_is_identical_for_any_thread_count_and_case_order() {
     let a = run_all(&forward, 1);
     assert_eq!(a, run_all(&forward, 2));
     assert_eq!(a, run_all(&backward, 2));
+}
+
+#[test]
+fn land_fit_sni_range_restricts_the_fitted_cases_and_statistics_stay_per_sni() {
+    // The range [0.5, 1] keeps the cases drained to Sw = 0.4 (S_ni ≈ 0.6)
+    // and leaves out those drained to Sw = 0.7 (S_ni ≈ 0.3); the cases
+    // themselves are the same, so only the Land fit changes.
+    let net = generate(
+        &LatticeSpec {
+            nx: 8,
+            ny: 8,
+            nz: 8,
+            ..LatticeSpec::default()
+        },
+        &Silent,
+    )
+    .unwrap();
+    let text = TEXT.replace(
+        "realisations = 2\n",
+        "realisations = 2\nland_fit_sni_range = [0.5, 1.0]\n",
+    );
+    let sweep = SweepStudy::parse(&text).unwrap();
+    let cases = sweep.cases();
+    let results: Vec<CaseResult> = cases
+        .iter()
+        .map(|c| CaseResult::from_run(c.clone(), &run_study(&net, &c.study(), &Silent)))
+        .collect();
+    let cut = summarise(cases.len(), &results);
+    let all = summarise_with(cases.len(), &results, None);
+    assert_eq!(cut.land_fit_sni_range, Some([0.5, 1.0]));
+    for (gc, ga) in cut.groups.iter().zip(&all.groups) {
+        let usable = |lo: f64| {
+            results
+                .iter()
+                .filter(|r| r.case.group == gc.group)
+                .filter(|r| {
+                    r.sni.unwrap() >= lo && (0.0..=r.sni.unwrap()).contains(&r.snr.unwrap())
+                })
+                .count()
+        };
+        assert_eq!(ga.land_points, usable(0.0), "{ga:?}");
+        assert_eq!(gc.land_points, usable(0.5), "{gc:?}");
+        assert!(gc.land_points < ga.land_points);
+        assert!(gc.land_sni_range.unwrap()[0] >= 0.5);
+        // One point per initial saturation, each with its own statistics.
+        assert_eq!(gc.trapping_curve.len(), 2);
+        let flags: Vec<bool> = gc.trapping_curve.iter().map(|p| p.in_land_fit).collect();
+        assert_eq!(flags, [false, true], "{gc:?}");
+        for p in &gc.trapping_curve {
+            assert_eq!(p.snr.unwrap().n, 2);
+            assert_eq!(p.amott_water.map(|a| a.n), Some(2));
+        }
+    }
 }

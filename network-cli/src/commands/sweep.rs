@@ -13,7 +13,9 @@ use crate::progress::Bars;
 ///
 /// OUT receives sweep-cases.json (every case and its study), cases/
 /// (one result file per finished case, written atomically), summary.json
-/// (statistics per parameter combination with the Land coefficient),
+/// (statistics per parameter combination with the least-squares Land
+/// coefficient, its standard error and a warning when the points are not
+/// Land-shaped),
 /// trapping-curve.csv, cases.csv, the figures (trapping curve with its Land
 /// fit, curves with their spread over realisations) and report.html. A sweep started again with the same
 /// study and OUT skips the cases already finished. `--case K` runs one
@@ -121,8 +123,15 @@ fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
                 .iter()
                 .map(|(p, v)| format!("{p} = {v}"))
                 .collect();
+            let land = match (g.land_coefficient, g.land_coefficient_se, g.land_rmse_snr) {
+                (Some(c), Some(se), Some(rmse)) => format!(
+                    "Land C {c:.3} ± {se:.3} (least squares over {} points, rmse {rmse:.3} in Snr)",
+                    g.land_points
+                ),
+                _ => "Land C n/a".to_string(),
+            };
             eprintln!(
-                "group {} ({}): {} cases, Land C {}",
+                "group {} ({}): {} cases, {land}",
                 g.group,
                 if params.is_empty() {
                     "base".to_string()
@@ -130,9 +139,10 @@ fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
                     params.join(", ")
                 },
                 g.cases,
-                g.land_coefficient
-                    .map_or("n/a".into(), |c| format!("{c:.3}"))
             );
+            if let Some(w) = &g.land_warning {
+                eprintln!("warning: group {}: {w}", g.group);
+            }
         }
         eprintln!("results in {}", out.display());
     }

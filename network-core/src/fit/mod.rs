@@ -26,7 +26,9 @@
 //! starts, keeps the best, and confines `L`, `E`, `T` to boxes (flagging a
 //! fit that ends on a bound). Parameter standard errors are the linearised
 //! estimates $s\sqrt{[(J^T J)^{-1}]_{jj}}$ with $s^2 = \mathrm{SSE}/(m - p)$,
-//! mapped back to the natural parameters.
+//! mapped back to the natural parameters. The one-parameter Land fit in
+//! `S_nr` ([`fit_land_least_squares`]) needs no solver: a fixed scan and a
+//! safeguarded Newton iteration find its minimum.
 
 mod archie;
 mod brooks_corey;
@@ -45,7 +47,10 @@ pub use brooks_corey::{
     brooks_corey_pc, fit_brooks_corey_kr, fit_brooks_corey_pc,
 };
 pub use corey::{CoreyFit, CoreyParams, corey_1954, fit_corey};
-pub use land::{LandFit, LandMethod, LandNormalisation, fit_land, land_residual};
+pub use land::{
+    LandFit, LandLsqFit, LandLsqOptions, LandMethod, LandNormalisation, LandShapeIssue, fit_land,
+    fit_land_least_squares, land_residual,
+};
 pub use let_model::{LET_E_BOUNDS, LET_L_BOUNDS, LET_T_BOUNDS, LetFit, LetParams, fit_let};
 
 /// Why a fit could not be made.

@@ -357,6 +357,277 @@ fn land_weighted_fit_of_noisy_residuals_is_within_four_standard_errors() {
     assert!(rel(fit.rmse_snr, sigma) < 0.35, "{fit:?}");
 }
 
+// --- Land by least squares in S_nr -------------------------------------------
+
+/// Land (1968), SPE J 8(2):149–156: `S_nr = S_ni/(1 + C S_ni)` at `levels`
+/// initial saturations evenly spaced on `[lo, hi]`, `reps` replicates each
+/// with seeded Gaussian noise of `sigma` in `S_nr`. Returns
+/// `(sni, snr, level labels, truth)`.
+fn land_data(
+    c: f64,
+    (lo, hi): (f64, f64),
+    levels: usize,
+    reps: usize,
+    sigma: f64,
+    seed: u64,
+) -> (Vec<f64>, Vec<f64>, Vec<usize>, Vec<f64>) {
+    let (mut sni, mut snr, mut lab, mut truth) = (vec![], vec![], vec![], vec![]);
+    for (l, s) in grid(lo, hi, levels).into_iter().enumerate() {
+        for r in 0..reps {
+            let t = s / (1.0 + c * s);
+            sni.push(s);
+            truth.push(t);
+            snr.push(t + sigma * normal(seed, (l * reps + r) as u64));
+            lab.push(l);
+        }
+    }
+    (sni, snr, lab, truth)
+}
+
+/// A-priori linearised standard error of C for noise `sigma` in `S_nr`:
+/// `σ/√(Σ J_i²)`, `J_i = −S_ni²/(1 + C S_ni)²` (analytic derivative of
+/// Land's form at the true C; independent of the solver).
+fn land_se_apriori(c: f64, sni: &[f64], sigma: f64) -> f64 {
+    let jj: f64 = sni
+        .iter()
+        .map(|s| (s * s / (1.0 + c * s).powi(2)).powi(2))
+        .sum();
+    sigma / jj.sqrt()
+}
+
+/// Independent least squares for the tests: golden-section search
+/// (Kiefer 1953, Proc. AMS 4:502–506) of `Σ (S_nr − S_ni/(1 + C S_ni))²`
+/// over `C ∈ [0, 20]` to a bracket of 1e-13.
+fn land_golden(sni: &[f64], snr: &[f64]) -> f64 {
+    let f = |c: f64| -> f64 {
+        sni.iter()
+            .zip(snr)
+            .map(|(a, b)| (b - a / (1.0 + c * a)).powi(2))
+            .sum()
+    };
+    let r = (5f64.sqrt() - 1.0) / 2.0;
+    let (mut a, mut b) = (0.0, 20.0);
+    while b - a > 1e-13 {
+        let (x1, x2) = (b - r * (b - a), a + r * (b - a));
+        if f(x1) < f(x2) {
+            b = x2;
+        } else {
+            a = x1;
+        }
+    }
+    0.5 * (a + b)
+}
+
+#[test]
+fn land_least_squares_is_exact_on_noise_free_data() {
+    // Land (1968): data generated with C = 1.3 are fitted exactly.
+    let (sni, snr, lab, _) = land_data(1.3, (0.1, 0.9), 9, 1, 0.0, 1);
+    let o = LandLsqOptions {
+        levels: Some(&lab),
+        ..LandLsqOptions::default()
+    };
+    let fit = fit_land_least_squares(&sni, &snr, &o).unwrap();
+    assert!(rel(fit.c, 1.3) < 1e-12, "{fit:?}");
+    assert!(fit.rmse_snr < 1e-15 && fit.c_se < 1e-12, "{fit:?}");
+    assert_eq!((fit.n_points, fit.n_outside_range, fit.levels), (9, 0, 9));
+    assert_eq!(fit.sni_range, (0.1, 0.9));
+    assert!(
+        fit.shape_issues.is_empty() && fit.warning().is_none(),
+        "{fit:?}"
+    );
+    // Small and large C, and a point with no trapping at all in a set that
+    // traps: still exact where the data are exact.
+    for c in [0.05, 8.0] {
+        let (sni, snr, _, _) = land_data(c, (0.05, 1.0), 12, 1, 0.0, 1);
+        let fit = fit_land_least_squares(&sni, &snr, &LandLsqOptions::default()).unwrap();
+        assert!(rel(fit.c, c) < 1e-12, "{c}: {fit:?}");
+    }
+}
+
+#[test]
+fn land_least_squares_of_noisy_data_is_within_two_standard_errors() {
+    // Land (1968) with C = 0.9, five initial saturations × four
+    // realisations, seeded noise σ = 0.004 in S_nr. Check values: the
+    // a-priori standard error (analytic Jacobian at the true C) and an
+    // independent golden-section least squares written here.
+    let (c, sigma) = (0.9, 0.004);
+    let (sni, snr, lab, _) = land_data(c, (0.2, 0.85), 5, 4, sigma, 31);
+    let o = LandLsqOptions {
+        levels: Some(&lab),
+        ..LandLsqOptions::default()
+    };
+    let fit = fit_land_least_squares(&sni, &snr, &o).unwrap();
+    let se = land_se_apriori(c, &sni, sigma);
+    assert!((fit.c - c).abs() < 2.0 * se, "{fit:?} a-priori se {se}");
+    assert!((fit.c - c).abs() < 2.0 * fit.c_se, "{fit:?}");
+    // The reported se estimates the a-priori one (s estimates σ; within
+    // 40 % for 20 points).
+    assert!(rel(fit.c_se, se) < 0.4, "{fit:?} a-priori se {se}");
+    // Same minimum as an independent solver.
+    let g = land_golden(&sni, &snr);
+    assert!((fit.c - g).abs() < 1e-9, "{} vs golden {g}", fit.c);
+    // Land-shaped data with realistic scatter raise no warning; the pure
+    // error estimates σ.
+    assert!(fit.shape_issues.is_empty(), "{:?}", fit.warning());
+    assert!(rel(fit.pure_error_sd.unwrap(), sigma) < 0.4, "{fit:?}");
+    assert_eq!(fit.levels, 5);
+    assert_eq!(fit.residuals.len(), 20);
+}
+
+#[test]
+fn land_least_squares_standard_error_shrinks_with_more_points() {
+    // Analytic: se = s/√(Σ J²) falls as 1/√n for replicated designs;
+    // sixteen times the realisations quarter it (within the scatter of s).
+    let (c, sigma) = (1.4, 0.005);
+    let se = |reps: usize| {
+        let (sni, snr, lab, _) = land_data(c, (0.2, 0.8), 4, reps, sigma, 5);
+        let o = LandLsqOptions {
+            levels: Some(&lab),
+            ..LandLsqOptions::default()
+        };
+        fit_land_least_squares(&sni, &snr, &o).unwrap().c_se
+    };
+    let (few, many) = (se(4), se(64));
+    assert!(many < 0.4 * few && many > 0.15 * few, "{few} → {many}");
+}
+
+#[test]
+fn land_least_squares_range_filters_points_and_warns_outside_land_shape() {
+    // Land-shaped (C = 1.2) up to S_ni = 0.6, then S_nr falling, as a
+    // network can give at high S_ni. Over every point the fit warns that
+    // S_nr falls at the high end; restricted to [0.1, 0.6] it is exact and
+    // quiet (analytic derivation: the restricted data are Land's form).
+    let c = 1.2;
+    let sni = grid(0.1, 0.9, 9);
+    let snr: Vec<f64> = sni
+        .iter()
+        .map(|&s| {
+            let top = 0.6 / (1.0 + c * 0.6);
+            if s <= 0.6 + 1e-12 {
+                s / (1.0 + c * s)
+            } else {
+                top - 0.3 * (s - 0.6)
+            }
+        })
+        .collect();
+    let all = fit_land_least_squares(&sni, &snr, &LandLsqOptions::default()).unwrap();
+    assert!(
+        all.shape_issues
+            .iter()
+            .any(|i| matches!(i, LandShapeIssue::FallsAtHighEnd { .. })),
+        "{all:?}"
+    );
+    assert!(all.warning().unwrap().contains("not Land-shaped"));
+    let o = LandLsqOptions {
+        sni_range: Some((0.1, 0.6 + 1e-9)),
+        ..LandLsqOptions::default()
+    };
+    let cut = fit_land_least_squares(&sni, &snr, &o).unwrap();
+    assert_eq!((cut.n_points, cut.n_outside_range), (6, 3));
+    assert!((cut.sni_range.1 - 0.6).abs() < 1e-12);
+    assert!(rel(cut.c, c) < 1e-12, "{cut:?}");
+    assert!(cut.warning().is_none(), "{cut:?}");
+}
+
+#[test]
+fn land_least_squares_flags_data_the_curve_misses() {
+    // Analytic derivation: S_nr = 0.6 S_ni is a straight line, which
+    // Land's form (concave, slope 1 at the origin) cannot follow over
+    // 0.2–0.8; with replicate scatter of 0.002 the misfit is many times
+    // the scatter.
+    let sni_levels = grid(0.2, 0.8, 4);
+    let (mut sni, mut snr, mut lab) = (vec![], vec![], vec![]);
+    for (l, &s) in sni_levels.iter().enumerate() {
+        for r in 0..4 {
+            sni.push(s);
+            snr.push(0.6 * s + 0.002 * normal(9, (4 * l + r) as u64));
+            lab.push(l);
+        }
+    }
+    let o = LandLsqOptions {
+        levels: Some(&lab),
+        ..LandLsqOptions::default()
+    };
+    let fit = fit_land_least_squares(&sni, &snr, &o).unwrap();
+    assert!(
+        fit.shape_issues
+            .iter()
+            .any(|i| matches!(i, LandShapeIssue::ResidualsExceedScatter { .. })),
+        "{fit:?}"
+    );
+    // The same straight line at eight levels without replicates: the mean
+    // residuals change sign once (negative at low S_ni, positive at high).
+    let sni = grid(0.1, 0.9, 8);
+    let snr: Vec<f64> = sni.iter().map(|s| 0.6 * s).collect();
+    let fit = fit_land_least_squares(&sni, &snr, &LandLsqOptions::default()).unwrap();
+    assert!(
+        fit.shape_issues
+            .iter()
+            .any(|i| matches!(i, LandShapeIssue::ResidualTrend { runs: 2, .. })),
+        "{fit:?}"
+    );
+    // One initial saturation only: said so.
+    let fit = fit_land_least_squares(
+        &[0.5, 0.5, 0.5],
+        &[0.31, 0.3, 0.32],
+        &LandLsqOptions::default(),
+    )
+    .unwrap();
+    assert_eq!(fit.shape_issues.len(), 1);
+    assert!(matches!(
+        fit.shape_issues[0],
+        LandShapeIssue::SingleLevel { .. }
+    ));
+}
+
+#[test]
+fn land_least_squares_refuses_bad_input() {
+    let d = LandLsqOptions::default();
+    assert!(matches!(
+        fit_land_least_squares(&[0.5, 0.3], &[0.2, 0.4], &d),
+        Err(FitError::OutOfRange {
+            what: "snr (normalised)",
+            index: 1,
+            ..
+        })
+    ));
+    assert!(matches!(
+        fit_land_least_squares(&[0.5], &[0.2], &d),
+        Err(FitError::TooFewPoints { n_used: 1, .. })
+    ));
+    assert!(matches!(
+        fit_land_least_squares(&[0.5, 0.6], &[0.0, 0.0], &d),
+        Err(FitError::Degenerate { .. })
+    ));
+    let o = LandLsqOptions {
+        sni_range: Some((0.6, 0.4)),
+        ..d
+    };
+    assert!(matches!(
+        fit_land_least_squares(&[0.5, 0.6], &[0.3, 0.3], &o),
+        Err(FitError::InvalidParameter {
+            name: "sni_range",
+            ..
+        })
+    ));
+    let o = LandLsqOptions {
+        sni_range: Some((0.7, 0.9)),
+        ..d
+    };
+    assert!(matches!(
+        fit_land_least_squares(&[0.5, 0.6], &[0.3, 0.3], &o),
+        Err(FitError::TooFewPoints { n_used: 0, .. })
+    ));
+    let o = LandLsqOptions {
+        levels: Some(&[0]),
+        ..d
+    };
+    assert!(matches!(
+        fit_land_least_squares(&[0.5, 0.6], &[0.3, 0.3], &o),
+        Err(FitError::LengthMismatch { .. })
+    ));
+}
+
 // --- Archie ----------------------------------------------------------------
 
 #[test]
@@ -540,6 +811,7 @@ mod no_panic {
             let _ = fit_brooks_corey_kr(&x, Some(&y), Some(&y), o.normalisation, o.objective);
             let _ = fit_brooks_corey_pc(&x, &y, ResidualSaturation::Fit);
             let _ = fit_land(&x, &y, LandMethod::Weighted, LandNormalisation::PoreVolume);
+            let _ = fit_land_least_squares(&x, &y, &LandLsqOptions::default());
             let _ = fit_archie_m(&x, &y, Prefactor::Free);
             let _ = fit_archie_n(&x, &y, Prefactor::Fixed(1.0));
         }

@@ -78,7 +78,9 @@ pub struct EndPoints {
     pub krw_at_snr: Option<f64>,
     /// `k_rn` at the end of primary drainage.
     pub krn_at_swi: Option<f64>,
-    /// Land coefficient `C = 1/S_nr − 1/S_ni` of this run (Land 1968).
+    /// Single-point Land coefficient `C = 1/S_nr − 1/S_ni` from this run's
+    /// one `(S_ni, S_nr)` pair (Land 1968); a sweep over initial saturations
+    /// fits `C` to a whole trapping curve.
     pub land_coefficient: Option<f64>,
 }
 

@@ -8,6 +8,7 @@
 //! initial_water_saturations = [0.8, 0.6, 0.4, 0.2]   # or: initial_saturation_points = 6
 //! realisations = 4
 //! relative_permeability = false                     # kr per case (slower)
+//! land_fit_sni_range = [0.1, 0.8]                   # optional: Sni fitted by Land
 //! [sweep.parameters]
 //! "wettability.advancing_contact_angle_deg" = [[20.0, 40.0], [50.0, 70.0]]
 //! "fluids.interfacial_tension_n_per_m" = [0.02, 0.03]
@@ -20,6 +21,14 @@
 //! cases run or in what order. Realisation `r` uses seed `seed + r` for
 //! every random draw of the run (contact angles, triangle shapes,
 //! cooperative draws) and, for a generated network, for the network.
+//!
+//! `land_fit_sni_range = [lo, hi]` (`0 < lo < hi ≤ 1`) restricts the
+//! least-squares Land fit of each group to the cases with
+//! `lo ≤ S_ni ≤ hi` (fractions of the pore volume, within
+//! [`LAND_RANGE_SLACK`] = 0.001, since drainage overshoots its target
+//! saturation by a fraction of one element); the cases themselves do not
+//! change, so finished cases are kept when only the range changes.
+//! Without it every case is fitted.
 
 use serde::{Deserialize, Serialize};
 
@@ -33,7 +42,8 @@ mod summary;
 
 pub use runner::{Collected, SweepError, SweepRun, collect, run_case};
 pub use summary::{
-    CaseCurve, CaseResult, GroupSummary, Spread, SweepSummary, TrappingPoint, summarise,
+    CaseCurve, CaseResult, GroupSummary, LAND_RANGE_SLACK, Spread, SweepSummary, TrappingPoint,
+    summarise, summarise_with,
 };
 
 /// The `[sweep]` table.
@@ -48,6 +58,8 @@ pub struct SweepSpec {
     pub realisations: usize,
     /// Compute relative permeability in every case.
     pub relative_permeability: bool,
+    /// `S_ni` range `[lo, hi]` of the Land fit (`None`: every point).
+    pub land_fit_sni_range: Option<[f64; 2]>,
 }
 
 /// One case of a sweep.
@@ -68,6 +80,10 @@ pub struct Case {
     pub study_text: String,
     /// A hash of `study_text` (identifies finished results on resume).
     pub study_hash: String,
+    /// The sweep's `land_fit_sni_range` (the same in every case; kept here
+    /// so that `collect` finds it in the case list).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub land_fit_sni_range: Option<[f64; 2]>,
 }
 
 /// A study with its sweep: the base TOML and the sweep specification.
@@ -239,6 +255,32 @@ impl SweepStudy {
                         err(text, "sweep.relative_permeability", "must be true or false")
                     })?;
                 }
+                "land_fit_sni_range" => {
+                    let key = "sweep.land_fit_sni_range";
+                    let bad = |m: String| err(text, key, m);
+                    let arr = v.as_array().filter(|a| a.len() == 2).ok_or_else(|| {
+                        bad(format!(
+                            "must be a list of two saturations [lo, hi], got {v}"
+                        ))
+                    })?;
+                    let mut lohi = [0.0; 2];
+                    for (slot, x) in lohi.iter_mut().zip(arr) {
+                        *slot = x
+                            .as_float()
+                            .or_else(|| x.as_integer().map(|i| i as f64))
+                            .filter(|f| *f > 0.0 && *f <= 1.0)
+                            .ok_or_else(|| {
+                                bad(format!("value {x} must be an initial saturation in (0, 1]"))
+                            })?;
+                    }
+                    if lohi[0] >= lohi[1] {
+                        return Err(bad(format!(
+                            "lower end {} must be below upper end {}",
+                            lohi[0], lohi[1]
+                        )));
+                    }
+                    spec.land_fit_sni_range = Some(lohi);
+                }
                 "parameters" => {
                     let t = v.as_table().ok_or_else(|| {
                         err(
@@ -263,7 +305,7 @@ impl SweepStudy {
                         text,
                         &format!("sweep.{other}"),
                         "unknown key; expected initial_water_saturations, initial_saturation_points, \
-                         realisations, relative_permeability or parameters",
+                         realisations, relative_permeability, land_fit_sni_range or parameters",
                     ));
                 }
             }
@@ -364,6 +406,7 @@ impl SweepStudy {
                         group,
                         study_hash: hash_text(&study_text),
                         study_text,
+                        land_fit_sni_range: self.spec.land_fit_sni_range,
                     });
                 }
             }
@@ -448,6 +491,56 @@ realisations = 3
         let bad = TEXT.replace("[[20.0, 40.0], [50.0, 70.0]]", "[[20.0, 400.0]]");
         let e = SweepStudy::parse(&bad).unwrap_err();
         assert!(e.to_string().contains("advancing_contact_angle_deg"), "{e}");
+    }
+
+    #[test]
+    fn land_fit_sni_range_is_parsed_and_reaches_every_case() {
+        let with = TEXT.replace(
+            "realisations = 3\n",
+            "realisations = 3\nland_fit_sni_range = [0.1, 0.75]\n",
+        );
+        let s = SweepStudy::parse(&with).unwrap();
+        assert_eq!(s.spec.land_fit_sni_range, Some([0.1, 0.75]));
+        assert!(
+            s.cases()
+                .iter()
+                .all(|c| c.land_fit_sni_range == Some([0.1, 0.75]))
+        );
+        // The range does not change the cases' studies (finished cases stay
+        // valid when only the fit range changes).
+        let without = SweepStudy::parse(TEXT).unwrap();
+        assert_eq!(s.cases()[5].study_hash, without.cases()[5].study_hash);
+        assert_eq!(without.spec.land_fit_sni_range, None);
+    }
+
+    #[test]
+    fn bad_land_fit_sni_range_is_refused_with_key_and_line() {
+        // The key sits on line 16 of the text below (TEXT starts with a
+        // newline, so its first key is on line 2).
+        for (value, says) in [
+            ("[0.7, 0.3]", "must be below"),
+            ("[0.5, 0.5]", "must be below"),
+            ("[0.0, 0.5]", "(0, 1]"),
+            ("[0.2, 1.5]", "(0, 1]"),
+            ("[0.2]", "two saturations"),
+            ("0.5", "two saturations"),
+            ("[\"a\", 0.5]", "(0, 1]"),
+        ] {
+            let bad = TEXT.replace(
+                "realisations = 3\n",
+                &format!("realisations = 3\nland_fit_sni_range = {value}\n"),
+            );
+            let e = SweepStudy::parse(&bad).unwrap_err();
+            assert_eq!(e.0[0].key, "sweep.land_fit_sni_range", "{value}: {e}");
+            assert_eq!(e.0[0].line, Some(16), "{value}: {e}");
+            assert!(e.to_string().contains(says), "{value}: {e}");
+        }
+        // Upper end 1 is allowed.
+        let ok = TEXT.replace(
+            "realisations = 3\n",
+            "realisations = 3\nland_fit_sni_range = [0.2, 1]\n",
+        );
+        assert!(SweepStudy::parse(&ok).is_ok());
     }
 
     #[test]

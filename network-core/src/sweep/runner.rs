@@ -12,7 +12,7 @@ use std::sync::Mutex;
 
 use rayon::prelude::*;
 
-use super::{Case, CaseResult, SweepStudy, SweepSummary, summarise};
+use super::{Case, CaseResult, SweepStudy, SweepSummary, summarise_with};
 use crate::io::study::{StudyInputError, study_network};
 use crate::io::sweep_store::{self, StoreError};
 use crate::progress::{Progress, Silent};
@@ -180,7 +180,10 @@ pub fn collect(out: &Path) -> Result<Collected, SweepError> {
             None => missing.push(c.index),
         }
     }
-    let summary = summarise(cases.len(), &results);
+    // The fit range of the case list (the current study), not of the
+    // result files, which a changed range does not invalidate.
+    let range = cases.first().and_then(|c| c.land_fit_sni_range);
+    let summary = summarise_with(cases.len(), &results, range);
     Ok(Collected {
         cases,
         results,

@@ -1,14 +1,17 @@
 //! What a sweep's cases give, and their statistics: one [`CaseResult`]
 //! per finished case, grouped by parameter combination into a
-//! [`SweepSummary`] (spreads over realisations, the trapping curve and its
-//! Land coefficient).
+//! [`SweepSummary`] (spreads over realisations per initial saturation, the
+//! trapping curve and its least-squares Land coefficient). Statistics are
+//! never pooled over different initial saturations: a residual saturation,
+//! `k_rw` at `S_nr` or Amott index is given per point of the trapping
+//! curve.
 
 use std::collections::BTreeMap;
 
 use serde::{Deserialize, Serialize};
 
 use super::Case;
-use crate::fit::{LandMethod, LandNormalisation, fit_land};
+use crate::fit::{LandLsqOptions, fit_land_least_squares, land_residual};
 use crate::run::RunResults;
 
 /// A recorded curve of one process, kept per case for bands.
@@ -156,7 +159,8 @@ impl Spread {
     }
 }
 
-/// One point of an initial–residual curve.
+/// One point of an initial–residual curve: the cases of one group and one
+/// initial saturation (its realisations).
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct TrappingPoint {
     /// Target initial water saturation.
@@ -165,6 +169,15 @@ pub struct TrappingPoint {
     pub sni: Option<Spread>,
     /// Residual non-aqueous saturation over realisations.
     pub snr: Option<Spread>,
+    /// `k_rw` at the end of the first imbibition over realisations.
+    pub krw_at_snr: Option<Spread>,
+    /// Amott water index over realisations.
+    pub amott_water: Option<Spread>,
+    /// The group's fitted Land curve at the mean `S_ni` of this point.
+    pub land_snr: Option<f64>,
+    /// Whether this point's cases entered the Land fit (inside
+    /// `land_fit_sni_range`).
+    pub in_land_fit: bool,
 }
 
 /// Statistics of one parameter combination.
@@ -178,18 +191,22 @@ pub struct GroupSummary {
     pub cases: usize,
     /// The initial–residual curve, one point per initial saturation.
     pub trapping_curve: Vec<TrappingPoint>,
-    /// Land coefficient by least squares of `1/S_nr − 1/S_ni` over every
-    /// case of the group (Land 1968; saturations as fractions of the pore
-    /// volume).
+    /// Land coefficient `C` by least squares in `S_nr` of
+    /// `S_nr = S_ni/(1 + C S_ni)` over every case of the group inside the
+    /// fit's `S_ni` range (Land 1968, SPE J 8:149; saturations as fractions
+    /// of the pore volume; see [`crate::fit::fit_land_least_squares`]).
     pub land_coefficient: Option<f64>,
+    /// Linearised standard error of `land_coefficient`.
+    pub land_coefficient_se: Option<f64>,
     /// RMS of the Land fit in `S_nr`.
     pub land_rmse_snr: Option<f64>,
-    /// Residual saturation over all cases of the group.
-    pub snr: Option<Spread>,
-    /// `k_rw` at `S_nr` over all cases.
-    pub krw_at_snr: Option<Spread>,
-    /// Amott water index over all cases.
-    pub amott_water: Option<Spread>,
+    /// Cases (points) in the Land fit.
+    pub land_points: usize,
+    /// Smallest and largest `S_ni` of the fitted points.
+    pub land_sni_range: Option<[f64; 2]>,
+    /// Why the data may not follow Land's form over this range, or why
+    /// there is no fit (`None`: no sign of trouble).
+    pub land_warning: Option<String>,
 }
 
 /// Everything a sweep produced.
@@ -201,73 +218,130 @@ pub struct SweepSummary {
     pub cases_done: usize,
     /// Land coefficient of the first group (the headline number).
     pub land_coefficient: Option<f64>,
+    /// Its standard error.
+    pub land_coefficient_se: Option<f64>,
+    /// The `land_fit_sni_range` of the sweep (`None`: every point fitted).
+    pub land_fit_sni_range: Option<[f64; 2]>,
     /// Per parameter combination.
     pub groups: Vec<GroupSummary>,
 }
 
-/// Statistics of finished cases (any order; sorted by case index first).
+/// Statistics of finished cases (any order; sorted by case index first),
+/// with the Land fit range of the first case (see [`summarise_with`]).
 pub fn summarise(total: usize, results: &[CaseResult]) -> SweepSummary {
+    let range = results
+        .iter()
+        .min_by_key(|r| r.case.index)
+        .and_then(|r| r.case.land_fit_sni_range);
+    summarise_with(total, results, range)
+}
+
+/// How far (in saturation) a case's `S_ni` may lie outside
+/// `land_fit_sni_range` and still count as inside: drainage stops at the
+/// element that crosses the target saturation, so `S_ni` overshoots the
+/// target `1 − S_w` slightly (by under 1e-4 on the 8000-pore demo network).
+pub const LAND_RANGE_SLACK: f64 = 1e-3;
+
+/// Statistics of finished cases with the Land fit restricted to
+/// `lo ≤ S_ni ≤ hi` (widened by [`LAND_RANGE_SLACK`] at both ends) when
+/// `land_fit_sni_range` is given. Cases without an initial or residual
+/// saturation, with `S_ni = 0` or with `S_nr > S_ni` are left out of the
+/// fit.
+pub fn summarise_with(
+    total: usize,
+    results: &[CaseResult],
+    land_fit_sni_range: Option<[f64; 2]>,
+) -> SweepSummary {
     let mut by_group: BTreeMap<usize, Vec<&CaseResult>> = BTreeMap::new();
     let mut sorted: Vec<&CaseResult> = results.iter().collect();
     sorted.sort_by_key(|r| r.case.index);
     for r in &sorted {
         by_group.entry(r.case.group).or_default().push(r);
     }
+    let widened = land_fit_sni_range.map(|[lo, hi]| (lo - LAND_RANGE_SLACK, hi + LAND_RANGE_SLACK));
+    let in_range = |s: f64| widened.is_none_or(|(lo, hi)| lo <= s && s <= hi);
     let mut groups = Vec::new();
     for (g, rs) in by_group {
         let mut by_swi: BTreeMap<u64, Vec<&CaseResult>> = BTreeMap::new();
         for r in &rs {
-            let k = r
-                .case
-                .initial_water_saturation
-                .map_or(u64::MAX, |s| (s * 1e9).round() as u64);
-            by_swi.entry(k).or_default().push(r);
+            by_swi.entry(swi_key(r)).or_default().push(r);
         }
+        // Every usable case, labelled by its initial saturation.
+        let (mut sni, mut snr, mut level) = (Vec::new(), Vec::new(), Vec::new());
+        for r in &rs {
+            if let Some((i, n)) = usable(r) {
+                sni.push(i);
+                snr.push(n);
+                level.push(swi_key(r) as usize);
+            }
+        }
+        let options = LandLsqOptions {
+            sni_range: widened,
+            levels: Some(&level),
+            ..LandLsqOptions::default()
+        };
+        let land = if sni.is_empty() {
+            Err("no case has an initial and a residual saturation".to_string())
+        } else {
+            fit_land_least_squares(&sni, &snr, &options).map_err(|e| e.to_string())
+        };
+        let pick = |cs: &[&CaseResult], f: &dyn Fn(&CaseResult) -> Option<f64>| {
+            Spread::of(&cs.iter().filter_map(|r| f(r)).collect::<Vec<_>>())
+        };
         let mut curve = Vec::new();
         for (_, cs) in by_swi.iter().rev() {
-            let sni: Vec<f64> = cs.iter().filter_map(|r| r.sni).collect();
-            let snr: Vec<f64> = cs.iter().filter_map(|r| r.snr).collect();
+            let sni = pick(cs, &|r| r.sni);
             curve.push(TrappingPoint {
                 initial_water_saturation: cs[0].case.initial_water_saturation,
-                sni: Spread::of(&sni),
-                snr: Spread::of(&snr),
+                sni,
+                snr: pick(cs, &|r| r.snr),
+                krw_at_snr: pick(cs, &|r| r.krw_at_snr),
+                amott_water: pick(cs, &|r| r.amott_water),
+                land_snr: match (&land, sni) {
+                    (Ok(l), Some(s)) => Some(land_residual(s.mean, l.c)),
+                    _ => None,
+                },
+                in_land_fit: land.is_ok()
+                    && cs
+                        .iter()
+                        .any(|r| usable(r).is_some_and(|(i, _)| in_range(i))),
             });
         }
-        let (sni, snr): (Vec<f64>, Vec<f64>) = rs
-            .iter()
-            .filter_map(|r| Some((r.sni?, r.snr?)))
-            .filter(|(i, r)| *r > 0.0 && r <= i)
-            .unzip();
-        let land = if sni.len() >= 2 {
-            fit_land(
-                &sni,
-                &snr,
-                LandMethod::Unweighted,
-                LandNormalisation::PoreVolume,
-            )
-            .ok()
-        } else {
-            None
-        };
-        let pick = |f: &dyn Fn(&CaseResult) -> Option<f64>| {
-            Spread::of(&rs.iter().filter_map(|r| f(r)).collect::<Vec<_>>())
-        };
         groups.push(GroupSummary {
             group: g,
             parameters: rs[0].case.parameters.clone(),
             cases: rs.len(),
             trapping_curve: curve,
-            land_coefficient: land.map(|l| l.c),
-            land_rmse_snr: land.map(|l| l.rmse_snr),
-            snr: pick(&|r| r.snr),
-            krw_at_snr: pick(&|r| r.krw_at_snr),
-            amott_water: pick(&|r| r.amott_water),
+            land_coefficient: land.as_ref().ok().map(|l| l.c),
+            land_coefficient_se: land.as_ref().ok().map(|l| l.c_se),
+            land_rmse_snr: land.as_ref().ok().map(|l| l.rmse_snr),
+            land_points: land.as_ref().map_or(0, |l| l.n_points),
+            land_sni_range: land.as_ref().ok().map(|l| [l.sni_range.0, l.sni_range.1]),
+            land_warning: match &land {
+                Ok(l) => l.warning(),
+                Err(e) => Some(format!("no Land fit: {e}")),
+            },
         });
     }
     SweepSummary {
         cases_total: total,
         cases_done: results.len(),
         land_coefficient: groups.first().and_then(|g| g.land_coefficient),
+        land_coefficient_se: groups.first().and_then(|g| g.land_coefficient_se),
+        land_fit_sni_range,
         groups,
     }
+}
+
+/// `(S_ni, S_nr)` of a case if the Land fit can use it.
+fn usable(r: &CaseResult) -> Option<(f64, f64)> {
+    let (i, n) = (r.sni?, r.snr?);
+    (i > 0.0 && i <= 1.0 && n >= 0.0 && n <= i).then_some((i, n))
+}
+
+/// The initial water saturation of a case as an ordering key.
+fn swi_key(r: &CaseResult) -> u64 {
+    r.case
+        .initial_water_saturation
+        .map_or(u64::MAX, |s| (s * 1e9).round() as u64)
 }

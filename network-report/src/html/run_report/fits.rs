@@ -31,7 +31,8 @@ pub(super) fn fits(r: &RunResults) -> Html {
         ),
         ("krn at the end of primary drainage", opt(e.krn_at_swi, 4)),
         (
-            "Land coefficient C = 1/Snr − 1/Sni (Land 1968)",
+            "Land coefficient from this run's single point, C = 1/Snr − 1/Sni (Land 1968; \
+             a trapping curve over several Sni needs a sweep)",
             opt(e.land_coefficient, 4),
         ),
     ]);
