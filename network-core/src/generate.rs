@@ -872,6 +872,7 @@ fn build_pores(
         volume: vec![0.0; n],
         clay_volume: vec![0.0; n],
         boundary: vec![Boundary::Interior; n],
+        oil_wet: None,
     };
     (
         pores.x.par_chunks_mut(CHUNK),
@@ -944,6 +945,7 @@ fn build_throats(
         length: vec![s; n],
         conduit_a: vec![0.0; n],
         conduit_b: vec![0.0; n],
+        oil_wet: None,
     };
     (
         throats.pores.par_chunks(CHUNK),

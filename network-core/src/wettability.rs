@@ -97,7 +97,10 @@ impl ContactAngles {
     /// altered elements in connected regions, so oil-wet paths form as the
     /// fraction grows (the mixed-wet rock of Salathiel 1973, J. Pet.
     /// Technol. 25:1216–1224, where continuous oil-wet paths let oil drain
-    /// to low residual saturation).
+    /// to low residual saturation). `preset`, when given (the `oil_wet`
+    /// column of the network files), replaces the selection: contacted
+    /// elements marked there turn oil-wet, and `oil_wet_fraction` and
+    /// `oil_wet_selection` are not used.
     ///
     /// Contacted water-wet elements draw an advancing angle from
     /// `advancing_contact_angle_deg`, raised to the receding angle where the
@@ -105,6 +108,7 @@ impl ContactAngles {
     /// common practice). Oil-wet elements draw their advancing angle from
     /// the oil-wet range and their receding angle (for a later drainage)
     /// from the oil-wet receding range, capped at the advancing angle.
+    #[allow(clippy::too_many_arguments)]
     pub fn alter(
         &mut self,
         spec: &WettabilitySpec,
@@ -112,11 +116,16 @@ impl ContactAngles {
         n_pores: usize,
         throat_ends: &[[u32; 2]],
         size: &[f64],
+        preset: Option<&[bool]>,
         seed: u64,
     ) {
         let n = self.len();
         let mut oil_wet = vec![false; n];
-        {
+        if let Some(marks) = preset {
+            for e in 0..n {
+                oil_wet[e] = contacted[e] && marks[e];
+            }
+        } else {
             let mut chosen: Vec<usize> = (0..n_pores).filter(|&e| contacted[e]).collect();
             let k = (spec.oil_wet_fraction * chosen.len() as f64).round() as usize;
             if k > 0 {
@@ -197,7 +206,7 @@ mod tests {
         let size: Vec<f64> = (0..n).map(|e| e as f64).collect();
         // 600 throats joining pores (t mod 400, (t + 1) mod 400).
         let ends: Vec<[u32; 2]> = (0..600u32).map(|t| [t % 400, (t + 1) % 400]).collect();
-        a.alter(&spec(), &contacted, 400, &ends, &size, 3);
+        a.alter(&spec(), &contacted, 400, &ends, &size, None, 3);
         for e in 0..n {
             assert!(a.advancing[e] >= a.receding[e]);
             if !contacted[e] {
@@ -216,6 +225,29 @@ mod tests {
             let e = 400 + t;
             let both = a.oil_wet[ends[0] as usize] && a.oil_wet[ends[1] as usize];
             assert_eq!(a.oil_wet[e], contacted[e] && both, "throat {t}");
+        }
+    }
+
+    #[test]
+    fn a_preset_column_replaces_the_selection() {
+        // Marks from the network files: exactly the contacted, marked
+        // elements turn oil-wet, whatever the fraction says.
+        let n = 30;
+        let mut a = ContactAngles::intrinsic(&spec(), n, 3);
+        let contacted: Vec<bool> = (0..n).map(|e| e != 4).collect();
+        let marks: Vec<bool> = (0..n).map(|e| e % 2 == 0).collect();
+        let size = vec![1.0; n];
+        a.alter(
+            &spec(),
+            &contacted,
+            10,
+            &[[0, 1]; 20],
+            &size,
+            Some(&marks),
+            3,
+        );
+        for e in 0..n {
+            assert_eq!(a.oil_wet[e], e % 2 == 0 && e != 4, "element {e}");
         }
     }
 

@@ -447,12 +447,14 @@ impl<'a> Engine<'a> {
     pub fn alter_wettability(&mut self, spec: &crate::params::WettabilitySpec) {
         let g = self.setup.geometry;
         let net = self.setup.network;
+        let preset = net.oil_wet_marks();
         self.angles.alter(
             spec,
             &self.live.state.contacted,
             self.elements.n_pores(),
             &net.throats().pores,
             &g.radius,
+            preset.as_deref(),
             self.setup.seed,
         );
     }

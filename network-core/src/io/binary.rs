@@ -435,6 +435,7 @@ fn decode_payload(payload: &[u8]) -> Result<Decoded, String> {
         volume: next(),
         clay_volume: next(),
         boundary,
+        oil_wet: None,
     };
     let throats = Throats {
         pores: ends,
@@ -445,6 +446,7 @@ fn decode_payload(payload: &[u8]) -> Result<Decoded, String> {
         length: next(),
         conduit_a: next(),
         conduit_b: next(),
+        oil_wet: None,
     };
     let info = NetworkInfo {
         name: p.name.to_owned(),

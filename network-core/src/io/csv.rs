@@ -42,9 +42,11 @@ const P_VOLUME: usize = 5;
 const P_G: usize = 6;
 const P_CLAY: usize = 7;
 const P_BOUNDARY: usize = 8;
+const P_OIL_WET: usize = 9;
 
-/// Columns of `pores.csv`, in the order they are written.
-static PORE_SPEC: [ColumnSpec; 9] = [
+/// Columns of `pores.csv`, in the order they are written (`oil_wet`, the
+/// last, only when the network carries wettability marks).
+static PORE_SPEC: [ColumnSpec; 10] = [
     col("id", Kind::Id, true),
     col("x_m", Kind::Float, true),
     col("y_m", Kind::Float, true),
@@ -54,6 +56,7 @@ static PORE_SPEC: [ColumnSpec; 9] = [
     col("shape_factor", Kind::Float, true),
     col("clay_volume_m3", Kind::Float, false),
     col("boundary", Kind::Tag, false),
+    col("oil_wet", Kind::Float, false),
 ];
 
 const T_A: usize = 1;
@@ -65,9 +68,11 @@ const T_VOLUME: usize = 6;
 const T_CLAY: usize = 7;
 const T_CA: usize = 8;
 const T_CB: usize = 9;
+const T_OIL_WET: usize = 10;
 
-/// Columns of `throats.csv`, in the order they are written.
-static THROAT_SPEC: [ColumnSpec; 10] = [
+/// Columns of `throats.csv`, in the order they are written (`oil_wet`, the
+/// last, only when the network carries wettability marks).
+static THROAT_SPEC: [ColumnSpec; 11] = [
     col("id", Kind::Id, true),
     col("pore_a", Kind::PoreRef, true),
     col("pore_b", Kind::PoreRef, true),
@@ -78,6 +83,7 @@ static THROAT_SPEC: [ColumnSpec; 10] = [
     col("clay_volume_m3", Kind::Float, false),
     col("conduit_a_m", Kind::Float, false),
     col("conduit_b_m", Kind::Float, false),
+    col("oil_wet", Kind::Float, false),
 ];
 
 /// Fraction of the throat length used for a missing conduit part.
@@ -123,6 +129,8 @@ pub(crate) fn read_folder(dir: &Path) -> Result<Loaded, ReadError> {
     // Pores.
     let mut clay = pt.take_floats(P_CLAY);
     default_blanks(&pt, P_CLAY, &mut clay, |_| 0.0);
+    let mut marks_bad = Vec::new();
+    let pore_marks = oil_wet_marks(&mut pt, P_OIL_WET, &mut marks_bad, Target::Pore);
     let pores = Pores {
         x: pt.take_floats(P_X),
         y: pt.take_floats(P_Y),
@@ -132,6 +140,7 @@ pub(crate) fn read_folder(dir: &Path) -> Result<Loaded, ReadError> {
         volume: pt.take_floats(P_VOLUME),
         clay_volume: clay,
         boundary: pt.take_tags(P_BOUNDARY),
+        oil_wet: pore_marks,
     };
 
     // Throats, with the default conduit parts.
@@ -168,6 +177,7 @@ pub(crate) fn read_folder(dir: &Path) -> Result<Loaded, ReadError> {
             *tt.bad.entry(r).or_insert(0) |= 1 << c;
         }
     }
+    let throat_marks = oil_wet_marks(&mut tt, T_OIL_WET, &mut marks_bad, Target::Throat);
     let throats = Throats {
         pores: ends_a.iter().zip(&ends_b).map(|(&a, &b)| [a, b]).collect(),
         radius: tt.take_floats(T_RADIUS),
@@ -177,6 +187,7 @@ pub(crate) fn read_folder(dir: &Path) -> Result<Loaded, ReadError> {
         length,
         conduit_a,
         conduit_b,
+        oil_wet: throat_marks,
     };
     drop(ends_a);
     drop(ends_b);
@@ -185,6 +196,21 @@ pub(crate) fn read_folder(dir: &Path) -> Result<Loaded, ReadError> {
     violations.extend(sample.violations.iter().cloned());
     violations.append(&mut pt.violations);
     violations.append(&mut tt.violations);
+    for v in marks_bad {
+        if let Some(v) = locate_violation(
+            v,
+            &pt,
+            &tt,
+            &sample,
+            &[
+                sample_name.as_str(),
+                pores_name.as_str(),
+                throats_name.as_str(),
+            ],
+        ) {
+            violations.push(v);
+        }
+    }
 
     let files = [
         sample_name.as_str(),
@@ -227,6 +253,34 @@ pub(crate) fn read_folder(dir: &Path) -> Result<Loaded, ReadError> {
             })
         }
     }
+}
+
+/// The optional `oil_wet` column as marks: `None` when absent; blank cells
+/// are water-wet (0); any value other than 0 or 1 is a violation.
+fn oil_wet_marks(
+    table: &mut Table,
+    c: usize,
+    bad: &mut Vec<Violation>,
+    target: fn(u32) -> Target,
+) -> Option<Vec<bool>> {
+    if !table.present[c] {
+        return None;
+    }
+    let mut values = table.take_floats(c);
+    default_blanks(table, c, &mut values, |_| 0.0);
+    let mut marks = Vec::with_capacity(values.len());
+    for (r, &v) in values.iter().enumerate() {
+        if v != 0.0 && v != 1.0 && !table.unusable(r, c) {
+            bad.push(Violation::new(
+                Rule::MalformedValue,
+                target(r as u32),
+                Some("oil_wet"),
+                format!("value {v} must be 1 (turns oil-wet where oil contacts it), 0 or empty"),
+            ));
+        }
+        marks.push(v == 1.0);
+    }
+    Some(marks)
 }
 
 /// Fills the blank cells of optional column `c` with `default(row)`.
@@ -363,7 +417,13 @@ fn header_of(spec: &[ColumnSpec]) -> String {
 
 fn write_pores<W: Write>(network: &Network, out: &mut W) -> io::Result<()> {
     let p = network.pores();
-    write_rows(out, &header_of(&PORE_SPEC), p.len(), |i, b| {
+    let marks = p.oil_wet.as_deref();
+    let spec = if marks.is_some() {
+        &PORE_SPEC[..]
+    } else {
+        &PORE_SPEC[..P_OIL_WET]
+    };
+    write_rows(out, &header_of(spec), p.len(), |i, b| {
         push_u64(b, i as u64);
         for x in [
             p.x[i],
@@ -379,13 +439,22 @@ fn write_pores<W: Write>(network: &Network, out: &mut W) -> io::Result<()> {
         }
         b.push(b',');
         b.extend_from_slice(p.boundary[i].as_str().as_bytes());
+        if let Some(m) = marks {
+            b.extend_from_slice(if m[i] { b",1" } else { b",0" });
+        }
         b.push(b'\n');
     })
 }
 
 fn write_throats<W: Write>(network: &Network, out: &mut W) -> io::Result<()> {
     let t = network.throats();
-    write_rows(out, &header_of(&THROAT_SPEC), t.len(), |i, b| {
+    let marks = t.oil_wet.as_deref();
+    let spec = if marks.is_some() {
+        &THROAT_SPEC[..]
+    } else {
+        &THROAT_SPEC[..T_OIL_WET]
+    };
+    write_rows(out, &header_of(spec), t.len(), |i, b| {
         push_u64(b, i as u64);
         let [a, c] = t.pores[i];
         b.push(b',');
@@ -403,6 +472,9 @@ fn write_throats<W: Write>(network: &Network, out: &mut W) -> io::Result<()> {
         ] {
             b.push(b',');
             push_f64(b, x);
+        }
+        if let Some(m) = marks {
+            b.extend_from_slice(if m[i] { b",1" } else { b",0" });
         }
         b.push(b'\n');
     })

@@ -243,7 +243,18 @@ pub fn write_csv(network: &Network, dir: &Path) -> Result<(), WriteError> {
 
 /// Writes `network` as a binary file at `path` (atomically; the parent
 /// folder must exist).
+///
+/// The binary format has no wettability column: a network whose files
+/// carried `oil_wet` marks is refused rather than written without them.
 pub fn write_binary(network: &Network, path: &Path) -> Result<(), WriteError> {
+    if network.oil_wet_marks().is_some() {
+        return Err(WriteError::Encode {
+            path: path.to_path_buf(),
+            message: "the network carries an oil_wet column, which the binary format does not \
+                      hold; keep it as a CSV folder"
+                .into(),
+        });
+    }
     binary::write_file(network, path)
 }
 
@@ -253,8 +264,21 @@ pub fn write_binary(network: &Network, path: &Path) -> Result<(), WriteError> {
 /// binary payload of format version 1, so it covers every value, tag and
 /// name bit for bit and does not depend on how the network was read. It
 /// identifies content; it is not a cryptographic signature.
+///
+/// Wettability marks (the optional `oil_wet` column), which the binary
+/// payload does not hold, are mixed in when present, so editing them
+/// changes the hash; networks without marks keep the hash of the payload.
 pub fn network_hash(network: &Network) -> String {
-    format!("{:016x}", binary::payload_digest(network))
+    let mut h = binary::payload_digest(network);
+    if let Some(marks) = network.oil_wet_marks() {
+        // FNV-1a over the marks, folded into the payload digest.
+        h ^= 0xcbf2_9ce4_8422_2325;
+        for m in marks {
+            h ^= m as u64 + 1;
+            h = h.wrapping_mul(0x0000_0100_0000_01b3);
+        }
+    }
+    format!("{h:016x}")
 }
 
 /// How many elements of one kind are listed individually in warnings

@@ -134,6 +134,12 @@ pub struct Pores {
     pub clay_volume: Vec<f64>,
     /// Face tag.
     pub boundary: Vec<Boundary>,
+    /// Wettability given by the network files (optional column `oil_wet`):
+    /// `true` where the wall turns oil-wet once oil contacts it. `None`
+    /// when the files carry no such column; the study's alteration rule
+    /// then chooses (see [`crate::wettability::ContactAngles::alter`]).
+    #[serde(default)]
+    pub oil_wet: Option<Vec<bool>>,
 }
 
 impl Pores {
@@ -172,6 +178,7 @@ impl Pores {
             volume: Vec::with_capacity(n),
             clay_volume: Vec::with_capacity(n),
             boundary: Vec::with_capacity(n),
+            oil_wet: None,
         }
     }
 
@@ -211,6 +218,10 @@ pub struct Throats {
     pub conduit_a: Vec<f64>,
     /// Part of the conduit inside pore b, m.
     pub conduit_b: Vec<f64>,
+    /// Wettability given by the network files, as for
+    /// [`Pores::oil_wet`].
+    #[serde(default)]
+    pub oil_wet: Option<Vec<bool>>,
 }
 
 impl Throats {
@@ -240,6 +251,7 @@ impl Throats {
             length: Vec::with_capacity(n),
             conduit_a: Vec::with_capacity(n),
             conduit_b: Vec::with_capacity(n),
+            oil_wet: None,
         }
     }
 
@@ -386,6 +398,26 @@ impl Network {
             throats,
             adjacency,
         })
+    }
+
+    /// The wettability marks of the network files, indexed like
+    /// [`Element`] (pores, then throats): `Some` when the pore or the
+    /// throat file carries an `oil_wet` column (a file without it counts
+    /// as all water-wet).
+    pub fn oil_wet_marks(&self) -> Option<Vec<bool>> {
+        if self.pores.oil_wet.is_none() && self.throats.oil_wet.is_none() {
+            return None;
+        }
+        let mut marks = Vec::with_capacity(self.n_elements());
+        match &self.pores.oil_wet {
+            Some(m) => marks.extend_from_slice(m),
+            None => marks.resize(self.n_pores(), false),
+        }
+        match &self.throats.oil_wet {
+            Some(m) => marks.extend_from_slice(m),
+            None => marks.resize(self.n_elements(), false),
+        }
+        Some(marks)
     }
 
     /// Sample-level description.

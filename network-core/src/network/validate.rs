@@ -231,7 +231,9 @@ pub fn check_columns(info: &NetworkInfo, pores: &Pores, throats: &Throats) -> Ve
         throats.conduit_a.len(),
         throats.conduit_b.len(),
     ];
-    if cols_p.iter().any(|&c| c != n_p) || cols_t.iter().any(|&c| c != n_t) {
+    let marks_p = pores.oil_wet.as_ref().is_some_and(|m| m.len() != n_p);
+    let marks_t = throats.oil_wet.as_ref().is_some_and(|m| m.len() != n_t);
+    if cols_p.iter().any(|&c| c != n_p) || cols_t.iter().any(|&c| c != n_t) || marks_p || marks_t {
         out.push(Violation::new(
             Rule::MalformedRow,
             Target::Network,

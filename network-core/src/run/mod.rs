@@ -230,6 +230,10 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
                 &engine.angles.oil_wet,
             ));
             warnings.extend(model_limits::low_initial_water(engine.saturation().sw));
+            warnings.extend(model_limits::marks_replace_fraction(
+                network,
+                study.wettability.oil_wet_fraction,
+            ));
         }
         let before = engine.snapshot();
         let mut recorder = ProfileRecorder::default();

@@ -84,6 +84,17 @@ pub fn microporosity_overrun(
     })
 }
 
+/// Warning when the network files' `oil_wet` column replaced a non-zero
+/// oil-wet fraction of the study.
+pub fn marks_replace_fraction(network: &Network, oil_wet_fraction: f64) -> Option<String> {
+    (oil_wet_fraction > 0.0 && network.oil_wet_marks().is_some()).then(|| {
+        format!(
+            "the network files carry an oil_wet column; it decides which contacted elements \
+             turn oil-wet, and wettability.oil_wet_fraction = {oil_wet_fraction} is not used"
+        )
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -1156,3 +1156,60 @@ mod never_panics {
         }
     }
 }
+
+// ------------------------------------------------- wettability column
+
+/// The chain fixture with an `oil_wet` column: pores 1 and 2 marked.
+fn with_marks() -> Fixture {
+    let f = Fixture::valid();
+    let mut pores = String::new();
+    for (k, line) in f.pores.lines().enumerate() {
+        let cell = match k {
+            0 => "oil_wet",
+            2 | 3 => "1",
+            1 => "0",
+            _ => "",
+        };
+        pores.push_str(&format!("{line},{cell}\n"));
+    }
+    Fixture { pores, ..f }
+}
+
+#[test]
+fn oil_wet_column_round_trips_and_changes_the_hash() {
+    let loaded = with_marks().read("marks").expect("valid");
+    let net = loaded.network;
+    assert_eq!(
+        net.pores().oil_wet.as_deref(),
+        Some(&[false, true, true, false][..])
+    );
+    assert!(net.throats().oil_wet.is_none());
+    // Elements: 4 pores then 3 throats; a file without the column is all
+    // water-wet.
+    assert_eq!(
+        net.oil_wet_marks().unwrap(),
+        vec![false, true, true, false, false, false, false]
+    );
+    let dir = scratch("marks-out");
+    io::write_csv(&net, &dir).unwrap();
+    let header = std::fs::read_to_string(dir.join(PORES)).unwrap();
+    assert!(header.lines().next().unwrap().ends_with(",oil_wet"));
+    let again = io::read_network(&dir).unwrap().network;
+    assert_eq!(again.pores().oil_wet, net.pores().oil_wet);
+    let plain = Fixture::valid().read("no-marks").unwrap().network;
+    assert_ne!(io::network_hash(&plain), io::network_hash(&net));
+    // The binary format cannot hold the marks: refused, not dropped.
+    let err = io::write_binary(&net, &dir.join("net.gnet")).unwrap_err();
+    assert!(err.to_string().contains("net.gnet"), "{err}");
+    std::fs::remove_dir_all(&dir).unwrap();
+}
+
+#[test]
+fn oil_wet_values_other_than_zero_or_one_are_refused_with_their_line() {
+    let f = with_marks().pores_line(4, "2,2e-4,0,0,2e-5,4e-14,0.07,0,,0.5");
+    check(
+        "marks-bad",
+        &f,
+        &[(Rule::MalformedValue, PORES, Some(4), Some("oil_wet"))],
+    );
+}

@@ -132,3 +132,27 @@ fn oil_wet_span_needs_an_unbroken_oil_wet_path() {
     marks[net.n_pores() + 1] = false;
     assert!(!oil_wet_spans(&net, &marks));
 }
+
+#[test]
+fn wettability_marks_of_the_network_files_replace_the_selection() {
+    // Amott (1959): with every contacted element oil-wet the rock barely
+    // imbibes spontaneously; marks in the network files must give that even
+    // though the study's oil-wet fraction is 0, and the run says the
+    // fraction was not used.
+    let net = correlated(size(), 8);
+    let (info, mut pores, mut throats) = net.clone().into_parts();
+    pores.oil_wet = Some(vec![true; pores.len()]);
+    throats.oil_wet = Some(vec![true; throats.len()]);
+    let marked = Network::new(info, pores, throats).expect("valid");
+    let plain = mixed_wet(&net, 0.0, false);
+    let r = mixed_wet(&marked, 0.0, false);
+    let iw_plain = plain.wettability_indices.unwrap().amott_water;
+    let iw = r.wettability_indices.unwrap().amott_water;
+    assert!(iw_plain > 0.9 && iw < 0.2, "Amott water {iw_plain} -> {iw}");
+    let r = mixed_wet(&marked, 0.5, false);
+    assert!(
+        r.warnings.iter().any(|w| w.contains("oil_wet column")),
+        "{:?}",
+        r.warnings
+    );
+}
