@@ -112,6 +112,7 @@ fn figures_hold_every_process_series_with_the_run_data() {
             "pc-sw",
             "kr-sw",
             "kr-sw-log",
+            "fw-sw",
             "ri-sw",
             "ganglion-sizes",
             "sw-profile"
@@ -153,7 +154,40 @@ fn figures_hold_every_process_series_with_the_run_data() {
     assert_eq!(figs[2].spec.y_scale, network_report::plot::Scale::Log);
 
     // (d) RI per process and the Archie line RI = Sw^(−n).
-    let ri = &figs[3].spec;
+    // (c) Fractional flow: the markers are fw = (krw/μw)/(krw/μw + krn/μn)
+    // at the imbibition's kr points (definition, Buckley & Leverett 1942),
+    // and the Welge tangent passes through the shock-front marker.
+    let fw = &figs[3].spec;
+    let (mu_w, mu_n) = (
+        r.study.fluids.water_viscosity_pa_s,
+        r.study.fluids.nonaqueous_viscosity_pa_s,
+    );
+    let mut expected = Vec::new();
+    for p in &r.outcomes[1].points {
+        if let Some(f) = p.flow {
+            let (a, b) = (f.krw / mu_w, f.krn / mu_n);
+            if a + b > 0.0 {
+                expected.push((p.saturation.sw, a / (a + b)));
+            }
+        }
+    }
+    assert_eq!(fw.series[1].x.len(), expected.len());
+    for ((x, y), (s, f)) in fw.series[1].x.iter().zip(&fw.series[1].y).zip(&expected) {
+        assert_eq!(x, s);
+        assert!((y - f).abs() < 1e-12, "{y} vs {f}");
+    }
+    let (t, front) = (&fw.series[2], &fw.series[3]);
+    let slope = (t.y[1] - t.y[0]) / (t.x[1] - t.x[0]);
+    let on_line = t.y[0] + slope * (front.x[0] - t.x[0]);
+    assert!((on_line - front.y[0]).abs() < 1e-9);
+    assert!(
+        front.x[0] > t.x[0] && front.y[0] > 0.0 && front.y[0] <= 1.0,
+        "{:?} {:?}",
+        t,
+        front
+    );
+
+    let ri = &figs[4].spec;
     for name in procs {
         series(&ri.series, name);
     }
@@ -175,7 +209,7 @@ fn figures_hold_every_process_series_with_the_run_data() {
     }
 
     // (e) Ganglion sizes: the bins add up to the number of ganglia.
-    let g = &figs[4].spec;
+    let g = &figs[5].spec;
     assert_eq!(g.series.len(), 1);
     let total: f64 = g.series[0].y.iter().sum();
     assert_eq!(total as usize, r.ganglia.len());
@@ -678,7 +712,7 @@ fn profiles_csv_and_figure_follow_the_recorded_profiles() {
 fn interior_columns_appear_in_curves_only_with_a_window() {
     let r = &RUN.results;
     let curves = curves_csv(r);
-    assert!(curves.lines().next().unwrap().ends_with(",krw,krn,ri"));
+    assert!(curves.lines().next().unwrap().ends_with(",krw,krn,ri,fw"));
     assert!(r.end_effects.interior.is_none());
     let study = Study::parse(
         r#"
@@ -701,12 +735,12 @@ until_sw = 0.7
         lines
             .next()
             .unwrap()
-            .ends_with(",ri,sw_interior,sn_interior,sn_trapped_interior")
+            .ends_with(",ri,fw,sw_interior,sn_interior,sn_trapped_interior")
     );
     for (line, prof) in lines.zip(&w.profiles[0]) {
         let cols: Vec<&str> = line.split(',').collect();
-        assert_eq!(cols.len(), 17);
-        let sw: f64 = cols[14].parse().unwrap();
+        assert_eq!(cols.len(), 18);
+        let sw: f64 = cols[15].parse().unwrap();
         assert_eq!(sw, prof.interior.unwrap().sw);
     }
     let html = run_report(&w, &run_figures(&w));
@@ -743,6 +777,7 @@ fn artifacts_are_all_written_and_listed() {
         "pc-sw",
         "kr-sw",
         "kr-sw-log",
+        "fw-sw",
         "ri-sw",
         "ganglion-sizes",
         "sw-profile",
