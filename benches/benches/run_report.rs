@@ -56,7 +56,7 @@ fn html_report_with_figures(bencher: divan::Bencher) {
 #[divan::bench]
 fn saturation_tables_21_rows(bencher: divan::Bencher) {
     let (_, r) = &*RUN;
-    bencher.bench(|| saturation_tables(black_box(r), 21).unwrap());
+    bencher.bench(|| saturation_tables(black_box(r), 21, Default::default()).unwrap());
 }
 
 #[divan::bench]

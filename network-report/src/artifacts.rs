@@ -12,6 +12,7 @@ pub use crate::error::ReportError;
 use crate::figures::{Figure, run_figures};
 use crate::html::run_report;
 use crate::plot::{render_png, render_svg};
+use crate::saturation_tables::TableUnits;
 use crate::saturation_tables::from_run::saturation_tables;
 use crate::vtk::write_vtp;
 
@@ -28,6 +29,8 @@ pub struct ArtifactOptions {
     pub vtk: bool,
     /// Rows of each saturation-function table (≥ 2). Default 21.
     pub table_points: usize,
+    /// Unit of Pc in the keyword tables. Default bar.
+    pub table_units: TableUnits,
 }
 
 impl Default for ArtifactOptions {
@@ -36,6 +39,7 @@ impl Default for ArtifactOptions {
             png: true,
             vtk: true,
             table_points: 21,
+            table_units: TableUnits::Bar,
         }
     }
 }
@@ -70,7 +74,7 @@ pub fn write_run_artifacts(
     for f in &figures {
         put_figure(f, opts.png, &mut put)?;
     }
-    for (name, text) in saturation_tables(results, opts.table_points)? {
+    for (name, text) in saturation_tables(results, opts.table_points, opts.table_units)? {
         put(&name, text.as_bytes())?;
     }
     put("report.html", run_report(results, &figures).as_bytes())?;

@@ -6,12 +6,14 @@
 //! | `pc-sw` | capillary pressure of every process | Sw linear, Pc (kPa) linear |
 //! | `kr-sw` | `k_rw` and `k_rn` of every process at the computed points | linear |
 //! | `kr-sw-log` | the same | Sw linear, kr log |
+//! | `fw-sw` | fractional flow of water of the first imbibition with kr, the Welge tangent and the shock front | linear |
 //! | `ri-sw` | resistivity index of every process, Archie line | log–log |
 //! | `ganglion-sizes` | trapped ganglia per pore-count bin | pores log, count linear |
 //! | `sw-profile` | water saturation of each slab along the flow axis, up to nine steps per process | position (mm) linear, Sw linear |
 //!
 //! A figure without data is left out: the kr figures when no process has
-//! computed relative permeabilities, `ri-sw` when no point has a finite
+//! computed relative permeabilities, `fw-sw` when no waterflood was
+//! computed, `ri-sw` when no point has a finite
 //! resistivity index, `ganglion-sizes` when no imbibition ran or nothing
 //! was trapped, `sw-profile` when the run recorded no profiles.
 //!
@@ -25,6 +27,7 @@
 
 use network_core::run::RunResults;
 use network_core::run::end_points::Fitted;
+use network_core::run::fractional_flow::{Waterflood, fractional_flow};
 use network_core::run::process::ProcessOutcome;
 use network_core::study::ProcessKind;
 
@@ -61,6 +64,9 @@ pub fn run_figures(results: &RunResults) -> Vec<Figure> {
     if has_kr {
         out.push(kr_figure(results, label, Scale::Linear));
         out.push(kr_figure(results, label, Scale::Log));
+    }
+    if let Some(Fitted::Ok(w)) = &results.waterflood {
+        out.push(fw_figure(results, w));
     }
     let has_ri = results.outcomes.iter().any(|o| {
         o.points
@@ -295,6 +301,78 @@ fn kr_figure(results: &RunResults, label: &str, y_scale: Scale) -> Figure {
             y_scale,
             x_range: Some((0.0, 1.0)),
             y_range,
+            series,
+            ..PlotSpec::default()
+        },
+    }
+}
+
+/// Fractional flow of water with the Welge tangent (Welge 1952, Trans.
+/// AIME 195:91): the interpolated curve, the simulated points, the tangent
+/// from the initial state through the shock front up to `f_w = 1`, and the
+/// shock front itself.
+fn fw_figure(results: &RunResults, w: &Waterflood) -> Figure {
+    let kinds = kinds(results);
+    let i = w.process - 1;
+    let name = process_label(&kinds, i);
+    let c = process_colour(i);
+    let (sw, krw, krn, _) = flow_points(&results.outcomes[i]);
+    let (mut xs, mut ys) = (Vec::new(), Vec::new());
+    for k in 0..sw.len() {
+        if let Some(f) = fractional_flow(
+            krw[k],
+            krn[k],
+            w.water_viscosity_pa_s,
+            w.nonaqueous_viscosity_pa_s,
+        ) {
+            xs.push(sw[k]);
+            ys.push(f);
+        }
+    }
+    let (curve_x, curve_y): (Vec<f64>, Vec<f64>) = w.fw_curve.iter().map(|p| (p[0], p[1])).unzip();
+    let f0 = curve_y.first().copied().unwrap_or(0.0);
+    let slope = 1.0 / w.breakthrough_pv;
+    let s_end = (w.initial_sw + (1.0 - f0) / slope).min(1.0);
+    let black = PALETTE[PALETTE.len() - 1];
+    let series = vec![
+        Series::line(format!("fw, {name} (interpolated)"), curve_x, curve_y).with_colour(c),
+        Series::line("fw at the simulated points", xs, ys)
+            .with_style(SeriesStyle::Markers)
+            .with_colour(c),
+        Series::line(
+            format!("Welge tangent, breakthrough at {:.3} PV", w.breakthrough_pv),
+            vec![w.initial_sw, s_end],
+            vec![f0, f0 + slope * (s_end - w.initial_sw)],
+        )
+        .with_style(SeriesStyle::Dashed)
+        .with_colour(black),
+        Series::line(
+            format!("shock front Sw = {:.3}", w.shock_front_sw),
+            vec![w.shock_front_sw],
+            vec![w.shock_front_fw],
+        )
+        .with_style(SeriesStyle::Markers)
+        .with_colour(black),
+    ];
+    let title = "Fractional flow of water".to_string();
+    Figure {
+        name: "fw-sw",
+        title: title.clone(),
+        caption: format!(
+            "Fractional flow of water fw = 1/(1 + krn·μw/(krw·μn)) of process {name} with \
+             μw = {} mPa·s and μn = {} mPa·s (capillary pressure and gravity neglected): the \
+             monotone interpolation of the relative permeabilities (line), the simulated \
+             points (markers), and the Welge tangent from the initial state, which touches \
+             the curve at the shock front of a Buckley–Leverett waterflood.",
+            w.water_viscosity_pa_s * 1.0e3,
+            w.nonaqueous_viscosity_pa_s * 1.0e3
+        ),
+        spec: PlotSpec {
+            title,
+            x_label: SW_LABEL.into(),
+            y_label: "Fractional flow of water fw (fraction)".into(),
+            x_range: Some((0.0, 1.0)),
+            y_range: Some((0.0, 1.0)),
             series,
             ..PlotSpec::default()
         },

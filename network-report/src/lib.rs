@@ -19,8 +19,9 @@
 //!   log, resistivity index with the Archie line, ganglion sizes, saturation
 //!   profile along the flow axis).
 //! - [`saturation_tables`](mod@saturation_tables): monotone, resampled saturation-function tables
-//!   from a simulated curve, written as CSV or as a water–oil
-//!   saturation-function keyword table for black-oil reservoir simulators,
+//!   from a simulated curve, written as CSV or as water–oil (`SWOF`) or
+//!   gas–water (`SWFN`/`SGFN`) keyword tables for black-oil reservoir
+//!   simulators, Pc in bar, kPa or psi,
 //!   with parsers for both; [`saturation_tables::from_run`] makes the tables
 //!   of a run, with comment headers naming units, source and end points.
 //! - [`html`]: the page builder, and the self-contained HTML report of a

@@ -8,6 +8,8 @@ use std::path::Path;
 
 use network_core::io::atomic::write_atomic;
 use network_core::run::RunResults;
+use network_core::run::fractional_flow::fractional_flow;
+use network_core::study::ProcessKind;
 
 use crate::ReportError;
 
@@ -22,13 +24,17 @@ fn io_err(path: &Path, e: std::io::Error) -> ReportError {
 /// window (`[output] interior_window`) three more columns give the
 /// saturations over the window: `sw_interior`, `sn_interior`,
 /// `sn_trapped_interior` (empty where the window holds no pore volume).
+/// Column `fw` is the fractional flow of water
+/// `1/(1 + krn·μw/(krw·μn))` at the imbibition points where the flow was
+/// solved, from the point's own kr and the study's viscosities (empty
+/// elsewhere; see `network_core::run::fractional_flow`).
 pub fn curves_csv(results: &RunResults) -> String {
     let window = results
         .profile_layout
         .as_ref()
         .is_some_and(|l| l.window.is_some());
     let mut s = String::from(
-        "process,kind,step,pc_pa,sw,sn,sn_trapped,sw_trapped,sw_corners,sn_layers,events,krw,krn,ri",
+        "process,kind,step,pc_pa,sw,sn,sn_trapped,sw_trapped,sw_corners,sn_layers,events,krw,krn,ri,fw",
     );
     s.push_str(if window {
         ",sw_interior,sn_interior,sn_trapped_interior\n"
@@ -41,6 +47,16 @@ pub fn curves_csv(results: &RunResults) -> String {
             let (krw, krn, ri) = match p.flow {
                 Some(f) => (f.krw.to_string(), f.krn.to_string(), f.ri.to_string()),
                 None => (String::new(), String::new(), String::new()),
+            };
+            let fw = match p.flow {
+                Some(f) if o.kind == ProcessKind::Imbibition => fractional_flow(
+                    f.krw,
+                    f.krn,
+                    results.study.fluids.water_viscosity_pa_s,
+                    results.study.fluids.nonaqueous_viscosity_pa_s,
+                )
+                .map_or(String::new(), |v| v.to_string()),
+                _ => String::new(),
             };
             let interior = if window {
                 match results
@@ -57,7 +73,7 @@ pub fn curves_csv(results: &RunResults) -> String {
             };
             let _ = writeln!(
                 s,
-                "{},{},{},{},{},{},{},{},{},{},{},{krw},{krn},{ri}{interior}",
+                "{},{},{},{},{},{},{},{},{},{},{},{krw},{krn},{ri},{fw}{interior}",
                 i + 1,
                 o.kind.as_str(),
                 k,

@@ -15,7 +15,8 @@ use network_core::study::Study;
 use network_report::html::{CAUTION_TEXT, escape, number};
 use network_report::plot::{Series, render_svg};
 use network_report::run_files::{curves_csv, profiles_csv};
-use network_report::saturation_tables::{parse_csv, parse_keyword_table};
+use network_report::saturation_tables::parse_csv;
+use network_report::saturation_tables::parse_keyword_columns;
 use network_report::vtk::{PRESSURE_MISSING, VtkError};
 use network_report::{
     ArtifactOptions, ReportError, run_figures, run_report, saturation_tables, write_run_artifacts,
@@ -112,6 +113,7 @@ fn figures_hold_every_process_series_with_the_run_data() {
             "pc-sw",
             "kr-sw",
             "kr-sw-log",
+            "fw-sw",
             "ri-sw",
             "ganglion-sizes",
             "sw-profile"
@@ -153,7 +155,40 @@ fn figures_hold_every_process_series_with_the_run_data() {
     assert_eq!(figs[2].spec.y_scale, network_report::plot::Scale::Log);
 
     // (d) RI per process and the Archie line RI = Sw^(−n).
-    let ri = &figs[3].spec;
+    // (c) Fractional flow: the markers are fw = (krw/μw)/(krw/μw + krn/μn)
+    // at the imbibition's kr points (definition, Buckley & Leverett 1942),
+    // and the Welge tangent passes through the shock-front marker.
+    let fw = &figs[3].spec;
+    let (mu_w, mu_n) = (
+        r.study.fluids.water_viscosity_pa_s,
+        r.study.fluids.nonaqueous_viscosity_pa_s,
+    );
+    let mut expected = Vec::new();
+    for p in &r.outcomes[1].points {
+        if let Some(f) = p.flow {
+            let (a, b) = (f.krw / mu_w, f.krn / mu_n);
+            if a + b > 0.0 {
+                expected.push((p.saturation.sw, a / (a + b)));
+            }
+        }
+    }
+    assert_eq!(fw.series[1].x.len(), expected.len());
+    for ((x, y), (s, f)) in fw.series[1].x.iter().zip(&fw.series[1].y).zip(&expected) {
+        assert_eq!(x, s);
+        assert!((y - f).abs() < 1e-12, "{y} vs {f}");
+    }
+    let (t, front) = (&fw.series[2], &fw.series[3]);
+    let slope = (t.y[1] - t.y[0]) / (t.x[1] - t.x[0]);
+    let on_line = t.y[0] + slope * (front.x[0] - t.x[0]);
+    assert!((on_line - front.y[0]).abs() < 1e-9);
+    assert!(
+        front.x[0] > t.x[0] && front.y[0] > 0.0 && front.y[0] <= 1.0,
+        "{:?} {:?}",
+        t,
+        front
+    );
+
+    let ri = &figs[4].spec;
     for name in procs {
         series(&ri.series, name);
     }
@@ -175,7 +210,7 @@ fn figures_hold_every_process_series_with_the_run_data() {
     }
 
     // (e) Ganglion sizes: the bins add up to the number of ganglia.
-    let g = &figs[4].spec;
+    let g = &figs[5].spec;
     assert_eq!(g.series.len(), 1);
     let total: f64 = g.series[0].y.iter().sum();
     assert_eq!(total as usize, r.ganglia.len());
@@ -544,7 +579,7 @@ fn vtp_refuses_columns_of_the_wrong_length() {
 #[test]
 fn tables_read_back_equal_monotone_and_spanning_the_simulated_range() {
     let r = &RUN.results;
-    let files = saturation_tables(r, 15).expect("tables");
+    let files = saturation_tables(r, 15, Default::default()).expect("tables");
     let names: Vec<&str> = files.iter().map(|(n, _)| n.as_str()).collect();
     assert_eq!(
         names,
@@ -571,45 +606,95 @@ fn tables_read_back_equal_monotone_and_spanning_the_simulated_range() {
                 assert!(text.contains(needle), "{csv_name}: {needle:?}");
             }
         }
-        assert!(csv.contains("(Pa)") && inc.contains("(bar)"));
+        assert!(csv.contains("(Pa)") && inc.contains("-- Pc unit: bar"));
         let rows = parse_csv(csv).expect("csv parses");
-        assert_eq!(rows.len(), 15);
-        let kw = parse_keyword_table(inc).expect("include parses");
-        assert_eq!(kw.keyword, "SWOF");
-        for i in 0..rows.len() {
-            // Include file: Sw with 6 decimals, others 7 significant digits
-            // (the writer's documented precision).
-            assert!((kw.rows.sw[i] - rows.sw[i]).abs() <= 5e-7);
+        let n = rows.len();
+        // At most the 15 rows asked for, plus the row at Sw = 1.
+        assert!((2..=16).contains(&n), "{n} rows");
+        // The row count is stated for the table-dimension setting.
+        assert!(
+            inc.contains(&format!("-- {n} rows per table")),
+            "{csv_name}"
+        );
+        // A CO2 run: the gas–water pair, SWFN (Sw krw Pc) and SGFN (Sg krg
+        // 0), both with every row, Pc in bar.
+        let tables = parse_keyword_columns(inc, 3).expect("include parses");
+        assert_eq!(tables.len(), 2);
+        assert_eq!(
+            (tables[0].0.as_str(), tables[1].0.as_str()),
+            ("SWFN", "SGFN")
+        );
+        assert_eq!((tables[0].1.len(), tables[1].1.len()), (n, n));
+        for i in 0..n {
+            // Sw with 6 decimals, others 7 significant digits (the
+            // writer's documented precision).
+            let w = &tables[0].1[i];
+            let g = &tables[1].1[n - 1 - i];
+            assert!((w[0] - rows.sw[i]).abs() <= 5e-7);
+            assert!((g[0] - (1.0 - rows.sw[i])).abs() <= 1e-6);
             for (a, b) in [
-                (kw.rows.krw[i], rows.krw[i]),
-                (kw.rows.krn[i], rows.krn[i]),
-                (kw.rows.pc_pa[i], rows.pc_pa[i]),
+                (w[1], rows.krw[i]),
+                (w[2] * 1e5, rows.pc_pa[i]),
+                (g[1], rows.krn[i]),
             ] {
                 assert!((a - b).abs() <= 1e-6 * b.abs() + 1e-300, "{a} {b}");
             }
+            assert_eq!(g[2], 0.0);
         }
         // Monotone: Sw rising strictly, krw rising, krn and Pc falling.
-        for w in 0..rows.len() - 1 {
+        for w in 0..n - 1 {
             assert!(rows.sw[w] < rows.sw[w + 1]);
             assert!(rows.krw[w] <= rows.krw[w + 1]);
             assert!(rows.krn[w] >= rows.krn[w + 1]);
             assert!(rows.pc_pa[w] >= rows.pc_pa[w + 1]);
         }
-        // The table spans exactly the Sw range of the solved points, and
-        // krn = 0 at its top (the documented default end-point rule).
-        let sw: Vec<f64> = outcome
+        // Conventions, row by row (common practice for simulator input):
+        // the first row at the lowest simulated Sw with krw exactly 0; the
+        // last row at Sw = 1 with krn = 0; every other row at a simulated
+        // point; every Pc a simulated value.
+        let solved: Vec<f64> = outcome
             .points
             .iter()
             .filter(|p| p.flow.is_some())
             .map(|p| p.saturation.sw)
             .collect();
-        let lo = sw.iter().copied().fold(f64::INFINITY, f64::min);
-        let hi = sw.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-        assert_eq!((rows.sw[0], rows.sw[14]), (lo, hi));
-        assert_eq!(rows.krn[14], 0.0);
+        let lo = solved.iter().copied().fold(f64::INFINITY, f64::min);
+        let hi = solved.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        assert_eq!((rows.sw[0], rows.krw[0]), (lo, 0.0));
+        assert_eq!((rows.sw[n - 1], rows.krn[n - 1]), (1.0, 0.0));
+        for i in 0..n - 1 {
+            assert!(solved.contains(&rows.sw[i]), "row {i}: Sw {}", rows.sw[i]);
+        }
+        let simulated_pc: Vec<f64> = outcome.points.iter().map(|p| p.pc_pa).collect();
+        for i in 0..n {
+            assert!(
+                simulated_pc.contains(&rows.pc_pa[i]),
+                "row {i}: Pc {}",
+                rows.pc_pa[i]
+            );
+        }
+        if outcome.kind == network_core::study::ProcessKind::Drainage {
+            // The entry pressure at Sw = 1: the Pc of the first point where
+            // the non-aqueous phase had entered, not the 0 of the start.
+            let start = outcome.points[0].saturation.sw;
+            let entry = outcome
+                .points
+                .iter()
+                .find(|p| p.saturation.sw < start)
+                .unwrap()
+                .pc_pa;
+            assert!(entry > 0.0);
+            assert_eq!(rows.pc_pa[n - 1], entry);
+        } else {
+            // Imbibition ends at 1 − Snr < 1: a row at Sw = 1 with krw held
+            // at its end point.
+            assert!(hi < 1.0);
+            assert_eq!(rows.sw[n - 2], hi);
+            assert_eq!(rows.krw[n - 1], rows.krw[n - 2]);
+        }
     }
     // Too few rows requested: the error names the file.
-    match saturation_tables(r, 1) {
+    match saturation_tables(r, 1, Default::default()) {
         Err(ReportError::Table { file, .. }) => assert_eq!(file, "table-drainage.csv"),
         other => panic!("expected a table error, got {other:?}"),
     }
@@ -678,7 +763,7 @@ fn profiles_csv_and_figure_follow_the_recorded_profiles() {
 fn interior_columns_appear_in_curves_only_with_a_window() {
     let r = &RUN.results;
     let curves = curves_csv(r);
-    assert!(curves.lines().next().unwrap().ends_with(",krw,krn,ri"));
+    assert!(curves.lines().next().unwrap().ends_with(",krw,krn,ri,fw"));
     assert!(r.end_effects.interior.is_none());
     let study = Study::parse(
         r#"
@@ -701,12 +786,12 @@ until_sw = 0.7
         lines
             .next()
             .unwrap()
-            .ends_with(",ri,sw_interior,sn_interior,sn_trapped_interior")
+            .ends_with(",ri,fw,sw_interior,sn_interior,sn_trapped_interior")
     );
     for (line, prof) in lines.zip(&w.profiles[0]) {
         let cols: Vec<&str> = line.split(',').collect();
-        assert_eq!(cols.len(), 17);
-        let sw: f64 = cols[14].parse().unwrap();
+        assert_eq!(cols.len(), 18);
+        let sw: f64 = cols[15].parse().unwrap();
         assert_eq!(sw, prof.interior.unwrap().sw);
     }
     let html = run_report(&w, &run_figures(&w));
@@ -731,6 +816,7 @@ fn artifacts_are_all_written_and_listed() {
             png: true,
             vtk: true,
             table_points: 11,
+            ..ArtifactOptions::default()
         },
     )
     .expect("written");
@@ -743,6 +829,7 @@ fn artifacts_are_all_written_and_listed() {
         "pc-sw",
         "kr-sw",
         "kr-sw-log",
+        "fw-sw",
         "ri-sw",
         "ganglion-sizes",
         "sw-profile",

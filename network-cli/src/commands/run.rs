@@ -42,6 +42,16 @@ pub struct Args {
     /// Rows of each saturation-function table.
     #[arg(long, default_value_t = 21, value_name = "N")]
     pub table_points: usize,
+    /// Unit of capillary pressure in the keyword tables (.inc): bar (the
+    /// METRIC deck unit system), kpa, or psi (FIELD); stated in each file's
+    /// header. The CSV tables always hold Pa.
+    #[arg(long, default_value = "bar", value_name = "UNIT", value_parser = parse_table_units)]
+    pub table_units: network_report::saturation_tables::TableUnits,
+}
+
+fn parse_table_units(s: &str) -> Result<network_report::saturation_tables::TableUnits, String> {
+    network_report::saturation_tables::TableUnits::parse(s)
+        .ok_or_else(|| format!("{s:?} is not a table unit: use bar, kpa or psi"))
 }
 
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
@@ -58,6 +68,7 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         png: !args.no_png,
         vtk: !args.no_vtk,
         table_points: args.table_points,
+        table_units: args.table_units,
     };
     network_report::write_run_artifacts(&results, &network, &args.output, &opts)
         .with_context(|| format!("cannot write the report files to {}", args.output.display()))?;

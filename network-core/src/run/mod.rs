@@ -7,6 +7,7 @@ use std::collections::BTreeSet;
 use serde::{Deserialize, Serialize};
 
 pub mod end_points;
+pub mod fractional_flow;
 pub mod indices;
 pub mod model_limits;
 pub mod process;
@@ -26,7 +27,8 @@ use crate::network::{Element, Network};
 use crate::params::{ProcessKind, Study};
 use crate::progress::Progress;
 use crate::wettability::ContactAngles;
-use end_points::{ArchieSummary, EndPoints, ProcessFits};
+use end_points::{ArchieSummary, EndPoints, Fitted, ProcessFits};
+use fractional_flow::Waterflood;
 use indices::WettabilityIndices;
 use process::{Point, ProcessOutcome, run_process_observed};
 use profiles::{EndEffects, PointProfile, ProfileLayout, ProfileRecorder};
@@ -174,6 +176,10 @@ pub struct RunResults {
     pub fits: Vec<ProcessFits>,
     /// Archie exponents.
     pub archie: Option<ArchieSummary>,
+    /// Buckley–Leverett waterflood from the first imbibition with computed
+    /// relative permeabilities and the study's viscosities (or why it could
+    /// not be computed); `None` without such an imbibition.
+    pub waterflood: Option<Fitted<Waterflood>>,
     /// Seconds spent in flow solves for relative permeability (wall time;
     /// not written to `summary.json`, which depends only on the inputs).
     #[serde(skip)]
@@ -315,6 +321,10 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         })
         .collect();
     let ganglia = ganglia.unwrap_or_default();
+    let waterflood = first_imbibition_waterflood(&outcomes, study);
+    if let Some(Fitted::Failed { error }) = &waterflood {
+        warnings.push(format!("waterflood not computed: {error}"));
+    }
     let ganglion_stats = snr.map(|_| ganglion_stats(&ganglia));
     RunResults {
         program: ProgramInfo::default(),
@@ -340,6 +350,7 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         archie: single_phase
             .as_ref()
             .map(|r| end_points::archie(r.porosity, r.formation_factor, &outcomes)),
+        waterflood,
         flow_solve_seconds: relperm.as_ref().map_or(0.0, |r| r.solve_seconds),
         flow_solve_stats: relperm.as_ref().map_or(Default::default(), |r| r.stats),
         single_phase,
@@ -351,6 +362,47 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         end_states,
         angles: Some(engine.angles.clone()),
     }
+}
+
+/// The Buckley–Leverett waterflood of the first imbibition with relative
+/// permeabilities at two or more distinct water saturations.
+fn first_imbibition_waterflood(
+    outcomes: &[ProcessOutcome],
+    study: &Study,
+) -> Option<Fitted<Waterflood>> {
+    let (index, o) = outcomes.iter().enumerate().find(|(_, o)| {
+        o.kind == ProcessKind::Imbibition && {
+            let mut sw = o
+                .points
+                .iter()
+                .filter(|p| p.flow.is_some())
+                .map(|p| p.saturation.sw);
+            sw.next().is_some_and(|first| sw.any(|s| s != first))
+        }
+    })?;
+    let mut cols: [Vec<f64>; 3] = Default::default();
+    for p in &o.points {
+        if let Some(f) = p.flow {
+            cols[0].push(p.saturation.sw);
+            cols[1].push(f.krw);
+            cols[2].push(f.krn);
+        }
+    }
+    Some(
+        match fractional_flow::waterflood(
+            index + 1,
+            &cols[0],
+            &cols[1],
+            &cols[2],
+            study.fluids.water_viscosity_pa_s,
+            study.fluids.nonaqueous_viscosity_pa_s,
+        ) {
+            Ok(w) => Fitted::Ok(w),
+            Err(e) => Fitted::Failed {
+                error: e.to_string(),
+            },
+        },
+    )
 }
 
 /// The single-phase permeability and formation factor of the network, and

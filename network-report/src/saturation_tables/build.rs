@@ -81,6 +81,9 @@ pub fn build_table(curve: &Curve<'_>, opts: &TableOptions) -> Result<SatTable, T
     let mut knot_sw: Vec<f64> = Vec::new();
     let mut knot_w: Vec<f64> = Vec::new();
     let mut sums: Vec<[f64; 3]> = Vec::new();
+    // Pc of the first sample of each knot in process order (the stable
+    // sort keeps process order within equal Sw).
+    let mut first_pc: Vec<f64> = Vec::new();
     let mut knot_of = vec![0usize; n];
     for &i in &order {
         let s = curve.sw[i];
@@ -88,6 +91,7 @@ pub fn build_table(curve: &Curve<'_>, opts: &TableOptions) -> Result<SatTable, T
             knot_sw.push(s);
             knot_w.push(0.0);
             sums.push([0.0; 3]);
+            first_pc.push(curve.pc_pa[i]);
         }
         let k = knot_sw.len() - 1;
         knot_w[k] += 1.0;
@@ -103,7 +107,30 @@ pub fn build_table(curve: &Curve<'_>, opts: &TableOptions) -> Result<SatTable, T
     let mean = |c: usize| -> Vec<f64> { (0..m).map(|k| sums[k][c] / knot_w[k]).collect() };
     let mut krw = isotonic_non_decreasing(&mean(0), &knot_w);
     let mut krn = isotonic_non_increasing(&mean(1), &knot_w);
-    let pc = isotonic_non_increasing(&mean(2), &knot_w);
+    let pc = if opts.rows_at_samples {
+        let mut pc = first_pc;
+        if let Some(p) = opts.pc_at_max_sw {
+            pc[m - 1] = p;
+        }
+        for k in 1..m {
+            pc[k] = pc[k].min(pc[k - 1]);
+        }
+        pc
+    } else {
+        let mut means = mean(2);
+        if let Some(p) = opts.pc_at_max_sw {
+            means[m - 1] = p;
+        }
+        isotonic_non_increasing(&means, &knot_w)
+    };
+    if let Some(p) = opts.pc_at_max_sw
+        && !p.is_finite()
+    {
+        return Err(TableError::BadOption {
+            name: "pc_at_max_sw",
+            detail: format!("{p} is not finite"),
+        });
+    }
     for v in krw.iter_mut().chain(krn.iter_mut()) {
         *v = v.max(0.0);
     }
@@ -136,9 +163,38 @@ pub fn build_table(curve: &Curve<'_>, opts: &TableOptions) -> Result<SatTable, T
         pc_pa: adjustment(curve.pc_pa, &pc),
     };
 
-    // Resample on an even grid with exact end points.
     let (lo, hi) = (knot_sw[0], knot_sw[m - 1]);
     let np = opts.n_points;
+    if opts.rows_at_samples {
+        // The knots nearest to np evenly spaced Sw, ends included.
+        let mut picked: Vec<usize> = (0..np)
+            .map(|j| {
+                let t = lo + (hi - lo) * j as f64 / (np - 1) as f64;
+                let k = knot_sw.partition_point(|&v| v < t).min(m - 1);
+                if k > 0 && (t - knot_sw[k - 1]) <= (knot_sw[k] - t) {
+                    k - 1
+                } else {
+                    k
+                }
+            })
+            .collect();
+        picked[0] = 0;
+        picked[np - 1] = m - 1;
+        picked.dedup();
+        let mut rows = TableRows {
+            sw: picked.iter().map(|&k| knot_sw[k]).collect(),
+            krw: picked.iter().map(|&k| krw[k]).collect(),
+            krn: picked.iter().map(|&k| krn[k]).collect(),
+            pc_pa: picked.iter().map(|&k| pc[k]).collect(),
+        };
+        extend_to_one(&mut rows, opts);
+        return Ok(SatTable {
+            process: curve.process,
+            rows,
+            report,
+        });
+    }
+    // Resample on an even grid with exact end points.
     let grid: Vec<f64> = (0..np)
         .map(|j| {
             if j == 0 {
@@ -159,7 +215,7 @@ pub fn build_table(curve: &Curve<'_>, opts: &TableOptions) -> Result<SatTable, T
             ),
         });
     }
-    let rows = TableRows {
+    let mut rows = TableRows {
         krw: grid
             .iter()
             .map(|&s| interpolate(&knot_sw, &krw, s))
@@ -174,11 +230,30 @@ pub fn build_table(curve: &Curve<'_>, opts: &TableOptions) -> Result<SatTable, T
             .collect(),
         sw: grid,
     };
+    extend_to_one(&mut rows, opts);
     Ok(SatTable {
         process: curve.process,
         rows,
         report,
     })
+}
+
+/// The row at Sw = 1 of [`TableOptions::extend_to_sw_one`]. A last Sw
+/// within 1e-9 of 1 (a drainage start, off by summation round-off) is set
+/// to 1 instead.
+fn extend_to_one(rows: &mut TableRows, opts: &TableOptions) {
+    let last = rows.len() - 1;
+    if !opts.extend_to_sw_one {
+        return;
+    }
+    if rows.sw[last] >= 1.0 - 1e-9 {
+        rows.sw[last] = 1.0;
+    } else {
+        rows.sw.push(1.0);
+        rows.krw.push(rows.krw[last]);
+        rows.krn.push(0.0);
+        rows.pc_pa.push(rows.pc_pa[last]);
+    }
 }
 
 /// Linear interpolation of `(xs, ys)` (xs strictly increasing) at `x` within

@@ -5,10 +5,21 @@
 //! Files (names fixed): `table-drainage.csv`, `table-drainage.inc`,
 //! `table-imbibition.csv`, `table-imbibition.inc`. Each opens with comment
 //! lines (`#` in CSV, `--` in the include file) naming the columns and
-//! units, the source run (network name and hash, study seed, program and
-//! version) and how the end points and monotonicity were handled; both
-//! parsers of [`saturation_tables`](mod@crate::saturation_tables) skip
-//! them.
+//! units, the row count, the source run (network name and hash, study
+//! seed, program and version) and how the end points and monotonicity were
+//! handled; both parsers of [`saturation_tables`](mod@crate::saturation_tables)
+//! skip them. The include file is the water–oil table (`SWOF`) for an oil
+//! run, the gas–water pair (`SWFN`, `SGFN`) when the non-aqueous label is
+//! `gas` or `CO2` ([`is_gas`]); Pc in the unit asked for (bar, kPa, psi),
+//! named in its header. The CSV always holds Pa.
+//!
+//! The tables follow the conventions of [`TableOptions::for_simulators`]
+//! (common practice for simulator input): rows at simulated points from
+//! the lowest simulated Sw (connate water for drainage, the start for
+//! imbibition), where `krw = 0` exactly, to Sw = 1 (a last row with `krw` at
+//! its end point, `krn = 0` and Pc held, when the curve ends below, as
+//! imbibition does at 1 − Snr); every Pc a simulated value; the drainage
+//! table keeps the entry pressure at Sw = 1.
 //!
 //! The samples of a process are its recorded points where the flow was
 //! solved: `(Sw, krw, krn, Pc)`. A process with fewer than two such points
@@ -19,8 +30,8 @@ use network_core::run::RunResults;
 use network_core::study::ProcessKind;
 
 use super::{
-    Curve, KeywordTableOptions, Process, SatTable, TableOptions, build_table, write_csv,
-    write_keyword_table,
+    Curve, KeywordTableOptions, Process, SatTable, TableOptions, TableUnits, build_table,
+    write_csv, write_gas_water_tables, write_keyword_table,
 };
 use crate::error::ReportError;
 use crate::figures::process_label;
@@ -35,6 +46,7 @@ use crate::figures::process_label;
 pub fn saturation_tables(
     results: &RunResults,
     n_points: usize,
+    units: TableUnits,
 ) -> Result<Vec<(String, String)>, ReportError> {
     let mut out = Vec::new();
     let kinds: Vec<ProcessKind> = results.outcomes.iter().map(|o| o.kind).collect();
@@ -62,10 +74,17 @@ pub fn saturation_tables(
             continue;
         }
         let stem = format!("table-{}", process.as_str());
-        let opts = TableOptions {
-            n_points,
-            ..TableOptions::default()
+        // The drainage entry pressure: the Pc of the first recorded point
+        // where the non-aqueous phase had entered (Sw below the start).
+        let entry_pc = match process {
+            Process::Drainage => o
+                .points
+                .iter()
+                .find(|p| p.saturation.sw < o.points[0].saturation.sw)
+                .map(|p| p.pc_pa),
+            Process::Imbibition => None,
         };
+        let opts = TableOptions::for_simulators(n_points, entry_pc);
         let curve = Curve {
             process,
             sw: &cols[0],
@@ -85,6 +104,7 @@ pub fn saturation_tables(
             table: &table,
             opts: &opts,
             n_samples: cols[0].len(),
+            extended: cols[0].iter().all(|&s| s < 1.0 - 1e-9),
         };
         let mut csv = String::new();
         for line in description.lines(&format!(
@@ -110,15 +130,18 @@ pub fn saturation_tables(
         ));
         // The writer names the run and process itself.
         comments.retain(|c| !c.starts_with("source run:"));
-        let inc = write_keyword_table(
-            &table.rows,
-            &KeywordTableOptions {
-                source_run: description.source_run(),
-                process: Some(process),
-                comments,
-                ..KeywordTableOptions::default()
-            },
-        )
+        let kw_opts = KeywordTableOptions {
+            source_run: description.source_run(),
+            process: Some(process),
+            comments,
+            units,
+            ..KeywordTableOptions::default()
+        };
+        let inc = if is_gas(label) {
+            write_gas_water_tables(&table.rows, &kw_opts)
+        } else {
+            write_keyword_table(&table.rows, &kw_opts)
+        }
         .map_err(|source| ReportError::Table {
             file: inc_name.clone(),
             source,
@@ -127,6 +150,12 @@ pub fn saturation_tables(
         out.push((inc_name, inc));
     }
     Ok(out)
+}
+
+/// Whether a non-aqueous label names a gas (`gas`, `CO2`, any case), whose
+/// tables are written as the gas–water family.
+pub fn is_gas(label: &str) -> bool {
+    matches!(label.trim().to_ascii_lowercase().as_str(), "gas" | "co2")
 }
 
 /// Replaces line breaks by spaces (for comment lines).
@@ -140,6 +169,8 @@ struct Description<'a> {
     table: &'a SatTable,
     opts: &'a TableOptions,
     n_samples: usize,
+    /// The last row is the added row at Sw = 1.
+    extended: bool,
 }
 
 impl Description<'_> {
@@ -167,7 +198,12 @@ impl Description<'_> {
     fn lines(&self, columns: &str) -> Vec<String> {
         let rows = &self.table.rows;
         let rep = &self.table.report;
-        let (lo, hi) = (rows.sw[0], rows.sw[rows.len() - 1]);
+        let lo = rows.sw[0];
+        let top = if self.extended {
+            rows.sw[rows.len() - 2]
+        } else {
+            rows.sw[rows.len() - 1]
+        };
         let mut v = vec![
             format!(
                 "saturation functions of process {} from a pore-network model",
@@ -176,28 +212,44 @@ impl Description<'_> {
             format!("source run: {}", self.source_run()),
             columns.to_string(),
             format!(
-                "{} rows evenly spaced in Sw by linear interpolation of {} simulated points",
+                "{} rows (row count for the table-dimension setting) at simulated points: the \
+                 kr points nearest to {} evenly spaced Sw of {} simulated points{}; no \
+                 interpolation, every Pc a simulated value",
                 rows.len(),
-                self.n_samples
-            ),
-            format!(
-                "end points: Sw from {lo} to {hi}, exactly the simulated range (no \
-                 extrapolation); krn = 0 at the highest Sw: {}; krw at the lowest Sw: {}",
-                if self.opts.krn_zero_at_max_sw {
-                    "set"
+                self.opts.n_points,
+                self.n_samples,
+                if self.extended {
+                    ", and a row at Sw = 1"
                 } else {
-                    "as simulated"
-                },
-                if self.opts.krw_zero_at_min_sw {
-                    "set to 0"
-                } else {
-                    "as simulated (corner water films conduct)"
+                    ""
                 }
             ),
             format!(
-                "made monotone by weighted isotonic regression (krw rising, krn and Pc falling \
-                 in Sw): changed krw at {} (max {:.3e}), krn at {} (max {:.3e}), Pc at {} (max \
-                 {:.3e} Pa) of {} samples; {} equal-Sw samples merged",
+                "end points: Sw from {lo} (the lowest simulated Sw; krw set to 0 there) to {top} \
+                 (the highest simulated Sw; krn set to 0 there){}; Pc at the highest Sw: {}",
+                if self.extended {
+                    format!(
+                        ", then to Sw = 1 with krw held at its end point {}, krn = 0 and Pc \
+                         held",
+                        rows.krw[rows.len() - 1]
+                    )
+                } else {
+                    String::new()
+                },
+                match self.opts.pc_at_max_sw {
+                    Some(p) => format!(
+                        "the entry pressure {p} Pa (the first recorded Pc at which the \
+                         non-aqueous phase entered)"
+                    ),
+                    None => "the Pc at which that Sw was first reached".to_string(),
+                }
+            ),
+            format!(
+                "made monotone: krw rising and krn falling in Sw by weighted isotonic \
+                 regression, Pc falling by a running minimum from low Sw (values stay \
+                 simulated ones); changed krw at {} (max {:.3e}), krn at {} (max {:.3e}), Pc \
+                 at {} (max {:.3e} Pa) of {} samples; {} equal-Sw samples merged (kr: mean; \
+                 Pc: the first in process order)",
                 rep.krw.n_changed,
                 rep.krw.max_abs_change,
                 rep.krn.n_changed,

@@ -64,7 +64,8 @@ pub use self::build::build_table;
 pub use self::csv_file::{CSV_HEADER, parse_csv, write_csv};
 pub use self::isotonic::{isotonic_non_decreasing, isotonic_non_increasing};
 pub use self::keyword_file::{
-    KeywordTable, KeywordTableOptions, parse_keyword_table, write_keyword_table,
+    KeywordTable, KeywordTableOptions, declared_units, parse_keyword_columns, parse_keyword_table,
+    write_gas_water_tables, write_keyword_table,
 };
 pub use crate::error::TableError;
 
@@ -113,14 +114,33 @@ pub struct Curve<'a> {
 }
 
 /// Options of [`build_table`].
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq)]
 pub struct TableOptions {
-    /// Number of table rows (≥ 2). Default 21.
+    /// Number of table rows (≥ 2; with [`rows_at_samples`](Self::rows_at_samples)
+    /// the most rows, before the row [`extend_to_sw_one`](Self::extend_to_sw_one)
+    /// adds). Default 21.
     pub n_points: usize,
     /// Set `krw = 0` at the lowest Sw. Default `false`.
     pub krw_zero_at_min_sw: bool,
     /// Set `krn = 0` at the highest Sw. Default `true`.
     pub krn_zero_at_max_sw: bool,
+    /// Rows at simulated samples, Pc only simulated values: equal-Sw
+    /// samples keep the Pc of the first in process order (where that Sw was
+    /// reached), Pc is made monotone by a running minimum from low Sw (every
+    /// value stays one that was simulated), and the rows are the knots
+    /// nearest to `n_points` evenly spaced Sw (no interpolation). Default
+    /// `false`: Pc pooled by isotonic regression and rows interpolated on an
+    /// even grid.
+    pub rows_at_samples: bool,
+    /// When the curve ends below Sw = 1, add a row at Sw = 1 with `krw` at
+    /// its end point (the value at the highest simulated Sw), `krn = 0` and
+    /// Pc held at its value there; a last Sw within 1e-9 of 1 (round-off)
+    /// becomes 1 instead. Default `false`.
+    pub extend_to_sw_one: bool,
+    /// Pc (Pa) at the highest Sw, replacing the sampled value before Pc is
+    /// made monotone: a drainage's entry pressure, so that the table keeps
+    /// it at Sw = 1 instead of the 0 of the starting state. Default `None`.
+    pub pc_at_max_sw: Option<f64>,
 }
 
 impl Default for TableOptions {
@@ -129,6 +149,79 @@ impl Default for TableOptions {
             n_points: 21,
             krw_zero_at_min_sw: false,
             krn_zero_at_max_sw: true,
+            rows_at_samples: false,
+            extend_to_sw_one: false,
+            pc_at_max_sw: None,
+        }
+    }
+}
+
+impl TableOptions {
+    /// The conventions reservoir simulators expect (common practice): at
+    /// most `n_points` rows at simulated samples, `krw = 0` at the lowest
+    /// Sw (connate water), `krn = 0` at the highest, a row at Sw = 1, and
+    /// `pc_at_max_sw` at the top (the drainage entry pressure).
+    pub fn for_simulators(n_points: usize, pc_at_max_sw: Option<f64>) -> TableOptions {
+        TableOptions {
+            n_points,
+            krw_zero_at_min_sw: true,
+            krn_zero_at_max_sw: true,
+            rows_at_samples: true,
+            extend_to_sw_one: true,
+            pc_at_max_sw,
+        }
+    }
+}
+
+/// The unit of capillary pressure in keyword tables.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq, Hash)]
+pub enum TableUnits {
+    /// bar (the unit of the METRIC deck unit system). Default.
+    #[default]
+    Bar,
+    /// kPa (no common deck unit system uses it: convert before including).
+    Kpa,
+    /// psi (the unit of the FIELD deck unit system).
+    Psi,
+}
+
+impl TableUnits {
+    /// Pascals per unit: bar 1e5 (definition), kPa 1e3, psi
+    /// 0.45359237 kg · 9.80665 m/s² / (0.0254 m)² = 6894.757293168361 Pa
+    /// (definitions of the avoirdupois pound, standard gravity and the inch).
+    pub fn pa_per_unit(self) -> f64 {
+        match self {
+            TableUnits::Bar => PA_PER_BAR,
+            TableUnits::Kpa => 1.0e3,
+            TableUnits::Psi => 0.453_592_37 * 9.806_65 / (0.0254 * 0.0254),
+        }
+    }
+
+    /// The unit as written in files and accepted by `--table-units`.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            TableUnits::Bar => "bar",
+            TableUnits::Kpa => "kPa",
+            TableUnits::Psi => "psi",
+        }
+    }
+
+    /// Parses `bar`, `kpa` or `psi` (any case).
+    pub fn parse(s: &str) -> Option<TableUnits> {
+        match s.to_ascii_lowercase().as_str() {
+            "bar" => Some(TableUnits::Bar),
+            "kpa" => Some(TableUnits::Kpa),
+            "psi" => Some(TableUnits::Psi),
+            _ => None,
+        }
+    }
+
+    /// The deck unit system whose pressure unit this is, if any.
+    pub fn deck_unit_system(self) -> Option<&'static str> {
+        match self {
+            TableUnits::Bar => Some("METRIC"),
+            TableUnits::Kpa => None,
+            TableUnits::Psi => Some("FIELD"),
         }
     }
 }

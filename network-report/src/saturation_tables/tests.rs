@@ -153,6 +153,7 @@ fn end_point_options_force_zero_kr() {
         n_points: 5,
         krw_zero_at_min_sw: true,
         krn_zero_at_max_sw: true,
+        ..TableOptions::default()
     };
     let t = build_table(&curve, &forced).unwrap();
     assert_eq!((t.rows.krw[0], t.rows.krn[4]), (0.0, 0.0));
@@ -163,6 +164,7 @@ fn end_point_options_force_zero_kr() {
         n_points: 5,
         krw_zero_at_min_sw: false,
         krn_zero_at_max_sw: false,
+        ..TableOptions::default()
     };
     let t = build_table(&curve, &kept).unwrap();
     assert_eq!((t.rows.krw[0], t.rows.krn[4]), (0.05, 0.1));
@@ -356,5 +358,140 @@ fn bad_curves_and_rows_give_typed_errors() {
             name: "keyword",
             ..
         })
+    ));
+}
+
+/// An imbibition from Swi = 0.2 to 1 − Snr = 0.7 whose last two samples
+/// share Sw = 0.7 (nothing moved as Pc fell from 0 to −1e5 Pa), with a
+/// corner-film krw at Swi and a small krn left at the end.
+fn imbibition_samples() -> [Vec<f64>; 4] {
+    let sw = vec![0.2, 0.25, 0.3, 0.4, 0.5, 0.6, 0.65, 0.7, 0.7];
+    let krw = vec![8.8e-8, 1e-4, 1e-3, 0.01, 0.05, 0.12, 0.18, 0.25, 0.25];
+    let krn = vec![0.9, 0.7, 0.55, 0.3, 0.15, 0.05, 0.01, 0.002, 0.002];
+    let pc = vec![
+        1.0e5, 3000.0, 2000.0, 1500.0, 1000.0, 800.0, 500.0, 0.0, -1.0e5,
+    ];
+    [sw, krw, krn, pc]
+}
+
+#[test]
+fn simulator_conventions_hold_row_by_row() {
+    // Common practice for simulator input: rows from connate water to
+    // Sw = 1, krw exactly 0 at the first row, krn 0 from 1 − Snr on, krw
+    // held at its end point beyond 1 − Snr, only simulated Pc values.
+    let [sw, krw, krn, pc] = imbibition_samples();
+    let curve = Curve {
+        process: Process::Imbibition,
+        sw: &sw,
+        krw: &krw,
+        krn: &krn,
+        pc_pa: &pc,
+    };
+    let t = build_table(&curve, &TableOptions::for_simulators(21, None)).unwrap();
+    let r = &t.rows;
+    let n = r.len();
+    // 8 distinct Sw (the two at 0.7 merged) and the row at Sw = 1.
+    assert_eq!(n, 9);
+    assert_eq!((r.sw[0], r.krw[0]), (0.2, 0.0));
+    for i in 0..n - 1 {
+        // Each row is a simulated sample: its Sw, its Pc.
+        let k = sw.iter().position(|&s| s == r.sw[i]).unwrap();
+        assert_eq!(r.pc_pa[i], pc[k], "row {i}");
+        if i > 0 && i < n - 2 {
+            assert_eq!((r.krw[i], r.krn[i]), (krw[k], krn[k]), "row {i}");
+        }
+    }
+    // At 1 − Snr: krn = 0, and Pc where Sw = 0.7 was first reached (0),
+    // not the mean −5e4 Pa of the two samples there.
+    assert_eq!((r.sw[n - 2], r.krn[n - 2], r.pc_pa[n - 2]), (0.7, 0.0, 0.0));
+    assert_eq!(
+        (r.sw[n - 1], r.krw[n - 1], r.krn[n - 1], r.pc_pa[n - 1]),
+        (1.0, 0.25, 0.0, 0.0)
+    );
+    // Fewer rows asked than samples: the samples nearest to evenly spaced
+    // Sw (0.2, 0.45, 0.7 → 0.2, 0.4 or 0.5, 0.7) and Sw = 1.
+    let t = build_table(&curve, &TableOptions::for_simulators(3, None)).unwrap();
+    assert_eq!(t.rows.len(), 4);
+    assert_eq!((t.rows.sw[0], t.rows.sw[2], t.rows.sw[3]), (0.2, 0.7, 1.0));
+    assert!(t.rows.sw[1] == 0.4 || t.rows.sw[1] == 0.5);
+
+    // Drainage from Sw = 1 (Pc 0 at the start): the entry pressure given
+    // replaces the 0 at Sw = 1; no extra row (the curve reaches 1 up to
+    // round-off, which is snapped to 1).
+    let dsw = [1.0 - 2e-15, 0.9, 0.6, 0.3, 0.15];
+    let dkrw = [1.0, 0.6, 0.2, 0.01, 1e-6];
+    let dkrn = [0.0, 0.0, 0.1, 0.5, 0.8];
+    let dpc = [0.0, 1600.0, 2500.0, 6000.0, 20000.0];
+    let d = Curve {
+        process: Process::Drainage,
+        sw: &dsw,
+        krw: &dkrw,
+        krn: &dkrn,
+        pc_pa: &dpc,
+    };
+    let t = build_table(&d, &TableOptions::for_simulators(21, Some(1500.0))).unwrap();
+    let r = &t.rows;
+    assert_eq!(r.len(), 5);
+    assert_eq!((r.sw[0], r.krw[0], r.pc_pa[0]), (0.15, 0.0, 20000.0));
+    assert_eq!((r.sw[4], r.krn[4], r.pc_pa[4]), (1.0, 0.0, 1500.0));
+    assert_eq!(r.pc_pa[1..4], [6000.0, 2500.0, 1600.0]);
+}
+
+#[test]
+fn keyword_files_state_units_and_row_count_and_read_back() {
+    let [sw, krw, krn, pc] = imbibition_samples();
+    let curve = Curve {
+        process: Process::Imbibition,
+        sw: &sw,
+        krw: &krw,
+        krn: &krn,
+        pc_pa: &pc,
+    };
+    let rows = build_table(&curve, &TableOptions::for_simulators(21, None))
+        .unwrap()
+        .rows;
+    let n = rows.len();
+    // psi = 0.45359237 kg × 9.80665 m/s² / (0.0254 m)² (definitions).
+    assert!((TableUnits::Psi.pa_per_unit() - 6894.757293168361).abs() < 1e-9);
+    for units in [TableUnits::Bar, TableUnits::Kpa, TableUnits::Psi] {
+        let opts = KeywordTableOptions {
+            units,
+            ..KeywordTableOptions::default()
+        };
+        let text = write_keyword_table(&rows, &opts).unwrap();
+        assert!(text.contains(&format!("-- Pc unit: {}\n", units.as_str())));
+        assert!(text.contains(&format!("Pc = Po - Pw ({})", units.as_str())));
+        assert!(text.contains(&format!("-- {n} rows per table")));
+        let back = parse_keyword_table(&text).unwrap();
+        assert_eq!(back.rows.len(), n);
+        // The 2000 Pa of the row at Sw = 0.3 in the unit: 0.02 bar, 2 kPa,
+        // 0.2900755 psi.
+        let first = text
+            .lines()
+            .find(|l| l.trim_start().starts_with("0.300000"))
+            .unwrap();
+        let pc_text: f64 = first.split_whitespace().nth(3).unwrap().parse().unwrap();
+        let expected = 2000.0 / units.pa_per_unit();
+        assert!((pc_text - expected).abs() <= 1e-6 * expected);
+        for i in 0..n {
+            assert!((back.rows.pc_pa[i] - rows.pc_pa[i]).abs() <= 1e-6 * rows.pc_pa[i].abs());
+        }
+    }
+    let gas = write_gas_water_tables(&rows, &KeywordTableOptions::default()).unwrap();
+    let t = parse_keyword_columns(&gas, 3).unwrap();
+    assert_eq!(t.len(), 2);
+    assert_eq!(t[0].0, "SWFN");
+    assert_eq!(t[1].0, "SGFN");
+    // SGFN: Sg rising from 0 (Sw = 1) with krg 0, ending at 1 − Swi.
+    assert_eq!(t[1].1[0], vec![0.0, 0.0, 0.0]);
+    assert!((t[1].1[n - 1][0] - 0.8).abs() < 1e-12);
+    assert!((t[1].1[n - 1][1] - rows.krn[0]).abs() < 1e-6 * rows.krn[0]);
+    assert!(matches!(
+        declared_units("-- Pc unit: atm\nSWOF\n/\n"),
+        Err(TableError::Parse { line: 1, .. })
+    ));
+    assert!(matches!(
+        parse_keyword_columns("SWFN\n0.2 0 1\n", 3),
+        Err(TableError::Parse { line: 1, .. })
     ));
 }

@@ -1,7 +1,7 @@
 //! The HTML report of a study run: the page and its sections, in order.
 //! The sections are built in `inputs` (inputs and network), `results`
-//! (process results, end effects, wettability indices, trapped ganglia) and `fits` (end
-//! points and fitted models); figures and warnings are here.
+//! (process results, end effects, wettability indices, trapped ganglia), `fits` (end
+//! points and fitted models) and `waterflood` (the Buckley–Leverett waterflood); figures and warnings are here.
 //!
 //! The types the report reads from `network_core` are imported here, once,
 //! for all its sections.
@@ -19,10 +19,12 @@ use crate::plot::render_svg;
 use self::fits::fits;
 use self::inputs::{inputs, network};
 use self::results::{end_effects, ganglia, processes, wettability};
+use self::waterflood::waterflood;
 
 mod fits;
 mod inputs;
 mod results;
+mod waterflood;
 
 fn opt(v: Option<f64>, sig: usize) -> String {
     v.map_or_else(|| "n/a".to_string(), |x| number(x, sig))
@@ -62,6 +64,7 @@ pub fn run_report(results: &RunResults, figures: &[Figure]) -> String {
     page.section("End effects", end_effects(r));
     page.section("Wettability indices", wettability(r));
     page.section("Trapped ganglia", ganglia(r));
+    page.section("Waterflood (Buckley–Leverett)", waterflood(r));
     page.section("Figures", figures_html(figures));
     page.section("Warnings", warnings(r));
     page.footer(&format!(
