@@ -8,6 +8,7 @@ use serde::{Deserialize, Serialize};
 
 pub mod end_points;
 pub mod indices;
+pub mod input_checks;
 pub mod model_limits;
 pub mod process;
 pub mod profiles;
@@ -221,6 +222,8 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         warnings
             .push("the interior window holds no pore volume: no interior saturations".to_string());
     }
+    warnings.extend(input_checks::network(network));
+    warnings.extend(input_checks::fluids(&study.fluids));
     let mut profiles = Vec::new();
     for (i, p) in study.processes.iter().enumerate() {
         if p.kind == ProcessKind::Imbibition && i == 1 {
@@ -231,6 +234,13 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
             ));
             warnings.extend(model_limits::low_initial_water(engine.saturation().sw));
         }
+        let target_warning = input_checks::process_target(
+            &engine,
+            study,
+            i,
+            outcomes.last().map(|o: &ProcessOutcome| o.final_pc_pa),
+        );
+        let sw_before = engine.saturation().sw;
         let before = engine.snapshot();
         let mut recorder = ProfileRecorder::default();
         let mut out = run_process_observed(
@@ -266,6 +276,9 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
                 out.final_pc_pa,
             ));
         }
+        warnings.extend(target_warning.or_else(|| {
+            input_checks::unchanged(i + 1, p.kind, sw_before, out.final_saturation.sw)
+        }));
         if out.target_unreached {
             warnings.push(format!(
                 "process {} ({}): the saturation target was not reached; it ended at Sw = {:.4}",
