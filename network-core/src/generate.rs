@@ -140,6 +140,10 @@ const CHUNK: usize = 8192;
 /// 6 n_pores` entries as `u32`.
 pub const MAX_PORES: u64 = (u32::MAX / 6) as u64;
 
+/// A generator file with every key set to its default, commented
+/// (`ganglion template generator`); docs/keys.md documents the same keys.
+pub const TEMPLATE: &str = include_str!("templates/generator.toml");
+
 /// Largest lattice spacing accepted, m: pores of rock lie micrometres to
 /// about a millimetre apart, glass-bead packs a few millimetres (common
 /// practice); a spacing of a centimetre or more is a length in µm written

@@ -165,11 +165,15 @@ struct RawProcess {
     kr_points: Option<Spanned<i64>>,
 }
 
+/// A study file with every key set to its default, commented
+/// (`ganglion template study`); docs/keys.md documents the same keys.
+pub const TEMPLATE: &str = include_str!("templates/study.toml");
+
 /// Water viscosities accepted, Pa·s: no liquid water lies outside (water
 /// is about 1e-3 Pa·s at 20 °C and 0.2e-3 near 150 °C; a thick polymer
 /// solution reaches 0.1 Pa·s; common practice); values outside are unit
 /// slips. Unusual values inside are warned about at run time
-/// ([`crate::run::input_checks`]).
+/// (`run::input_checks`).
 pub const WATER_VISCOSITY_PA_S: [f64; 2] = [1.0e-6, 10.0];
 
 /// Non-aqueous viscosities accepted, Pa·s: from below the lightest gases
