@@ -11,12 +11,18 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 
-/// Quasi-static drainage and imbibition on pore networks: capillary
-/// pressure, trapping, relative permeability and resistivity.
+/// Computes capillary pressure, residual trapping, relative permeability
+/// and resistivity index of rock by quasi-static drainage and imbibition on
+/// pore networks.
+///
+/// Results go to standard output (a short key-results block; the full
+/// results are files in the output folder); progress and warnings go to
+/// standard error. Study-file keys: docs/keys.md and `ganglion template`.
 #[derive(Parser, Debug)]
-#[command(name = "ganglion", version, about, long_about = None, propagate_version = true)]
+#[command(name = "ganglion", version, propagate_version = true)]
 pub struct Cli {
-    /// No progress bars; only results and errors are printed.
+    /// No progress bars or progress lines; results, warnings and errors are
+    /// still printed.
     #[arg(long, short, global = true)]
     pub quiet: bool,
     /// Number of worker threads (default: all cores). Results do not depend
@@ -36,6 +42,7 @@ enum Command {
     Run(commands::run::Args),
     Sweep(commands::sweep::Args),
     Collect(commands::sweep::CollectArgs),
+    Template(commands::template::Args),
 }
 
 fn main() -> ExitCode {
@@ -57,6 +64,7 @@ fn main() -> ExitCode {
         Command::Run(a) => commands::run::run(a, &progress),
         Command::Sweep(a) => commands::sweep::run(a, &progress),
         Command::Collect(a) => commands::sweep::collect(a, &progress),
+        Command::Template(a) => commands::template::run(a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -6,6 +6,8 @@ use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use network_core::progress::Progress;
 
 /// One bar per library stage, drawn on standard error; nothing when quiet.
+/// Warnings ([`Bars::warn`]) go to standard error even when quiet; results
+/// go to standard output (the commands print them).
 pub struct Bars {
     quiet: bool,
     bar: Mutex<Option<ProgressBar>>,
@@ -20,16 +22,21 @@ impl Bars {
         }
     }
 
-    /// True when bars are silenced.
-    pub fn quiet(&self) -> bool {
-        self.quiet
-    }
-
-    /// Prints a line to standard error unless quiet, above any bar.
+    /// Prints a progress line to standard error unless quiet, above any
+    /// bar.
     pub fn note(&self, msg: &str) {
         if self.quiet {
             return;
         }
+        self.line(msg);
+    }
+
+    /// Prints a warning to standard error, quiet or not, above any bar.
+    pub fn warn(&self, msg: &str) {
+        self.line(&format!("warning: {msg}"));
+    }
+
+    fn line(&self, msg: &str) {
         match self.bar.lock().ok().and_then(|b| b.clone()) {
             Some(b) => b.println(msg),
             None => eprintln!("{msg}"),

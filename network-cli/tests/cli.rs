@@ -426,3 +426,138 @@ fn readme_main_command_runs_on_the_bundled_sample() {
     ok(&refs);
     assert!(d.join("out/summary.json").exists());
 }
+
+#[test]
+fn run_prints_key_results_on_stdout_and_warnings_on_stderr_even_when_quiet() {
+    let d = scratch("streams");
+    // A primary drainage to 100 Pa (meant as 100 kPa): a warning.
+    let st = write_study(
+        &d,
+        &SMALL_STUDY.replace("until_sw = 0.2", "until_pc_pa = 100.0"),
+    );
+    for quiet in [false, true] {
+        let out = d.join(format!("out-{quiet}"));
+        let mut args = vec!["run", s(&st), "-o", s(&out), "--no-png", "--no-vtk"];
+        if quiet {
+            args.insert(0, "-q");
+        }
+        let o = ok(&args);
+        let (stdout, stderr) = (
+            String::from_utf8_lossy(&o.stdout).to_string(),
+            String::from_utf8_lossy(&o.stderr).to_string(),
+        );
+        for key in [
+            "permeability k",
+            "porosity φ",
+            "formation factor F",
+            "Swi",
+            "Sni",
+            "Snr",
+            "krw(Snr)",
+            "kro(Swi)",
+            "Land C (single point",
+        ] {
+            assert!(stdout.contains(key), "stdout lacks {key}:\n{stdout}");
+        }
+        assert!(!stdout.contains("warning"), "{stdout}");
+        assert!(!stdout.contains("-0.0000"), "{stdout}");
+        assert!(
+            stderr.contains("warning: process 1 (drainage): until_pc_pa = 100 Pa is below"),
+            "quiet={quiet}: {stderr}"
+        );
+        // Progress lines only without -q.
+        assert_eq!(stderr.contains("results in"), !quiet, "{stderr}");
+        let v: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(out.join("summary.json")).unwrap())
+                .unwrap();
+        assert!(
+            v["warnings"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|w| w.as_str().unwrap().contains("lowest entry pressure")),
+            "{}",
+            v["warnings"]
+        );
+        let html = std::fs::read_to_string(out.join("report.html")).unwrap();
+        assert!(html.contains("lowest entry pressure"));
+    }
+}
+
+#[test]
+fn sweep_prints_land_per_group_on_stdout() {
+    let d = scratch("sweep-stdout");
+    let st = write_study(&d, SWEEP);
+    let o = ok(&["-q", "sweep", s(&st), "-o", s(&d.join("out"))]);
+    let stdout = String::from_utf8_lossy(&o.stdout);
+    assert!(stdout.contains("group 0 (base): 6 cases"), "{stdout}");
+    assert!(
+        stdout.contains("Land C") && stdout.contains("points"),
+        "{stdout}"
+    );
+    assert!(!String::from_utf8_lossy(&o.stderr).contains("results in"));
+}
+
+#[test]
+fn help_says_what_the_tool_computes_and_generate_shows_defaults() {
+    let o = ok(&["--help"]);
+    let first = String::from_utf8_lossy(&o.stdout)
+        .lines()
+        .next()
+        .unwrap()
+        .to_string();
+    assert!(
+        first.starts_with("Computes capillary pressure, residual trapping"),
+        "{first}"
+    );
+    let o = ok(&["generate", "--help"]);
+    let h = String::from_utf8_lossy(&o.stdout);
+    for flag in [
+        "--spacing-m",
+        "--target-coordination",
+        "--flow-axis",
+        "--clay-fraction",
+    ] {
+        assert!(h.contains(flag), "{flag}");
+    }
+    let d = network_core::generate::LatticeSpec::default();
+    assert!(h.contains(&format!("[default: {}", d.spacing_m)), "{h}");
+    assert!(h.contains("[default: 20x20x20"), "{h}");
+    // The old flag, in µm, is refused with its new name.
+    let o = ganglion(&["generate", "-o", "/nonexistent/x", "--spacing-um", "85"]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("renamed --spacing-m") && err.contains("85e-6"),
+        "{err}"
+    );
+}
+
+#[test]
+fn template_prints_a_study_that_runs() {
+    let d = scratch("template");
+    let o = ok(&["template", "study"]);
+    let text = String::from_utf8(o.stdout).unwrap();
+    // The template's network path, resolved as from a study in studies/.
+    let net = root().join("sample-networks/tiny-lattice");
+    let text = text.replace(
+        "\"../sample-networks/tiny-lattice\"",
+        &format!("{:?}", s(&net)),
+    );
+    let st = d.join("study.toml");
+    std::fs::write(&st, &text).unwrap();
+    let r = ganglion(&[
+        "-q",
+        "run",
+        s(&st),
+        "-o",
+        s(&d.join("out")),
+        "--no-png",
+        "--no-vtk",
+    ]);
+    assert!(r.status.success(), "{}", String::from_utf8_lossy(&r.stderr));
+    for kind in ["sweep", "generator"] {
+        let o = ok(&["template", kind]);
+        assert!(String::from_utf8_lossy(&o.stdout).contains("docs/keys.md"));
+    }
+}

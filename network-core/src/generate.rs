@@ -140,6 +140,16 @@ const CHUNK: usize = 8192;
 /// 6 n_pores` entries as `u32`.
 pub const MAX_PORES: u64 = (u32::MAX / 6) as u64;
 
+/// A generator file with every key set to its default, commented
+/// (`ganglion template generator`); docs/keys.md documents the same keys.
+pub const TEMPLATE: &str = include_str!("templates/generator.toml");
+
+/// Largest lattice spacing accepted, m: pores of rock lie micrometres to
+/// about a millimetre apart, glass-bead packs a few millimetres (common
+/// practice); a spacing of a centimetre or more is a length in µm written
+/// in m, which would otherwise give a network of porosity near zero.
+pub const MAX_SPACING_M: f64 = 0.01;
+
 /// A truncated Weibull distribution of an inscribed radius (see the module
 /// documentation for the sampling formula).
 ///
@@ -490,6 +500,17 @@ impl LatticeSpec {
         let s = self.spacing_m;
         if !(s.is_finite() && s > 0.0) {
             return Err(bad("spacing_m", s, "a positive finite length in m"));
+        }
+        if s >= MAX_SPACING_M {
+            return Err(bad(
+                "spacing_m",
+                s,
+                &format!(
+                    "a spacing in metres below {MAX_SPACING_M} m (pores of rock lie micrometres \
+                     to a millimetre apart); a value in µm given in m? {s} µm is {:e} m",
+                    s / 1e6
+                ),
+            ));
         }
         let a = self.throat_aspect_min;
         if !(a.is_finite() && a >= 1.0) {

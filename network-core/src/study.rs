@@ -165,6 +165,30 @@ struct RawProcess {
     kr_points: Option<Spanned<i64>>,
 }
 
+/// A study file with every key set to its default, commented
+/// (`ganglion template study`); docs/keys.md documents the same keys.
+pub const TEMPLATE: &str = include_str!("templates/study.toml");
+
+/// Water viscosities accepted, Pa·s: no liquid water lies outside (water
+/// is about 1e-3 Pa·s at 20 °C and 0.2e-3 near 150 °C; a thick polymer
+/// solution reaches 0.1 Pa·s; common practice); values outside are unit
+/// slips. Unusual values inside are warned about at run time
+/// (`run::input_checks`).
+pub const WATER_VISCOSITY_PA_S: [f64; 2] = [1.0e-6, 10.0];
+
+/// Non-aqueous viscosities accepted, Pa·s: from below the lightest gases
+/// (hydrogen and methane about 1e-5 Pa·s) to beyond bitumen at reservoir
+/// temperature (about 1e3 Pa·s; common practice). Unusual values inside are
+/// warned about at run time.
+pub const NONAQUEOUS_VISCOSITY_PA_S: [f64; 2] = [1.0e-6, 1.0e4];
+
+/// The forms of the study file's values, for parser messages.
+const STUDY_FORMS: &[(&str, &str)] = &[
+    ("Axis", "one of \"x\", \"y\", \"z\""),
+    ("RawProcess", "a [[process]] table"),
+    ("RawStudy", "a study file"),
+];
+
 /// Turns a byte span into a 1-based line.
 fn line_of(text: &str, span: Range<usize>) -> usize {
     crate::text::line_at(text, span.start)
@@ -286,15 +310,16 @@ impl Checker<'_> {
                     "fluids.water_viscosity_pa_s",
                     f.water_viscosity_pa_s,
                     d.water_viscosity_pa_s,
-                    |x| x > 0.0,
-                    "positive",
+                    |x| (WATER_VISCOSITY_PA_S[0]..=WATER_VISCOSITY_PA_S[1]).contains(&x),
+                    "a viscosity in Pa·s within [1e-6, 10] (water is about 1e-3 Pa·s = 1 cP)",
                 ),
                 nonaqueous_viscosity_pa_s: self.number(
                     "fluids.nonaqueous_viscosity_pa_s",
                     f.nonaqueous_viscosity_pa_s,
                     d.nonaqueous_viscosity_pa_s,
-                    |x| x > 0.0,
-                    "positive",
+                    |x| (NONAQUEOUS_VISCOSITY_PA_S[0]..=NONAQUEOUS_VISCOSITY_PA_S[1]).contains(&x),
+                    "a viscosity in Pa·s within [1e-6, 1e4] (gases about 1e-5, oils 1e-4 to 1 \
+                     Pa·s)",
                 ),
                 nonaqueous_label: match f.nonaqueous_label {
                     None => d.nonaqueous_label,
@@ -611,12 +636,11 @@ impl Study {
             Ok(r) => r,
             Err(e) => {
                 let line = e.span().map(|s| line_of(text, s));
-                let message = e.message().trim().to_string();
-                return Err(StudyErrors(vec![StudyError {
-                    key: String::new(),
-                    line,
-                    message,
-                }]));
+                let message = crate::text::plain_message(e.message(), STUDY_FORMS);
+                let key = line
+                    .and_then(|l| crate::text::key_on_line(text, l))
+                    .unwrap_or_default();
+                return Err(StudyErrors(vec![StudyError { key, line, message }]));
             }
         };
         let mut c = Checker {
@@ -827,6 +851,40 @@ until_sw = 0.9
         let e = first_error(&text);
         assert_eq!(e.line, Some(5), "{e}");
         assert!(e.message.contains("top"), "{e}");
+    }
+
+    #[test]
+    fn viscosities_outside_physical_bounds_are_refused() {
+        // 600 cP water is unusual but possible (warned at run time); 600
+        // Pa·s water is not water (common practice).
+        assert!(Study::parse(&GOOD.replace("1.0e-3", "0.6")).is_ok());
+        let e = first_error(&GOOD.replace("1.0e-3", "600.0"));
+        assert_eq!(e.key, "fluids.water_viscosity_pa_s");
+        assert_eq!(e.line, Some(6));
+        assert!(e.message.contains("Pa·s"), "{e}");
+        let e = first_error(&GOOD.replace("2.0e-3", "1.0e-7"));
+        assert_eq!(e.key, "fluids.nonaqueous_viscosity_pa_s");
+    }
+
+    #[test]
+    fn type_errors_name_the_key_and_the_form_not_rust_types() {
+        for (bad, key) in [
+            (
+                "[mechanisms]\ncooperative_weights = \"a\"",
+                "cooperative_weights",
+            ),
+            ("fluids = 3", "fluids"),
+            ("[flow]\nsolver_tolerance = \"small\"", "solver_tolerance"),
+        ] {
+            let text = format!(
+                "network = \"net\"\n{bad}\n[[process]]\nkind = \"drainage\"\nuntil_pc_pa = 1e4\n"
+            );
+            let e = first_error(&text);
+            assert_eq!(e.key, key, "{e}");
+            for rust in ["struct", "f64", "Raw", "usize", "Spanned"] {
+                assert!(!e.message.contains(rust), "{bad}: {e}");
+            }
+        }
     }
 
     #[test]

@@ -10,14 +10,17 @@ use crate::progress::Bars;
 
 /// Generate a lattice network with random radii and shapes.
 ///
-/// Parameters come from a TOML parameter file (`--spec`; every field
-/// optional, defaults are invented sandstone-like demo values) and the flags
-/// below, which override it. The output is a CSV folder, or a binary network
-/// file when the name ends in `.gnet`.
+/// Parameters come from a generator file (`--spec`, TOML; every key
+/// optional, see docs/keys.md or `ganglion template generator`) and the
+/// flags below, which override it. Flags carry the names of the file's keys
+/// and the same units (metres). Defaults are invented sandstone-like demo
+/// values. The output is a CSV folder, or a binary network file when the
+/// name ends in `.gnet`.
 ///
 /// Examples:
-///   ganglion generate -o net/ --size 30x30x30 --coordination 4.5 --seed 7
-///   ganglion generate -o big.gnet --size 100x100x100 --coordination 5
+///   ganglion generate -o net/ --size 30x30x30 --target-coordination 4.5 --seed 7
+///   ganglion generate -o net/ --size 30x30x30 --spacing-m 85e-6
+///   ganglion generate -o big.gnet --size 100x100x100 --target-coordination 5
 ///   ganglion generate -o net/ --spec lattice.toml
 #[derive(clap::Args, Debug)]
 #[command(verbatim_doc_comment)]
@@ -25,30 +28,42 @@ pub struct Args {
     /// Output: a folder (CSV) or a `.gnet` file (binary).
     #[arg(short, long, value_name = "OUT")]
     pub output: PathBuf,
-    /// Parameter file (TOML) with any fields of the lattice specification.
+    /// Generator file (TOML) with any keys of the lattice specification.
     #[arg(long, value_name = "FILE")]
     pub spec: Option<PathBuf>,
-    /// Lattice size as NXxNYxNZ, e.g. 30x30x30.
-    #[arg(long, value_name = "NXxNYxNZ")]
+    #[arg(long, value_name = "NXxNYxNZ", help = help_default(
+        "Lattice size as NXxNYxNZ (keys nx, ny, nz), e.g. 30x30x30.",
+        { let d = LatticeSpec::default(); format!("{}x{}x{}", d.nx, d.ny, d.nz) }))]
     pub size: Option<String>,
-    /// Pore spacing in micrometres.
-    #[arg(long, value_name = "UM")]
+    #[arg(long, value_name = "M", help = help_default(
+        "Pore spacing (centre to centre), m; 85 µm is 85e-6.",
+        LatticeSpec::default().spacing_m))]
+    pub spacing_m: Option<f64>,
+    /// Renamed: use --spacing-m (metres, like the generator file's key).
+    #[arg(long, value_name = "UM", hide = true)]
     pub spacing_um: Option<f64>,
-    /// Target mean coordination number.
-    #[arg(long, value_name = "Z")]
-    pub coordination: Option<f64>,
-    /// Flow axis (x, y or z): the inlet and outlet faces are normal to it.
-    #[arg(long, value_name = "AXIS")]
-    pub axis: Option<String>,
-    /// Fraction of each element's volume that is clay (micro-porosity).
-    #[arg(long, value_name = "F")]
+    #[arg(long, value_name = "Z", visible_alias = "coordination", help = help_default(
+        "Target mean coordination number.",
+        LatticeSpec::default().target_coordination))]
+    pub target_coordination: Option<f64>,
+    #[arg(long, value_name = "AXIS", visible_alias = "axis", help = help_default(
+        "Flow axis (x, y or z): the inlet and outlet faces are normal to it.",
+        LatticeSpec::default().flow_axis.as_str()))]
+    pub flow_axis: Option<String>,
+    #[arg(long, value_name = "F", help = help_default(
+        "Fraction of each element's volume that is clay (microporosity), in [0, 1).",
+        LatticeSpec::default().clay_fraction))]
     pub clay_fraction: Option<f64>,
-    /// Seed of the random draws.
-    #[arg(long)]
+    #[arg(long, help = help_default("Seed of the random draws.", LatticeSpec::default().seed))]
     pub seed: Option<u64>,
     /// Name written into network.toml.
     #[arg(long)]
     pub name: Option<String>,
+}
+
+/// A flag's help with the library's default, so the two cannot drift.
+fn help_default(text: &str, default: impl std::fmt::Display) -> String {
+    format!("{text} [default: {default}, or the --spec file's value]")
 }
 
 fn parse_size(s: &str) -> Result<(usize, usize, usize)> {
@@ -76,14 +91,21 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         (spec.nx, spec.ny, spec.nz) = parse_size(s)?;
     }
     if let Some(s) = args.spacing_um {
-        spec.spacing_m = s / 1e6;
+        bail!(
+            "--spacing-um was renamed --spacing-m, in metres like the generator file's key \
+             spacing_m: write --spacing-m {}",
+            format_args!("{s}e-6")
+        );
     }
-    if let Some(z) = args.coordination {
+    if let Some(s) = args.spacing_m {
+        spec.spacing_m = s;
+    }
+    if let Some(z) = args.target_coordination {
         spec.target_coordination = z;
     }
-    if let Some(a) = &args.axis {
+    if let Some(a) = &args.flow_axis {
         spec.flow_axis =
-            Axis::parse(a).with_context(|| format!("--axis `{a}`: expected x, y or z"))?;
+            Axis::parse(a).with_context(|| format!("--flow-axis `{a}`: expected x, y or z"))?;
     }
     if let Some(f) = args.clay_fraction {
         spec.clay_fraction = f;

@@ -7,6 +7,7 @@ pub mod inspect;
 pub mod perm;
 pub mod run;
 pub mod sweep;
+pub mod template;
 
 use std::path::Path;
 
@@ -20,7 +21,7 @@ pub fn load(path: &Path, progress: &Bars) -> Result<Loaded> {
     let loaded = io::read_network(path)
         .with_context(|| format!("cannot load network {}", path.display()))?;
     for w in &loaded.warnings {
-        progress.note(&format!("warning: {w}"));
+        progress.warn(&w.to_string());
     }
     Ok(loaded)
 }
@@ -35,7 +36,7 @@ pub fn study_network(
 ) -> Result<(network_core::Network, String)> {
     let net = network_core::io::study::study_network(study_path, study, realisation)?;
     for w in &net.warnings {
-        progress.note(&format!("warning: {w}"));
+        progress.warn(&w.to_string());
     }
     Ok((net.network, net.hash))
 }

@@ -11,15 +11,16 @@ use crate::progress::Bars;
 /// Run every case of a study's `[sweep]`: initial water saturations,
 /// parameter lists and realisations, in parallel.
 ///
-/// OUT receives sweep-cases.json (every case and its study), cases/
-/// (one result file per finished case, written atomically), summary.json
+/// OUT receives sweep-cases.json (every case and its study), cases/ (one
+/// result file per finished case, written atomically), summary.json
 /// (statistics per parameter combination with the least-squares Land
 /// coefficient, its standard error and a warning when the points are not
-/// Land-shaped),
-/// trapping-curve.csv, cases.csv, the figures (trapping curve with its Land
-/// fit, curves with their spread over realisations) and report.html. A sweep started again with the same
-/// study and OUT skips the cases already finished. `--case K` runs one
-/// case only (for a cluster's job scheduler); `collect OUT` then merges.
+/// Land-shaped), trapping-curve.csv, cases.csv, the figures (trapping
+/// curve with its Land fit, curves with their spread over realisations)
+/// and report.html. A sweep started again with the same study and OUT
+/// skips the cases already finished. `--case K` runs one case only (for a
+/// cluster's job scheduler); `collect OUT` then merges. The [sweep] keys
+/// are listed in docs/keys.md.
 ///
 /// Examples:
 ///   ganglion sweep studies/kestrel-trapping.toml -o out/trapping
@@ -110,41 +111,43 @@ fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
     network_report::write_sweep_artifacts(&title, &summary, &results, out, true)
         .with_context(|| format!("cannot write the sweep report to {}", out.display()))?;
     if !missing.is_empty() {
-        progress.note(&format!(
+        progress.warn(&format!(
             "{} case(s) not finished yet: {:?}",
             missing.len(),
             missing
         ));
     }
-    if !progress.quiet() {
-        for g in &summary.groups {
-            let params: Vec<String> = g
-                .parameters
-                .iter()
-                .map(|(p, v)| format!("{p} = {v}"))
-                .collect();
-            let land = match (g.land_coefficient, g.land_coefficient_se, g.land_rmse_snr) {
-                (Some(c), Some(se), Some(rmse)) => format!(
-                    "Land C {c:.3} ± {se:.3} (least squares over {} points, rmse {rmse:.3} in Snr)",
-                    g.land_points
-                ),
-                _ => "Land C n/a".to_string(),
-            };
-            eprintln!(
-                "group {} ({}): {} cases, {land}",
-                g.group,
-                if params.is_empty() {
-                    "base".to_string()
-                } else {
-                    params.join(", ")
-                },
-                g.cases,
-            );
-            if let Some(w) = &g.land_warning {
-                eprintln!("warning: group {}: {w}", g.group);
-            }
+    println!("Land coefficient per group (least squares on Snr, Land 1968; model estimates)");
+    for g in &summary.groups {
+        let params: Vec<String> = g
+            .parameters
+            .iter()
+            .map(|(p, v)| format!("{p} = {v}"))
+            .collect();
+        let land = match (g.land_coefficient, g.land_coefficient_se, g.land_rmse_snr) {
+            (Some(c), Some(se), Some(rmse)) => format!(
+                "Land C {} ± {} over {} points (rmse {} in Snr)",
+                super::run::fixed(Some(c), 3),
+                super::run::fixed(Some(se), 3),
+                g.land_points,
+                super::run::fixed(Some(rmse), 3)
+            ),
+            _ => format!("Land C n/a ({} points)", g.land_points),
+        };
+        println!(
+            "  group {} ({}): {} cases, {land}",
+            g.group,
+            if params.is_empty() {
+                "base".to_string()
+            } else {
+                params.join(", ")
+            },
+            g.cases,
+        );
+        if let Some(w) = &g.land_warning {
+            progress.warn(&format!("group {}: {w}", g.group));
         }
-        eprintln!("results in {}", out.display());
     }
+    progress.note(&format!("results in {}", out.display()));
     Ok(())
 }

@@ -35,10 +35,13 @@ pub enum StudyInputError {
         errors: StudyErrors,
     },
     /// The network files could not be loaded.
-    #[error("cannot load network {}", path.display())]
+    #[error("cannot load network {}{}", path.display(), origin)]
     Network {
         /// The network path, as resolved against the study file.
         path: PathBuf,
+        /// Where the path came from: the study file and line, and whether
+        /// it was resolved relative to the study file's folder.
+        origin: String,
         /// The underlying error.
         source: ReadError,
     },
@@ -53,10 +56,12 @@ pub enum StudyInputError {
         message: String,
     },
     /// The generator refused its parameters.
-    #[error("cannot generate the network of {}", path.display())]
+    #[error("cannot generate the network of {}{}", path.display(), origin)]
     Generate {
         /// The parameter file.
         path: PathBuf,
+        /// Where the path came from (see [`StudyInputError::Network`]).
+        origin: String,
         /// The underlying error.
         source: GenerateError,
     },
@@ -93,6 +98,38 @@ pub fn network_path(study_path: &Path, study: &Study) -> PathBuf {
     }
 }
 
+/// Where a study's network path came from, for error messages: the study
+/// file, the line of its `network` key, and for a relative path that it is
+/// relative to the study file's folder.
+pub fn network_origin(study_path: &Path, study: &Study) -> String {
+    let line = std::fs::read_to_string(study_path).ok().and_then(|t| {
+        t.lines()
+            .position(|l| {
+                l.split_once('=')
+                    .is_some_and(|(k, _)| k.trim().trim_matches('"') == "network")
+            })
+            .map(|i| i + 1)
+    });
+    let at = match line {
+        Some(l) => format!("{}:{l}", study_path.display()),
+        None => study_path.display().to_string(),
+    };
+    if Path::new(&study.network).is_absolute() {
+        format!(" (network = \"{}\" at {at})", study.network)
+    } else {
+        format!(
+            " (network = \"{}\" at {at}; a relative path is taken relative to the folder of \
+             the study file, {})",
+            study.network,
+            study_path
+                .parent()
+                .filter(|p| !p.as_os_str().is_empty())
+                .unwrap_or(Path::new("."))
+                .display()
+        )
+    }
+}
+
 /// Reads a generator parameter file (TOML; unknown keys refused, errors
 /// with their line).
 pub fn read_lattice_spec(path: &Path) -> Result<LatticeSpec, StudyInputError> {
@@ -103,11 +140,61 @@ pub fn read_lattice_spec(path: &Path) -> Result<LatticeSpec, StudyInputError> {
     };
     let text = std::fs::read_to_string(path)
         .map_err(|e| spec_err(None, format!("cannot read the file: {e}")))?;
-    toml::from_str(&text).map_err(|e| {
+    let spec: LatticeSpec = toml::from_str(&text).map_err(|e| {
         let line = e.span().map(|s| crate::text::line_at(&text, s.start));
-        spec_err(line, e.message().trim().to_string())
-    })
+        let mut message = crate::text::plain_message(e.message(), LATTICE_FORMS);
+        if let Some(key) = line.and_then(|l| crate::text::key_on_line(&text, l)) {
+            message = format!("key `{key}`: {message}");
+        }
+        if message.contains("spacing_um") {
+            message.push_str(
+                "; the file takes spacing_m, in metres (85 µm is spacing_m = 85e-6), as every \
+                 length of the file",
+            );
+        }
+        spec_err(line, message)
+    })?;
+    // Name the line of a parameter the generator refuses.
+    spec.validate().map_err(|e| {
+        let name = match &e {
+            GenerateError::InvalidParameter { name, .. } => name.as_str(),
+            GenerateError::CoordinationOutOfRange { .. } => "target_coordination",
+            GenerateError::SpacingTooSmall { .. } => "spacing_m",
+            _ => "",
+        };
+        let last = name.rsplit('.').next().unwrap_or(name);
+        let line = (!last.is_empty())
+            .then(|| {
+                text.lines().position(|l| {
+                    l.split_once('=')
+                        .is_some_and(|(k, _)| k.trim().trim_matches('"') == last)
+                })
+            })
+            .flatten()
+            .map(|i| i + 1);
+        spec_err(line, e.to_string())
+    })?;
+    Ok(spec)
 }
+
+/// The forms of the generator file's tables, for parser messages.
+const LATTICE_FORMS: &[(&str, &str)] = &[
+    (
+        "WeibullRange",
+        "a table {min_m, max_m, shape, scale} (e.g. pore_radius = { min_m = 5e-6, max_m = 4e-5, \
+         shape = 1.8, scale = 0.3 })",
+    ),
+    (
+        "ShapeMix",
+        "a table {triangle, square, circle, triangle_g_min, triangle_g_max}",
+    ),
+    (
+        "RegularSpec",
+        "a table {pore_radius_m, throat_radius_m, pore_shape_factor, throat_shape_factor}",
+    ),
+    ("LatticeSpec", "a generator file (key = value lines)"),
+    ("Axis", "one of \"x\", \"y\", \"z\""),
+];
 
 /// A study's network with its content hash and the warnings met while
 /// loading it.
@@ -134,16 +221,29 @@ pub fn study_network(
         .extension()
         .is_some_and(|e| e.eq_ignore_ascii_case("toml"))
     {
-        let mut spec = read_lattice_spec(&path)?;
+        let mut spec = match read_lattice_spec(&path) {
+            Err(StudyInputError::Spec { message, line, .. })
+                if message.starts_with("cannot read the file") =>
+            {
+                return Err(StudyInputError::Spec {
+                    path: path.clone(),
+                    line,
+                    message: format!("{message}{}", network_origin(study_path, study)),
+                });
+            }
+            r => r?,
+        };
         spec.seed += realisation as u64;
         let net = generate(&spec, &Silent).map_err(|source| StudyInputError::Generate {
             path: path.clone(),
+            origin: network_origin(study_path, study),
             source,
         })?;
         (net, Vec::new())
     } else {
         let loaded = read_network(&path).map_err(|source| StudyInputError::Network {
             path: path.clone(),
+            origin: network_origin(study_path, study),
             source,
         })?;
         let warnings = loaded.warnings.iter().map(ToString::to_string).collect();

@@ -9,6 +9,7 @@ use serde::{Deserialize, Serialize};
 pub mod end_points;
 pub mod fractional_flow;
 pub mod indices;
+pub mod input_checks;
 pub mod model_limits;
 pub mod process;
 pub mod profiles;
@@ -227,6 +228,8 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
         warnings
             .push("the interior window holds no pore volume: no interior saturations".to_string());
     }
+    warnings.extend(input_checks::network(network));
+    warnings.extend(input_checks::fluids(&study.fluids));
     let mut profiles = Vec::new();
     for (i, p) in study.processes.iter().enumerate() {
         if p.kind == ProcessKind::Imbibition && i == 1 {
@@ -241,6 +244,13 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
                 study.wettability.oil_wet_fraction,
             ));
         }
+        let target_warning = input_checks::process_target(
+            &engine,
+            study,
+            i,
+            outcomes.last().map(|o: &ProcessOutcome| o.final_pc_pa),
+        );
+        let sw_before = engine.saturation().sw;
         let before = engine.snapshot();
         let mut recorder = ProfileRecorder::default();
         let mut out = run_process_observed(
@@ -276,6 +286,9 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
                 out.final_pc_pa,
             ));
         }
+        warnings.extend(target_warning.or_else(|| {
+            input_checks::unchanged(i + 1, p.kind, sw_before, out.final_saturation.sw)
+        }));
         if out.target_unreached {
             warnings.push(format!(
                 "process {} ({}): the saturation target was not reached; it ended at Sw = {:.4}",

@@ -46,6 +46,10 @@ pub use summary::{
     summarise, summarise_with,
 };
 
+/// The `[sweep]` table with every key, commented (`ganglion template
+/// sweep`); docs/keys.md documents the same keys.
+pub const TEMPLATE: &str = include_str!("../templates/sweep.toml");
+
 /// The `[sweep]` table.
 #[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
 pub struct SweepSpec {

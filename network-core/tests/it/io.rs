@@ -1213,3 +1213,54 @@ fn oil_wet_values_other_than_zero_or_one_are_refused_with_their_line() {
         &[(Rule::MalformedValue, PORES, Some(4), Some("oil_wet"))],
     );
 }
+
+// ------------------------------------------- generator and study inputs
+
+/// The error text of a generator file holding `body`.
+fn spec_error(body: &str) -> String {
+    let dir = scratch("spec");
+    let p = dir.join("lattice.toml");
+    std::fs::write(&p, body).unwrap();
+    network_core::io::study::read_lattice_spec(&p)
+        .unwrap_err()
+        .to_string()
+}
+
+#[test]
+fn generator_file_errors_name_key_and_line_in_the_words_of_the_file() {
+    // Issue 17: "expected struct WeibullRange with 4 elements".
+    let e = spec_error("nx = 4\npore_radius = [5e-6, 4e-5, 1.8]\n");
+    assert!(e.contains(":2:"), "{e}");
+    assert!(e.contains("`pore_radius`"), "{e}");
+    assert!(e.contains("min_m, max_m, shape, scale"), "{e}");
+    assert!(!e.contains("struct") && !e.contains("WeibullRange"), "{e}");
+    // A spacing in µm written in m is refused at its line.
+    let e = spec_error("nx = 4\n\nspacing_m = 85\n");
+    assert!(e.contains(":3:") && e.contains("spacing_m"), "{e}");
+    assert!(e.contains("8.5e-5"), "{e}");
+    // The CLI's old spelling in a file.
+    let e = spec_error("spacing_um = 85\n");
+    assert!(e.contains("spacing_m = 85e-6"), "{e}");
+}
+
+#[test]
+fn a_missing_relative_network_names_the_resolved_path_and_the_study_line() {
+    let dir = scratch("relative");
+    let study = dir.join("study.toml");
+    std::fs::write(
+        &study,
+        "title = \"t\"\nnetwork = \"nets/missing\"\n[[process]]\nkind = \"drainage\"\nuntil_pc_pa = 1e4\n",
+    )
+    .unwrap();
+    let s = network_core::io::study::read_study(&study).unwrap();
+    let e = network_core::io::study::study_network(&study, &s, 0)
+        .unwrap_err()
+        .to_string();
+    let resolved = dir.join("nets/missing");
+    assert!(e.contains(&resolved.display().to_string()), "{e}");
+    assert!(e.contains("study.toml:2"), "{e}");
+    assert!(
+        e.contains("relative to the folder of the study file"),
+        "{e}"
+    );
+}

@@ -10,6 +10,7 @@ mod flow;
 mod flow_emt;
 mod generate;
 mod imbibition;
+mod input_checks;
 mod io;
 mod mixed_wet;
 mod networks;
