@@ -1,0 +1,14 @@
+#!/usr/bin/env bash
+# Every test of the project, in one command (the README's test command):
+#   1. the Rust tests of the workspace (unit, integration, CLI, report);
+#   2. the demo-output guard (byte-for-byte comparison with recorded sums);
+#   3. the reservoir-simulator round trip of the written tables
+#      (scripts/test-simulator.sh: installs Debian's OPM Flow package when
+#      missing; every external call has a timeout).
+# Exits non-zero when any part fails.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+cargo test --workspace --release --locked
+scripts/check-golden.sh
+timeout 1200 scripts/test-simulator.sh
+echo "all tests passed"
