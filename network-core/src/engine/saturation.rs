@@ -63,6 +63,15 @@ pub struct RegionVolumes {
     pub oil_trapped: f64,
 }
 
+impl std::ops::AddAssign for RegionVolumes {
+    fn add_assign(&mut self, o: RegionVolumes) {
+        self.pore += o.pore;
+        self.water += o.water;
+        self.oil += o.oil;
+        self.oil_trapped += o.oil_trapped;
+    }
+}
+
 #[derive(Clone, Copy, Default)]
 struct Sums {
     water: f64,
@@ -230,10 +239,7 @@ impl Engine<'_> {
         let mut out = vec![RegionVolumes::default(); n_regions];
         for part in parts {
             for (o, p) in out.iter_mut().zip(part) {
-                o.pore += p.pore;
-                o.water += p.water;
-                o.oil += p.oil;
-                o.oil_trapped += p.oil_trapped;
+                *o += p;
             }
         }
         out

@@ -203,15 +203,9 @@ impl ProfileLayout {
         let r = engine.region_volumes(&self.region, 2 * n);
         let mut slabs = r[..n].to_vec();
         let mut window = RegionVolumes::default();
-        for (s, w) in slabs.iter_mut().zip(&r[n..]) {
-            s.pore += w.pore;
-            s.water += w.water;
-            s.oil += w.oil;
-            s.oil_trapped += w.oil_trapped;
-            window.pore += w.pore;
-            window.water += w.water;
-            window.oil += w.oil;
-            window.oil_trapped += w.oil_trapped;
+        for (s, &w) in slabs.iter_mut().zip(&r[n..]) {
+            *s += w;
+            window += w;
         }
         (slabs, window)
     }
