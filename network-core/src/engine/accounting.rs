@@ -656,5 +656,6 @@ impl Engine<'_> {
             sw_corners: corners / pv,
             sn_layers: layers / pv,
         }
+        .tidy()
     }
 }

@@ -204,13 +204,13 @@ pub fn fit_brooks_corey_pc(
     };
     let line = bc_line(sw, pc_pa, swr).ok_or(FitError::Degenerate {
         what: WHAT,
-        detail: "fewer than two usable points with distinct S_w (Pc > 0, 0 < S_e ≤ 1)".into(),
+        detail: "fewer than two usable points with distinct Sw (Pc > 0, 0 < Se ≤ 1)".into(),
     })?;
     if line.slope >= 0.0 {
         return Err(FitError::Degenerate {
             what: WHAT,
             detail: format!(
-                "Pc does not fall with S_w (log–log slope {:.4}); no positive λ",
+                "Pc does not fall with Sw (log–log slope {:.4}); no positive λ",
                 line.slope
             ),
         });

@@ -241,7 +241,7 @@ impl std::fmt::Display for LandShapeIssue {
         match self {
             LandShapeIssue::SingleLevel { sni } => write!(
                 f,
-                "every point has S_ni ≈ {sni:.3}, so C rests on one initial saturation and the \
+                "every point has Sni ≈ {sni:.3}, so C rests on one initial saturation and the \
                  Land shape is not tested"
             ),
             LandShapeIssue::ResidualsExceedScatter {
@@ -249,7 +249,7 @@ impl std::fmt::Display for LandShapeIssue {
                 pure_error_sd,
             } => write!(
                 f,
-                "the fit misses the points by rmse {rmse:.3} in S_nr, {:.1} times their scatter \
+                "the fit misses the points by rmse {rmse:.3} in Snr, {:.1} times their scatter \
                  between realisations ({pure_error_sd:.4})",
                 rmse / pure_error_sd
             ),
@@ -260,7 +260,7 @@ impl std::fmt::Display for LandShapeIssue {
                 snr_top,
             } => write!(
                 f,
-                "S_nr falls from {snr_peak:.3} at S_ni {sni_peak:.3} to {snr_top:.3} at S_ni \
+                "Snr falls from {snr_peak:.3} at Sni {sni_peak:.3} to {snr_top:.3} at Sni \
                  {sni_top:.3}, where Land's curve rises"
             ),
             LandShapeIssue::ResidualTrend { levels, runs } => write!(
@@ -272,7 +272,7 @@ impl std::fmt::Display for LandShapeIssue {
     }
 }
 
-/// A Land coefficient fitted by least squares in `S_nr`
+/// A Land coefficient fitted by least squares in `Snr`
 /// ([`fit_land_least_squares`]).
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct LandLsqFit {
@@ -286,11 +286,11 @@ pub struct LandLsqFit {
     pub normalisation: LandNormalisation,
     /// Points fitted.
     pub n_points: usize,
-    /// Points left out by the `S_ni` range.
+    /// Points left out by the `Sni` range.
     pub n_outside_range: usize,
-    /// Smallest and largest `S_ni` of the fitted points (as given).
+    /// Smallest and largest `Sni` of the fitted points (as given).
     pub sni_range: (f64, f64),
-    /// RMS of `Ŝ_nr − S_nr` over the fitted points (normalised saturations).
+    /// RMS of `Ŝ_nr − Snr` over the fitted points (normalised saturations).
     pub rmse_snr: f64,
     /// Distinct replicate levels among the fitted points.
     pub levels: usize,
@@ -298,7 +298,7 @@ pub struct LandLsqFit {
     /// their level means, $\sqrt{\sum (r_i - \bar r_l)^2/(n - k)}$ for `k`
     /// levels (`None` without replicates).
     pub pure_error_sd: Option<f64>,
-    /// Residuals `S_nr − Ŝ_nr` of the fitted points, in input order.
+    /// Residuals `Snr − Ŝ_nr` of the fitted points, in input order.
     pub residuals: Vec<f64>,
     /// Why the data may not be Land-shaped (empty: no sign of it).
     pub shape_issues: Vec<LandShapeIssue>,
@@ -319,7 +319,7 @@ impl LandLsqFit {
         let issues: Vec<String> = self.shape_issues.iter().map(|i| i.to_string()).collect();
         let head = if shape {
             format!(
-                "data not Land-shaped over this range (S_ni {:.3}–{:.3}): ",
+                "data not Land-shaped over this range (Sni {:.3}–{:.3}): ",
                 self.sni_range.0, self.sni_range.1
             )
         } else {
