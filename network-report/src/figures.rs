@@ -4,6 +4,7 @@
 //! | stem | content | axes |
 //! |---|---|---|
 //! | `pc-sw` | capillary pressure of every process | Sw linear, Pc (kPa) linear |
+//! | `pc-sw-zoom` | the same, Pc axis zoomed to the capillary plateaus (see [`plateau_range`]) | Sw linear, Pc (kPa) linear |
 //! | `kr-sw` | `k_rw` and `k_rn` of every process at the computed points | linear |
 //! | `kr-sw-log` | the same | Sw linear, kr log |
 //! | `fw-sw` | fractional flow of water of the first imbibition with kr, the Welge tangent and the shock front | linear |
@@ -47,7 +48,7 @@ pub struct Figure {
 }
 
 /// Water-saturation axis label.
-pub const SW_LABEL: &str = "Water saturation Sw (fraction of pore volume)";
+pub const SW_LABEL: &str = "Water saturation S_{w} (fraction of pore volume)";
 
 /// The standard figures of `results` (see the [module docs](self)), in the
 /// order of the table there.
@@ -55,7 +56,10 @@ pub fn run_figures(results: &RunResults) -> Vec<Figure> {
     let label = &results.study.fluids.nonaqueous_label;
     let mut out = Vec::new();
     if !results.outcomes.is_empty() {
-        out.push(pc_figure(results));
+        let full = pc_figure(results);
+        let zoom = plateau_zoom(&full, "pc-sw-zoom");
+        out.push(full);
+        out.extend(zoom);
     }
     let has_kr = results
         .outcomes
@@ -129,7 +133,7 @@ fn profile_figure(results: &RunResults) -> Option<Figure> {
             let t = 0.25 + 0.75 * (j + 1) as f64 / steps.len() as f64;
             let label = if last {
                 format!(
-                    "{}, end: Sw = {:.3}",
+                    "{}, end: S_{{w}} = {:.3}",
                     process_label(&kinds, i),
                     o.points[k].saturation.sw
                 )
@@ -227,19 +231,95 @@ fn pc_figure(results: &RunResults) -> Figure {
     Figure {
         name: "pc-sw",
         title: title.clone(),
-        caption: "Capillary pressure Pc = Pn − Pw against water saturation at every recorded \
-                  point of each process; negative Pc is forced displacement of the \
+        caption: "Capillary pressure P_{c} = P_{n} − P_{w} against water saturation at every \
+                  recorded point of each process; negative P_{c} is forced displacement of the \
                   non-aqueous phase."
             .into(),
         spec: PlotSpec {
             title,
             x_label: SW_LABEL.into(),
-            y_label: "Capillary pressure Pc = Pn − Pw (kPa)".into(),
+            y_label: "Capillary pressure P_{c} = P_{n} − P_{w} (kPa)".into(),
             x_range: Some((0.0, 1.0)),
             series,
             ..PlotSpec::default()
         },
     }
+}
+
+/// Fraction of a process's saturation span cut at each end when looking
+/// for its plateau (the steep ends are left out).
+const PLATEAU_TRIM: f64 = 0.03;
+
+/// The Pc range (kPa) of the capillary plateaus of `series` (Sw, Pc):
+/// the 2nd to 98th percentile of the Pc values at the points of each
+/// series whose Sw lies inside its own span with [`PLATEAU_TRIM`] of the
+/// span cut at each end (the steep ends of drainage and forced
+/// imbibition are left out), widened to include Pc = 0 and padded by 15 %.
+/// `None` when no point qualifies or when the plateaus fill more than a
+/// third of the full range `full` (the full figure shows them already).
+pub fn plateau_range(series: &[Series], full: (f64, f64)) -> Option<(f64, f64)> {
+    let mut pc: Vec<f64> = Vec::new();
+    for s in series {
+        let (lo, hi) =
+            s.x.iter()
+                .filter(|v| v.is_finite())
+                .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
+                    (a.min(v), b.max(v))
+                });
+        if hi.partial_cmp(&lo) != Some(std::cmp::Ordering::Greater) {
+            continue;
+        }
+        let cut = PLATEAU_TRIM * (hi - lo);
+        pc.extend(
+            s.x.iter()
+                .zip(&s.y)
+                .filter(|(x, y)| **x > lo + cut && **x < hi - cut && y.is_finite())
+                .map(|(_, y)| *y),
+        );
+    }
+    if pc.is_empty() {
+        return None;
+    }
+    pc.sort_by(f64::total_cmp);
+    let at = |q: f64| pc[((pc.len() - 1) as f64 * q).round() as usize];
+    let (lo, hi) = (at(0.02).min(0.0), at(0.98).max(0.0));
+    let pad = 0.15 * (hi - lo).max(1e-9);
+    let (lo, hi) = (if lo < 0.0 { lo - pad } else { lo }, hi + pad);
+    let full_span = full.1 - full.0;
+    if full_span.is_nan() || full_span <= 0.0 || (hi - lo) > full_span / 3.0 {
+        return None;
+    }
+    Some((lo, hi))
+}
+
+/// A Pc figure again, named `name`, with its Pc axis zoomed to the
+/// plateaus, when they are small against the full range (see
+/// [`plateau_range`]).
+pub(crate) fn plateau_zoom(full: &Figure, name: &'static str) -> Option<Figure> {
+    let (lo, hi) = full
+        .spec
+        .series
+        .iter()
+        .flat_map(|s| s.y.iter().copied())
+        .filter(|v| v.is_finite())
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+            (a.min(v), b.max(v))
+        });
+    let range = plateau_range(&full.spec.series, (lo, hi))?;
+    let title = format!("{}, plateaus", full.title);
+    let mut spec = full.spec.clone();
+    spec.title = title.clone();
+    spec.y_range = Some(range);
+    Some(Figure {
+        name,
+        title,
+        caption: format!(
+            "{} With the P_{{c}} axis zoomed to {:.1} … {:.1} kPa, where the displacements \
+             happen; the steep ends run off the axis (full range {:.1} … {:.1} kPa in {}).",
+            full.caption, range.0, range.1, lo, hi, full.name
+        ),
+        spec,
+    })
 }
 
 /// `(sw, krw, krn, ri)` at the points where the flow was solved, in
@@ -268,12 +348,12 @@ fn kr_figure(results: &RunResults, label: &str, y_scale: Scale) -> Figure {
         let name = process_label(&kinds, i);
         let c = process_colour(i);
         series.push(
-            Series::line(format!("k_rw, {name}"), sw.clone(), krw)
+            Series::line(format!("k_{{rw}}, {name}"), sw.clone(), krw)
                 .with_style(SeriesStyle::LineMarkers)
                 .with_colour(c),
         );
         series.push(
-            Series::line(format!("k_r,{label}, {name}"), sw, krn)
+            Series::line(format!("k_{{r,{label}}}, {name}"), sw, krn)
                 .with_style(SeriesStyle::DashedMarkers)
                 .with_colour(c),
         );
@@ -297,7 +377,7 @@ fn kr_figure(results: &RunResults, label: &str, y_scale: Scale) -> Figure {
         spec: PlotSpec {
             title: title.into(),
             x_label: SW_LABEL.into(),
-            y_label: "Relative permeability kr (fraction)".into(),
+            y_label: "Relative permeability k_{r} (fraction)".into(),
             y_scale,
             x_range: Some((0.0, 1.0)),
             y_range,
@@ -335,8 +415,8 @@ fn fw_figure(results: &RunResults, w: &Waterflood) -> Figure {
     let s_end = (w.initial_sw + (1.0 - f0) / slope).min(1.0);
     let black = PALETTE[PALETTE.len() - 1];
     let series = vec![
-        Series::line(format!("fw, {name} (interpolated)"), curve_x, curve_y).with_colour(c),
-        Series::line("fw at the simulated points", xs, ys)
+        Series::line(format!("f_{{w}}, {name} (interpolated)"), curve_x, curve_y).with_colour(c),
+        Series::line("f_{w} at the simulated points", xs, ys)
             .with_style(SeriesStyle::Markers)
             .with_colour(c),
         Series::line(
@@ -347,7 +427,7 @@ fn fw_figure(results: &RunResults, w: &Waterflood) -> Figure {
         .with_style(SeriesStyle::Dashed)
         .with_colour(black),
         Series::line(
-            format!("shock front Sw = {:.3}", w.shock_front_sw),
+            format!("shock front S_{{w}} = {:.3}", w.shock_front_sw),
             vec![w.shock_front_sw],
             vec![w.shock_front_fw],
         )
@@ -370,7 +450,7 @@ fn fw_figure(results: &RunResults, w: &Waterflood) -> Figure {
         spec: PlotSpec {
             title,
             x_label: SW_LABEL.into(),
-            y_label: "Fractional flow of water fw (fraction)".into(),
+            y_label: "Fractional flow of water f_{w} (fraction)".into(),
             x_range: Some((0.0, 1.0)),
             y_range: Some((0.0, 1.0)),
             series,
@@ -416,7 +496,7 @@ fn ri_figure(results: &RunResults) -> Figure {
             .collect();
         series.push(
             Series::line(
-                format!("Archie fit RI = Sw^(−n), n = {:.3}", fit.exponent),
+                format!("Archie fit RI = S_{{w}}^(−n), n = {:.3}", fit.exponent),
                 sw,
                 ri,
             )
@@ -436,7 +516,7 @@ fn ri_figure(results: &RunResults) -> Figure {
         spec: PlotSpec {
             title,
             x_label: SW_LABEL.into(),
-            y_label: "Resistivity index RI = Rt/Ro (–)".into(),
+            y_label: "Resistivity index RI = R_{t}/R_{o} (–)".into(),
             x_scale: Scale::Log,
             y_scale: Scale::Log,
             series,
@@ -475,5 +555,53 @@ fn ganglion_figure(histogram: &[usize], label: &str) -> Figure {
             ],
             ..PlotSpec::default()
         },
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A drainage curve built by hand: Pc = 0 at Sw = 1, a plateau rising
+    /// from 5 to 8 kPa between Sw = 0.95 and 0.3, then a steep end to
+    /// 100 kPa at Sw = 0.2.
+    fn drainage() -> Series {
+        let mut sw = vec![1.0, 0.98];
+        let mut pc = vec![0.0, 4.0];
+        for k in 0..=65 {
+            let s = 0.95 - 0.01 * k as f64;
+            sw.push(s);
+            pc.push(5.0 + 3.0 * (0.95 - s) / 0.65);
+        }
+        for (s, p) in [(0.25, 20.0), (0.22, 50.0), (0.2, 100.0)] {
+            sw.push(s);
+            pc.push(p);
+        }
+        Series::line("d", sw, pc)
+    }
+
+    #[test]
+    fn plateau_range_spans_the_plateau_and_leaves_the_steep_end_out() {
+        // Worked by hand: the span is 0.2–1.0, 3 % of it (0.024) is cut
+        // at each end, so Sw = 1.0, 0.98 and 0.22, 0.2 drop out; kept are
+        // the 66 plateau values (5 … 8 kPa) and 20 kPa at Sw = 0.25. The
+        // 98th percentile of 67 sorted values is index round(66 · 0.98) =
+        // 65, the plateau top 8 kPa; the 2nd is 5 kPa, widened to 0. With
+        // 15 % padding above: (0, 9.2) kPa, under a third of the 100 kPa
+        // axis, so a zoom is made.
+        let s = drainage();
+        let (lo, hi) = plateau_range(std::slice::from_ref(&s), (0.0, 100.0)).expect("range");
+        assert_eq!(lo, 0.0);
+        assert!((hi - 9.2).abs() < 1e-12, "{hi}");
+    }
+
+    #[test]
+    fn no_zoom_when_the_plateau_fills_the_axis() {
+        // Pc 0 … 10 kPa along the whole span: the plateau is the full range.
+        let sw: Vec<f64> = (0..=20).map(|k| 1.0 - 0.04 * k as f64).collect();
+        let pc: Vec<f64> = (0..=20).map(|k| 0.5 * k as f64).collect();
+        let s = Series::line("flat", sw, pc);
+        assert_eq!(plateau_range(&[s], (0.0, 10.0)), None);
+        assert_eq!(plateau_range(&[], (0.0, 10.0)), None);
     }
 }

@@ -24,6 +24,9 @@
 //!   simulators, Pc in bar, kPa or psi,
 //!   with parsers for both; [`saturation_tables::from_run`] makes the tables
 //!   of a run, with comment headers naming units, source and end points.
+//! - [`key_results`]: the handful of numbers read first (k, φ, F, Swi,
+//!   Sni, Snr, krw(Snr), krn(Swi), Land C, wettability indices), for the
+//!   report's top box and the terminal, rounded without float noise.
 //! - [`html`]: the page builder, and the self-contained HTML report of a
 //!   run made with it.
 //! - [`artifacts`]: all of the above for one run, written into a folder,
@@ -59,6 +62,7 @@ pub mod artifacts;
 pub mod error;
 pub mod figures;
 pub mod html;
+pub mod key_results;
 pub mod plot;
 pub mod run_files;
 pub mod saturation_tables;

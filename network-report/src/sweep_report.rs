@@ -52,8 +52,8 @@ fn land_sentence(g: &network_core::sweep::GroupSummary) -> String {
         g.land_sni_range,
     ) {
         (Some(c), Some(se), Some(rmse), Some([lo, hi])) => format!(
-            "Land (1968) coefficient by least squares in S_nr over {} cases with S_ni {}–{}: \
-             C = {} (± one standard error), rmse {} in S_nr.",
+            "Land (1968) coefficient by least squares in S_{{nr}} over {} cases with S_{{ni}} {}–{}: \
+             C = {} (± one standard error), rmse {} in S_{{nr}}.",
             g.land_points,
             html::number(lo, 3),
             html::number(hi, 3),
@@ -168,6 +168,21 @@ fn deepest_cases(results: &[CaseResult], group: usize) -> Vec<&CaseResult> {
         .collect()
 }
 
+/// Which cases a band shows: their mean initial saturation and how many
+/// realisations, e.g. `S_{ni} = 0.846, 5 realisations`.
+fn which_cases(cases: &[&CaseResult]) -> String {
+    let sni: Vec<f64> = cases.iter().filter_map(|r| r.sni).collect();
+    let mean = if sni.is_empty() {
+        "n/a".to_string()
+    } else {
+        html::number(sni.iter().sum::<f64>() / sni.len() as f64, 3)
+    };
+    match cases.len() {
+        1 => format!("S_{{ni}} = {mean}, 1 realisation"),
+        n => format!("S_{{ni}} = {mean} (mean), {n} realisations"),
+    }
+}
+
 fn group_label(summary: &SweepSummary, g: usize) -> String {
     let grp = &summary.groups[g];
     if grp.parameters.is_empty() {
@@ -205,7 +220,7 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
         if series.is_empty() {
             series.push(
                 Series::line(
-                    "S_nr = S_ni (everything trapped)",
+                    "S_{nr} = S_{ni} (everything trapped)",
                     vec![0.0, 1.0],
                     vec![0.0, 1.0],
                 )
@@ -220,7 +235,7 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
         let hi: Vec<f64> = pts.iter().map(|p| p.1.p95).collect();
         series.push(
             Series::line(
-                format!("S_nr (mean, 5–95 %), {}", group_label(summary, gi)),
+                format!("S_{{nr}} (mean, 5–95 %), {}", group_label(summary, gi)),
                 x,
                 y,
             )
@@ -251,14 +266,14 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
             caption: format!(
                 "Residual (trapped) {label} saturation after imbibition against the initial saturation \
                  reached by drainage: mean over realisations with the 5–95 % band; the Land (1968) \
-                 curve S_nr = S_ni/(1 + C S_ni) fitted by least squares in S_nr to every case of each \
-                 group, drawn up to the highest fitted S_ni with the band of C ± one standard error; \
-                 the dashed grey line S_nr = S_ni is the limit where everything stays trapped."
+                 curve S_{{nr}} = S_{{ni}}/(1 + C S_{{ni}}) fitted by least squares in S_{{nr}} to every case of each \
+                 group, drawn up to the highest fitted S_{{ni}} with the band of C ± one standard error; \
+                 the dashed grey line S_{{nr}} = S_{{ni}} is the limit where everything stays trapped."
             ),
             spec: PlotSpec {
                 title: "Initial–residual trapping curve".into(),
-                x_label: format!("Initial {label} saturation S_ni (fraction of pore volume)"),
-                y_label: format!("Residual {label} saturation S_nr (fraction of pore volume)"),
+                x_label: format!("Initial {label} saturation S_{{ni}} (fraction of pore volume)"),
+                y_label: format!("Residual {label} saturation S_{{nr}} (fraction of pore volume)"),
                 x_scale: Scale::Linear,
                 y_scale: Scale::Linear,
                 x_range: Some((0.0, 1.0)),
@@ -291,7 +306,7 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
                     p95: hi,
                 }) = band(&curves)
                 {
-                    let mut lbl = process_name(c0.kind, pi);
+                    let mut lbl = format!("{}, {}", process_name(c0.kind, pi), which_cases(&cases));
                     if summary.groups.len() > 1 {
                         lbl = format!("{lbl}, {}", group_label(summary, gi));
                     }
@@ -307,8 +322,10 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
             name,
             title: title.into(),
             caption: format!(
-                "{title} of the cases with the highest initial saturation: mean over the realisations \
-                 and the 5–95 % band on a common saturation grid."
+                "{title} of the cases with the highest initial saturation only (the legend gives \
+                 their S_{{ni}} and number of realisations): mean over the realisations and the \
+                 5–95 % band on a common saturation grid; other initial saturations are in the \
+                 trapping tables."
             ),
             spec: PlotSpec {
                 title: title.into(),
@@ -326,17 +343,19 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
     if let Some(f) = curve_figure(
         "pc-sw-band",
         "Capillary pressure",
-        "Capillary pressure Pc = Pn − Pw (kPa)",
+        "Capillary pressure P_{c} = P_{n} − P_{w} (kPa)",
         Scale::Linear,
         &|c| c.pc_pa.clone(),
         1e-3,
     ) {
+        let zoom = crate::figures::plateau_zoom(&f, "pc-sw-band-zoom");
         out.push(f);
+        out.extend(zoom);
     }
     if let Some(f) = curve_figure(
         "kr-sw-band",
         "Water relative permeability",
-        "k_rw (fraction)",
+        "k_{rw} (fraction)",
         Scale::Linear,
         &|c| opt(&c.krw),
         1.0,
@@ -346,7 +365,7 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
     if let Some(f) = curve_figure(
         "krn-sw-band",
         &format!("Relative permeability of {label}"),
-        &format!("k_r,{label} (fraction)"),
+        &format!("k_{{r,{label}}} (fraction)"),
         Scale::Linear,
         &|c| opt(&c.krn),
         1.0,
@@ -356,7 +375,7 @@ pub fn sweep_figures(summary: &SweepSummary, results: &[CaseResult]) -> Vec<Figu
     if let Some(f) = curve_figure(
         "ri-sw-band",
         "Resistivity index",
-        "RI = Rt/Ro",
+        "RI = R_{t}/R_{o}",
         Scale::Log,
         &|c| opt(&c.ri),
         1.0,
@@ -507,24 +526,24 @@ pub fn sweep_report(
             "parameters",
             "cases",
             "Land C ± se",
-            "Land fit rmse (S_nr)",
-            "points fitted (S_ni range)",
+            "Land fit rmse (S_{nr})",
+            "points fitted (S_{ni} range)",
             "Land fit warning",
         ],
         &rows,
     );
     groups.push(html::note(&format!(
-        "Land (1968, SPE J 8:149): S_nr = S_ni/(1 + C S_ni), C fitted by least squares in S_nr over \
-         every case of the group{}; the standard error is the linearised one, s/√Σ(∂S_nr/∂C)². A \
+        "Land (1968, SPE J 8:149): S_{{nr}} = S_{{ni}}/(1 + C S_{{ni}}), C fitted by least squares in S_{{nr}} over \
+         every case of the group{}; the standard error is the linearised one, s/√Σ(∂S_{{nr}}/∂C)². A \
          warning says when the points do not follow Land's form over the fitted range (the fit \
-         misses them by more than their scatter between realisations, S_nr falls at the highest \
-         S_ni, or the residuals trend); C is then a summary, not a property of the rock. \
-         Residual saturation, k_rw at S_nr and the Amott index are given per initial saturation \
-         below, never pooled over different S_ni.",
+         misses them by more than their scatter between realisations, S_{{nr}} falls at the highest \
+         S_{{ni}}, or the residuals trend); C is then a summary, not a property of the rock. \
+         Residual saturation, k_{{rw}} at S_{{nr}} and the Amott index are given per initial saturation \
+         below, never pooled over different S_{{ni}}.",
         summary
             .land_fit_sni_range
             .map_or(String::new(), |[lo, hi]| format!(
-                " with {} ≤ S_ni ≤ {} (land_fit_sni_range)",
+                " with {} ≤ S_{{ni}} ≤ {} (land_fit_sni_range)",
                 html::input_number(lo),
                 html::input_number(hi)
             ))
@@ -558,12 +577,12 @@ pub fn sweep_report(
             .collect();
         tables.push(html::table(
             &[
-                "target initial Sw",
-                "S_ni",
-                "S_nr",
-                "Land fit S_nr",
+                "target initial S_{w}",
+                "S_{ni}",
+                "S_{nr}",
+                "Land fit S_{nr}",
                 "in the fit",
-                "k_rw at S_nr",
+                "k_{rw} at S_{nr}",
                 "Amott water index",
             ],
             &rows,
@@ -571,7 +590,7 @@ pub fn sweep_report(
     }
     page.section("Trapping tables", tables);
     page.footer(&format!(
-        "Made by ganglion {} from {} finished cases. Land (1968): S_nr = S_ni/(1 + C S_ni), \
+        "Made by ganglion {} from {} finished cases. Land (1968): S_{{nr}} = S_{{ni}}/(1 + C S_{{ni}}), \
          saturations as fractions of the pore volume.",
         env!("CARGO_PKG_VERSION"),
         summary.cases_done
@@ -664,9 +683,9 @@ mod tests {
         let figs = sweep_figures(&summary, &[]);
         let f = figs.iter().find(|f| f.name == "trapping-curve").unwrap();
         let labels: Vec<&str> = f.spec.series.iter().map(|s| s.label.as_str()).collect();
-        assert_eq!(labels[0], "S_nr = S_ni (everything trapped)");
+        assert_eq!(labels[0], "S_{nr} = S_{ni} (everything trapped)");
         assert_eq!(f.spec.series[0].y, f.spec.series[0].x);
-        assert!(labels[1].starts_with("S_nr (mean"), "{labels:?}");
+        assert!(labels[1].starts_with("S_{nr} (mean"), "{labels:?}");
         let land = &f.spec.series[2];
         assert_eq!(land.label, "Land C = 1.213 ± 0.043");
         // The curve is Land's form with the fitted C (Land 1968), drawn to
@@ -680,7 +699,10 @@ mod tests {
         assert!((land.x.last().unwrap() - 0.7).abs() < 1e-12);
         let page = sweep_report("t", &summary, &[], &figs);
         assert!(page.contains("C = 1.213 ± 0.043"), "fit sentence missing");
-        assert!(page.contains("rmse 0.0040 in S_nr"), "rmse missing");
+        assert!(
+            page.contains("rmse 0.0040 in S<sub>nr</sub>"),
+            "rmse missing"
+        );
         assert!(page.contains("Warning: example warning."));
     }
 

@@ -111,6 +111,7 @@ fn figures_hold_every_process_series_with_the_run_data() {
         names,
         [
             "pc-sw",
+            "pc-sw-zoom",
             "kr-sw",
             "kr-sw-log",
             "fw-sw",
@@ -134,16 +135,31 @@ fn figures_hold_every_process_series_with_the_run_data() {
         }
     }
 
+    // (a') The same series on a zoomed Pc axis that keeps Pc = 0 and
+    // stops well short of the full range (the imposed ±100 kPa ends).
+    let zoom = &figs[1].spec;
+    assert_eq!(zoom.series, pc.series);
+    let (lo, hi) = zoom.y_range.expect("zoomed range");
+    let top = pc
+        .series
+        .iter()
+        .flat_map(|s| s.y.iter().copied())
+        .fold(f64::NEG_INFINITY, f64::max);
+    assert!(
+        lo <= 0.0 && hi > 0.0 && hi < top / 3.0,
+        "{lo} … {hi} of {top}"
+    );
+
     // (b), (c) krw and k_r,CO2 per process at the solved points only.
-    for f in &figs[1..3] {
+    for f in &figs[2..4] {
         for (i, name) in procs.iter().enumerate() {
             let pts: Vec<_> = r.outcomes[i]
                 .points
                 .iter()
                 .filter_map(|p| p.flow.map(|fl| (p.saturation.sw, fl)))
                 .collect();
-            let w = series(&f.spec.series, &format!("k_rw, {name}"));
-            let n = series(&f.spec.series, &format!("k_r,CO2, {name}"));
+            let w = series(&f.spec.series, &format!("k_{{rw}}, {name}"));
+            let n = series(&f.spec.series, &format!("k_{{r,CO2}}, {name}"));
             assert_eq!(w.x, pts.iter().map(|p| p.0).collect::<Vec<_>>());
             assert_eq!(w.y, pts.iter().map(|p| p.1.krw).collect::<Vec<_>>());
             assert_eq!(n.y, pts.iter().map(|p| p.1.krn).collect::<Vec<_>>());
@@ -151,14 +167,14 @@ fn figures_hold_every_process_series_with_the_run_data() {
             assert_eq!(w.colour, n.colour);
         }
     }
-    assert_eq!(figs[1].spec.y_scale, network_report::plot::Scale::Linear);
-    assert_eq!(figs[2].spec.y_scale, network_report::plot::Scale::Log);
+    assert_eq!(figs[2].spec.y_scale, network_report::plot::Scale::Linear);
+    assert_eq!(figs[3].spec.y_scale, network_report::plot::Scale::Log);
 
     // (d) RI per process and the Archie line RI = Sw^(−n).
     // (c) Fractional flow: the markers are fw = (krw/μw)/(krw/μw + krn/μn)
     // at the imbibition's kr points (definition, Buckley & Leverett 1942),
     // and the Welge tangent passes through the shock-front marker.
-    let fw = &figs[3].spec;
+    let fw = &figs[4].spec;
     let (mu_w, mu_n) = (
         r.study.fluids.water_viscosity_pa_s,
         r.study.fluids.nonaqueous_viscosity_pa_s,
@@ -188,7 +204,7 @@ fn figures_hold_every_process_series_with_the_run_data() {
         front
     );
 
-    let ri = &figs[4].spec;
+    let ri = &figs[5].spec;
     for name in procs {
         series(&ri.series, name);
     }
@@ -210,7 +226,7 @@ fn figures_hold_every_process_series_with_the_run_data() {
     }
 
     // (e) Ganglion sizes: the bins add up to the number of ganglia.
-    let g = &figs[5].spec;
+    let g = &figs[6].spec;
     assert_eq!(g.series.len(), 1);
     let total: f64 = g.series[0].y.iter().sum();
     assert_eq!(total as usize, r.ganglia.len());
@@ -221,7 +237,10 @@ fn figures_hold_every_process_series_with_the_run_data() {
     for f in &figs {
         let svg = render_svg(&f.spec).expect("renders");
         for s in f.spec.series.iter().filter(|s| !s.label.is_empty()) {
-            assert!(svg.contains(&escape(&s.label)), "{}: {}", f.name, s.label);
+            // Subscript markup is drawn as separate text runs.
+            for piece in s.label.split(['_', '{', '}']).filter(|p| !p.is_empty()) {
+                assert!(svg.contains(&escape(piece)), "{}: {}", f.name, s.label);
+            }
         }
     }
 }
@@ -302,6 +321,39 @@ fn html_report_is_one_well_formed_file_with_every_figure_and_the_caution() {
             "section {h} in {headings:?}"
         );
     }
+    // The key-results box comes first: after the caution, before the
+    // contents, holding Swi and Snr as the end points give them.
+    let key = doc
+        .descendants()
+        .find(|n| n.attribute("class") == Some("key-results"))
+        .expect("key-results box");
+    let nav = doc
+        .descendants()
+        .find(|n| n.has_tag_name("nav"))
+        .expect("nav");
+    assert!(key.range().start < nav.range().start);
+    let key_rows: BTreeMap<String, String> = key
+        .descendants()
+        .filter(|n| n.has_tag_name("tr"))
+        .filter_map(|tr| {
+            let th = tr.children().find(|c| c.has_tag_name("th"))?;
+            let td = tr.children().find(|c| c.has_tag_name("td"))?;
+            Some((element_text(th), element_text(td)))
+        })
+        .collect();
+    let fixed = network_report::key_results::fixed;
+    assert_eq!(
+        key_rows["Swi (end of primary drainage)"],
+        fixed(r.end_points.swi, 4)
+    );
+    assert_eq!(
+        key_rows["Snr (trapped, end of imbibition)"],
+        fixed(r.end_points.snr, 4)
+    );
+    // Subscripts are markup, never raw underscores or braces.
+    assert!(html.contains("S<sub>wi</sub>"));
+    assert!(!html.contains("_{"), "raw subscript markup in the report");
+
     // Rows of the two-column tables: name → value.
     let kv: BTreeMap<String, String> = doc
         .descendants()
@@ -341,7 +393,11 @@ fn html_report_is_one_well_formed_file_with_every_figure_and_the_caution() {
     assert_eq!(captions.len(), figs.len());
     for (k, (c, f)) in captions.iter().zip(&figs).enumerate() {
         assert!(c.starts_with(&format!("Figure {}. ", k + 1)), "{c}");
-        assert!(c.contains(&f.caption) && c.contains(&format!("{}.svg", f.name)));
+        assert!(
+            c.contains(&network_report::plot::plain(&f.caption))
+                && c.contains(&format!("{}.svg", f.name)),
+            "{c}"
+        );
     }
 }
 
@@ -827,6 +883,7 @@ fn artifacts_are_all_written_and_listed() {
     names.sort();
     let mut expect: Vec<String> = [
         "pc-sw",
+        "pc-sw-zoom",
         "kr-sw",
         "kr-sw-log",
         "fw-sw",

@@ -5,6 +5,7 @@ use std::path::PathBuf;
 use anyhow::{Context, Result};
 use network_core::io;
 use network_core::run::run_study;
+use network_report::key_results::fixed;
 
 use crate::progress::Bars;
 
@@ -85,88 +86,10 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     for w in &results.warnings {
         progress.warn(w);
     }
-    print!("{}", key_results(&results));
+    print!(
+        "{}",
+        network_report::key_results::key_results_text(&results)
+    );
     progress.note(&format!("results in {}", args.output.display()));
     Ok(())
-}
-
-/// `x` with `decimals` decimals, "n/a" when missing or not finite; a value
-/// that rounds to zero prints as 0 (never `-0.0000`).
-pub fn fixed(x: Option<f64>, decimals: usize) -> String {
-    match x.filter(|v| v.is_finite()) {
-        None => "n/a".to_string(),
-        Some(v) => {
-            let s = format!("{v:.decimals$}");
-            if s.trim_start_matches('-')
-                .chars()
-                .all(|c| c == '0' || c == '.')
-            {
-                format!("{:.decimals$}", 0.0)
-            } else {
-                s
-            }
-        }
-    }
-}
-
-/// The key results of a run, one per line, for standard output.
-fn key_results(r: &network_core::run::RunResults) -> String {
-    let sp = r.single_phase.as_ref();
-    let e = &r.end_points;
-    let label = &r.study.fluids.nonaqueous_label;
-    let n = if label.eq_ignore_ascii_case("oil") {
-        "o"
-    } else {
-        "n"
-    };
-    let mut rows: Vec<(String, String)> = vec![
-        (
-            "permeability k".into(),
-            match sp {
-                Some(p) => format!(
-                    "{} mD ({:.4e} m²)",
-                    fixed(Some(p.permeability_md), 1),
-                    p.permeability_m2
-                ),
-                None => "n/a".into(),
-            },
-        ),
-        (
-            "porosity φ".into(),
-            fixed(sp.map(|p| p.porosity).or(Some(r.network.porosity)), 4),
-        ),
-        (
-            "formation factor F".into(),
-            fixed(sp.map(|p| p.formation_factor), 2),
-        ),
-        ("Swi (end of primary drainage)".into(), fixed(e.swi, 4)),
-        (format!("Sni ({label})"), fixed(r.sni, 4)),
-        ("Snr (trapped, end of imbibition)".into(), fixed(e.snr, 4)),
-        ("krw(Snr)".into(), fixed(e.krw_at_snr, 4)),
-        (format!("kr{n}(Swi)"), fixed(e.krn_at_swi, 4)),
-        (
-            "Land C (single point: 1/Snr − 1/Sni)".into(),
-            fixed(e.land_coefficient, 3),
-        ),
-    ];
-    if let Some(w) = &r.wettability_indices {
-        rows.push(("Amott–Harvey index".into(), fixed(Some(w.amott_harvey), 3)));
-        let usbm = if w.usbm.is_finite() {
-            fixed(Some(w.usbm), 3)
-        } else {
-            "n/a (an area under the imbibition or secondary-drainage curve vanishes)".into()
-        };
-        rows.push(("USBM index".into(), usbm));
-    }
-    let width = rows
-        .iter()
-        .map(|(k, _)| k.chars().count())
-        .max()
-        .unwrap_or(0);
-    let mut out = String::from("key results (model estimates; all results in the output folder)\n");
-    for (k, v) in rows {
-        let pad = width - k.chars().count();
-        out.push_str(&format!("  {k}{}  {v}\n", " ".repeat(pad)));
-    }
-    out
 }

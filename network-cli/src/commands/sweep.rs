@@ -5,6 +5,7 @@ use std::path::{Path, PathBuf};
 
 use anyhow::{Context, Result};
 use network_core::sweep::{self, Collected, SweepError, SweepRun, SweepStudy, describe};
+use network_report::key_results::fixed;
 
 use crate::progress::Bars;
 
@@ -127,10 +128,10 @@ fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
         let land = match (g.land_coefficient, g.land_coefficient_se, g.land_rmse_snr) {
             (Some(c), Some(se), Some(rmse)) => format!(
                 "Land C {} ± {} over {} points (rmse {} in Snr)",
-                super::run::fixed(Some(c), 3),
-                super::run::fixed(Some(se), 3),
+                fixed(Some(c), 3),
+                fixed(Some(se), 3),
                 g.land_points,
-                super::run::fixed(Some(rmse), 3)
+                fixed(Some(rmse), 3)
             ),
             _ => format!("Land C n/a ({} points)", g.land_points),
         };

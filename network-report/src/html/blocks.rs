@@ -1,25 +1,26 @@
 //! The usual blocks of a page: tables, name–value lists, paragraphs,
-//! notes, subheadings, lists and inline SVG figures, each escaping its text.
+//! notes, subheadings, lists and inline SVG figures, each escaping its text
+//! and drawing the markup `_{…}` as a subscript.
 
 use std::fmt::Write as _;
 
-use super::page::{Html, escape};
+use super::page::{Html, escape, rich_text};
 
 /// A table with a header row; every cell is text (escaped). Cells that
 /// read as numbers (or "n/a") are right-aligned.
 pub fn table(headers: &[&str], rows: &[Vec<String>]) -> Html {
     let mut s = String::from("<div class=\"table-wrap\"><table>\n<thead><tr>");
     for h in headers {
-        let _ = write!(s, "<th>{}</th>", escape(h));
+        let _ = write!(s, "<th>{}</th>", rich_text(h));
     }
     s.push_str("</tr></thead>\n<tbody>\n");
     for row in rows {
         s.push_str("<tr>");
         for cell in row {
             if looks_numeric(cell) {
-                let _ = write!(s, "<td class=\"num\">{}</td>", escape(cell));
+                let _ = write!(s, "<td class=\"num\">{}</td>", rich_text(cell));
             } else {
-                let _ = write!(s, "<td>{}</td>", escape(cell));
+                let _ = write!(s, "<td>{}</td>", rich_text(cell));
             }
         }
         s.push_str("</tr>\n");
@@ -36,8 +37,8 @@ pub fn key_values(rows: &[(&str, String)]) -> Html {
         let _ = writeln!(
             s,
             "<tr><th scope=\"row\">{}</th><td>{}</td></tr>",
-            escape(k),
-            escape(v)
+            rich_text(k),
+            rich_text(v)
         );
     }
     s.push_str("</tbody>\n</table></div>");
@@ -46,24 +47,24 @@ pub fn key_values(rows: &[(&str, String)]) -> Html {
 
 /// A paragraph of text.
 pub fn paragraph(text: &str) -> Html {
-    Html(format!("<p>{}</p>", escape(text)))
+    Html(format!("<p>{}</p>", rich_text(text)))
 }
 
 /// A paragraph in small grey type.
 pub fn note(text: &str) -> Html {
-    Html(format!("<p class=\"note\">{}</p>", escape(text)))
+    Html(format!("<p class=\"note\">{}</p>", rich_text(text)))
 }
 
 /// A heading inside a section.
 pub fn subheading(text: &str) -> Html {
-    Html(format!("<h3>{}</h3>", escape(text)))
+    Html(format!("<h3>{}</h3>", rich_text(text)))
 }
 
 /// A bulleted list of text items.
 pub fn list(items: &[String]) -> Html {
     let mut s = String::from("<ul>\n");
     for i in items {
-        let _ = writeln!(s, "<li>{}</li>", escape(i));
+        let _ = writeln!(s, "<li>{}</li>", rich_text(i));
     }
     s.push_str("</ul>");
     Html(s)
@@ -88,13 +89,13 @@ pub fn figure(svg: &str, caption: &str) -> Html {
     let body = match body.strip_prefix("<svg ") {
         Some(rest) => format!(
             "<svg role=\"img\" aria-label=\"{}\" {rest}",
-            escape(caption)
+            escape(&crate::plot::plain(caption))
         ),
         None => body,
     };
     Html(format!(
         "<figure>\n{body}\n<figcaption>{}</figcaption>\n</figure>",
-        escape(caption)
+        rich_text(caption)
     ))
 }
 

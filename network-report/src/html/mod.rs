@@ -37,7 +37,7 @@
 pub use self::blocks::{figure, key_values, list, note, paragraph, subheading, table};
 pub use self::caution::{CAUTION_TEXT, caution};
 pub use self::numbers::{input_number, number};
-pub use self::page::{Html, Page, escape};
+pub use self::page::{Html, Page, escape, rich_text};
 pub use self::run_report::run_report;
 
 mod blocks;

@@ -17,9 +17,9 @@ impl Html {
         Html(String::new())
     }
 
-    /// Text, escaped.
+    /// Text, escaped, with `_{…}` drawn as a subscript ([`rich_text`]).
     pub fn text(text: &str) -> Html {
-        Html(escape(text))
+        Html(rich_text(text))
     }
 
     /// `<tag class="class">inner</tag>`; `tag` and `class` are fixed names
@@ -40,9 +40,9 @@ impl Html {
         self.0.push_str(&other.0);
     }
 
-    /// Appends escaped text.
+    /// Appends escaped text, with `_{…}` drawn as a subscript.
     pub fn push_text(&mut self, text: &str) {
-        self.0.push_str(&escape(text));
+        self.0.push_str(&rich_text(text));
     }
 
     /// The markup.
@@ -83,6 +83,25 @@ pub fn escape(text: &str) -> String {
             c => s.push(c),
         }
     }
+    s
+}
+
+/// Escapes `text` like [`escape`] and draws the chart markup `_{…}` (see
+/// [`crate::plot`]) as `<sub>…</sub>`: `S_{nr}` reads S<sub>nr</sub>.
+pub fn rich_text(text: &str) -> String {
+    let mut s = String::with_capacity(text.len() + 16);
+    let mut rest = text;
+    while let Some(at) = rest.find("_{") {
+        let Some(close) = rest[at + 2..].find('}') else {
+            break;
+        };
+        s.push_str(&escape(&rest[..at]));
+        s.push_str("<sub>");
+        s.push_str(&escape(&rest[at + 2..at + 2 + close]));
+        s.push_str("</sub>");
+        rest = &rest[at + 3 + close..];
+    }
+    s.push_str(&escape(rest));
     s
 }
 
@@ -148,11 +167,15 @@ impl Page {
         );
         s.push_str("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
         s.push_str("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
-        let _ = writeln!(s, "<title>{}</title>", escape(&self.title));
+        let _ = writeln!(
+            s,
+            "<title>{}</title>",
+            escape(&crate::plot::plain(&self.title))
+        );
         let _ = writeln!(s, "<style>{CSS}</style>\n</head>\n<body>\n<main>");
-        let _ = writeln!(s, "<header>\n<h1>{}</h1>", escape(&self.title));
+        let _ = writeln!(s, "<header>\n<h1>{}</h1>", rich_text(&self.title));
         if let Some(sub) = &self.subtitle {
-            let _ = writeln!(s, "<p class=\"subtitle\">{}</p>", escape(sub));
+            let _ = writeln!(s, "<p class=\"subtitle\">{}</p>", rich_text(sub));
         }
         s.push_str("</header>\n");
         s.push_str(self.lead.as_str());
@@ -163,7 +186,7 @@ impl Page {
                     s,
                     "<li><a href=\"#section-{}\">{}</a></li>",
                     i + 1,
-                    escape(t)
+                    rich_text(t)
                 );
             }
             s.push_str("</ol>\n</nav>\n");
@@ -173,12 +196,12 @@ impl Page {
                 s,
                 "<section id=\"section-{}\">\n<h2>{}</h2>\n{}\n</section>",
                 i + 1,
-                escape(t),
+                rich_text(t),
                 h.as_str()
             );
         }
         if let Some(f) = &self.footer {
-            let _ = writeln!(s, "<footer>{}</footer>", escape(f));
+            let _ = writeln!(s, "<footer>{}</footer>", rich_text(f));
         }
         s.push_str("</main>\n</body>\n</html>\n");
         s
@@ -220,6 +243,11 @@ figcaption { font-size: 13px; color: #3d454d; margin-top: 4px; }
   border-left: 6px solid #a85b00; border-radius: 2px; }
 .caution-title { margin: 0 0 4px; font-weight: 700; color: #6b3900; }
 .caution ul { margin: 0; padding-left: 20px; }
+.key-results { margin: 10px 0 14px; padding: 8px 16px 6px 14px; background: #f1f6fb;
+  border-left: 6px solid #1f4f82; border-radius: 2px; }
+.key-results h2 { font-size: 16px; border: none; margin: 0 0 2px; padding: 0; }
+.key-results table.kv { background: transparent; }
+.key-results tbody tr:nth-child(even) td, .key-results tbody tr:nth-child(even) th { background: transparent; }
 .warnings li { color: #7a2e0e; }
 footer { margin-top: 40px; padding-top: 8px; border-top: 1px solid #d6dbe0;
   font-size: 12px; color: #59636e; }

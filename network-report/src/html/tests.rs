@@ -11,6 +11,16 @@ fn escape_covers_markup_quotes_and_control_characters() {
 }
 
 #[test]
+fn rich_text_draws_subscripts_and_escapes_everything_else() {
+    assert_eq!(
+        rich_text("S_{nr} < 1 & k_{r,<o>}"),
+        "S<sub>nr</sub> &lt; 1 &amp; k<sub>r,&lt;o&gt;</sub>"
+    );
+    // An unclosed or lone underscore is text.
+    assert_eq!(rich_text("a_b c_{d"), "a_b c_{d");
+}
+
+#[test]
 fn page_lists_sections_with_matching_anchors_and_escapes_titles() {
     let mut p = Page::new("Run <1>");
     p.subtitle("a & b")

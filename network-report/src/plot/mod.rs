@@ -15,6 +15,11 @@
 //! Okabe & Ito (2008, "Color Universal Design (CUD)", web publication),
 //! yellow left out for contrast on white, in our own order.
 //!
+//! ## Subscripts
+//! Every text of a chart may hold the markup `_{…}` (`S_{nr}`,
+//! `k_{r,oil}`): it is drawn as a subscript (see `rich`); [`plain`] strips
+//! it for places that cannot draw it.
+//!
 //! ## Data handling
 //! - Non-finite points are skipped; on a log axis so are points whose value
 //!   on that axis is `≤ 0`. Lines break at skipped points rather than
@@ -39,12 +44,15 @@ pub use crate::error::PlotError;
 
 use self::draw::{check_size, draw, render_err};
 use self::prepare::prepare;
+use self::rich::Rich;
+pub use self::rich::plain;
 
 mod axis;
 mod clip;
 mod draw;
 mod legend;
 mod prepare;
+mod rich;
 mod style;
 mod ticks;
 
@@ -172,7 +180,7 @@ pub fn render_svg_sized(spec: &PlotSpec, width: u32, height: u32) -> Result<Stri
     let prepared = prepare(spec)?;
     let mut out = String::new();
     {
-        let root = SVGBackend::with_string(&mut out, (width, height)).into_drawing_area();
+        let root = Rich(SVGBackend::with_string(&mut out, (width, height))).into_drawing_area();
         draw(&root, spec, &prepared)?;
         root.present().map_err(render_err)?;
     }
@@ -185,7 +193,8 @@ pub fn render_png(spec: &PlotSpec, width: u32, height: u32) -> Result<Vec<u8>, P
     let prepared = prepare(spec)?;
     let mut pixels = vec![0u8; width as usize * height as usize * 3];
     {
-        let root = BitMapBackend::with_buffer(&mut pixels, (width, height)).into_drawing_area();
+        let root =
+            Rich(BitMapBackend::with_buffer(&mut pixels, (width, height))).into_drawing_area();
         draw(&root, spec, &prepared)?;
         root.present().map_err(render_err)?;
     }

@@ -281,3 +281,55 @@ fn series_colour_overrides_the_palette() {
     let svg = render_svg(&spec).unwrap().to_ascii_uppercase();
     assert!(svg.contains("#123456"));
 }
+
+/// `(text, font-size, x, y)` of every `<text>` element of an SVG.
+fn svg_texts(svg: &str) -> Vec<(String, f64, f64, f64)> {
+    let doc = roxmltree::Document::parse(svg).expect("well-formed SVG");
+    doc.descendants()
+        .filter(|n| n.has_tag_name("text"))
+        .map(|n| {
+            let num = |a: &str| {
+                n.attribute(a)
+                    .and_then(|v| v.parse().ok())
+                    .unwrap_or(f64::NAN)
+            };
+            (
+                n.text().unwrap_or("").trim_matches('\n').to_string(),
+                num("font-size"),
+                num("x"),
+                num("y"),
+            )
+        })
+        .collect()
+}
+
+#[test]
+fn subscript_markup_is_drawn_smaller_lower_and_after_its_base() {
+    let mut spec = kr_spec();
+    spec.x_label = "Water saturation S_{w} (fraction)".into();
+    spec.series[0].label = "k_{rw}, drainage".into();
+    let svg = render_svg(&spec).unwrap();
+    assert!(!svg.contains("_{"), "markup must not reach the drawing");
+    let texts = svg_texts(&svg);
+    let find = |t: &str| {
+        texts
+            .iter()
+            .find(|x| x.0 == t)
+            .unwrap_or_else(|| panic!("no text {t:?} in {texts:?}"))
+            .clone()
+    };
+    // Legend label: "k" then subscript "rw" then ", drainage".
+    let (k, w, rest) = (find("k"), find("rw"), find(", drainage"));
+    assert!(w.1 < k.1, "subscript font {} not below {}", w.1, k.1);
+    assert!(
+        w.2 > k.2 && rest.2 > w.2,
+        "runs out of order: {k:?} {w:?} {rest:?}"
+    );
+    assert!(w.3 > k.3, "subscript not lowered: {k:?} {w:?}");
+    assert_eq!(rest.1, k.1);
+    // Axis label: "Water saturation S", "w", " (fraction)".
+    let (base, sub) = (find("Water saturation S"), find("w"));
+    assert!(sub.1 < base.1 && sub.2 > base.2);
+    // A PNG of the same spec renders too.
+    assert!(render_png(&spec, 400, 300).is_ok());
+}

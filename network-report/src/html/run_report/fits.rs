@@ -13,23 +13,26 @@ pub(super) fn fits(r: &RunResults) -> Html {
     let label = &r.study.fluids.nonaqueous_label;
     let mut h = key_values(&[
         (
-            "Swi, water saturation after primary drainage",
+            "S_{wi}, water saturation after primary drainage",
             opt(e.swi, 4),
         ),
         (
-            "Sni, non-aqueous saturation after primary drainage",
+            "S_{ni}, non-aqueous saturation after primary drainage",
             opt(r.sni, 4),
         ),
-        ("Snr, trapped after the first imbibition", opt(e.snr, 4)),
+        ("S_{nr}, trapped after the first imbibition", opt(e.snr, 4)),
         (
             "Non-aqueous saturation left after the first imbibition",
             opt(r.sn_end_imbibition, 4),
         ),
         (
-            "krw at the end of the first imbibition",
+            "k_{rw} at the end of the first imbibition",
             opt(e.krw_at_snr, 4),
         ),
-        ("krn at the end of primary drainage", opt(e.krn_at_swi, 4)),
+        (
+            "k_{rn} at the end of primary drainage",
+            opt(e.krn_at_swi, 4),
+        ),
         (
             "Land coefficient from this run's single point, C = 1/Snr − 1/Sni (Land 1968; \
              a trapping curve over several Sni needs a sweep)",
@@ -50,7 +53,7 @@ pub(super) fn fits(r: &RunResults) -> Html {
             format!("{} {}", pf.process, pf.kind.as_str())
         };
         h.push(subheading(&format!(
-            "Relative-permeability fits, {name} (Swi {}, Sor {})",
+            "Relative-permeability fits, {name} (S_{{wi}} {}, S_{{or}} {})",
             number(pf.swi, 3),
             number(pf.sor, 3)
         )));
@@ -111,8 +114,8 @@ pub(super) fn fits(r: &RunResults) -> Html {
                 "Phase",
                 "Model",
                 "Parameters",
-                "RMSE of kr",
-                "RMSE of ln kr",
+                "RMSE of k_{r}",
+                "RMSE of ln k_{r}",
             ],
             &rows,
         ));
@@ -154,7 +157,7 @@ pub(super) fn fits(r: &RunResults) -> Html {
         &[
             archie_row("cementation m, F = a φ^(−m)", a.map(|a| &a.cementation_m)),
             archie_row(
-                "saturation n, RI = b Sw^(−n), primary drainage",
+                "saturation n, RI = b S_{w}^(−n), primary drainage",
                 a.map(|a| &a.saturation_n),
             ),
         ],

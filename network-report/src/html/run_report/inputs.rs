@@ -107,8 +107,8 @@ pub(super) fn inputs(r: &RunResults) -> Html {
             vec![
                 process_label(&kinds, i),
                 match p.stop {
-                    StopAt::Pc(pc) => format!("Pc = {} kPa", kpa(pc)),
-                    StopAt::Sw(sw) => format!("Sw = {}", input_number(sw)),
+                    StopAt::Pc(pc) => format!("P_{{c}} = {} kPa", kpa(pc)),
+                    StopAt::Sw(sw) => format!("S_{{w}} = {}", input_number(sw)),
                 },
                 p.pc_steps.to_string(),
                 p.kr_points.to_string(),
@@ -116,7 +116,7 @@ pub(super) fn inputs(r: &RunResults) -> Html {
         })
         .collect();
     h.push(table(
-        &["Process", "Stops at", "Pressure steps", "kr points"],
+        &["Process", "Stops at", "Pressure steps", "k_{r} points"],
         &rows,
     ));
     h

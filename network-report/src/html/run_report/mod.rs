@@ -12,7 +12,7 @@ use network_core::run::RunResults;
 use network_core::run::end_points::Fitted;
 use network_core::study::{ProcessKind, StopAt};
 
-use super::{Html, Page, caution, figure, input_number, list, number, paragraph};
+use super::{Html, Page, caution, figure, input_number, key_values, list, note, number, paragraph};
 use crate::figures::{Figure, process_label};
 use crate::plot::render_svg;
 
@@ -57,6 +57,7 @@ pub fn run_report(results: &RunResults, figures: &[Figure]) -> String {
         r.network.name, r.program.name, r.program.version, r.study.seed
     ));
     page.lead(caution());
+    page.lead(key_box(r));
     page.section("Inputs", inputs(r));
     page.section("Network", network(r));
     page.section("Process results", processes(r));
@@ -79,6 +80,20 @@ pub fn run_report(results: &RunResults, figures: &[Figure]) -> String {
         }
     ));
     page.render()
+}
+
+/// The key results (see [`crate::key_results`]) in a box above the
+/// contents, with the Sni range reminder a single run needs.
+fn key_box(r: &RunResults) -> Html {
+    let rows = crate::key_results::key_results(r);
+    let refs: Vec<(&str, String)> = rows.iter().map(|(k, v)| (k.as_str(), v.clone())).collect();
+    let mut inner = Html::element("h2", None, Html::text("Key results"));
+    inner.push(key_values(&refs));
+    inner.push(note(
+        "Model estimates of this one network and study; the sections below give every \
+         value with its definition, and the warnings at the end say what to check.",
+    ));
+    Html::element("aside", Some("key-results"), inner)
 }
 
 fn figures_html(figures: &[Figure]) -> Html {

@@ -78,10 +78,10 @@ pub(super) fn processes(r: &RunResults) -> Html {
     let mut h = table(
         &[
             "Process",
-            "Final Pc (kPa)",
-            "Final Sw",
-            "Trapped Sn",
-            "Breakthrough Pc (kPa)",
+            "Final P_{c} (kPa)",
+            "Final S_{w}",
+            "Trapped S_{n}",
+            "Breakthrough P_{c} (kPa)",
             "Points",
             "Stop",
         ],
@@ -103,7 +103,14 @@ pub(super) fn wettability(r: &RunResults) -> Html {
                 ("Amott water index Iw", number(w.amott_water, 4)),
                 ("Amott oil index Io", number(w.amott_oil, 4)),
                 ("Amott–Harvey index Iw − Io", number(w.amott_harvey, 4)),
-                ("USBM index log10(A1/A2)", number(w.usbm, 4)),
+                (
+                    "USBM index log10(A1/A2)",
+                    if w.usbm.is_finite() {
+                        number(w.usbm, 4)
+                    } else {
+                        crate::key_results::USBM_MISSING.to_string()
+                    },
+                ),
             ]);
             h.push(note(
                 "Computed from the simulated imbibition and secondary-drainage curves; \
@@ -199,6 +206,6 @@ pub(super) fn end_effects(r: &RunResults) -> Html {
             "No interior window was set ([output] interior_window): whole-sample values only.",
         )),
     }
-    h.push(table(&["Region", "Swi", "Sni", "Snr"], &rows));
+    h.push(table(&["Region", "S_{wi}", "S_{ni}", "S_{nr}"], &rows));
     h
 }

@@ -35,10 +35,13 @@ pub(super) fn waterflood(r: &RunResults) -> Html {
             "End-point mobility ratio M",
             number(w.endpoint_mobility_ratio, 4),
         ),
-        ("Initial Sw (start of imbibition)", number(w.initial_sw, 4)),
-        ("Highest Sw (1 − Snr)", number(w.max_sw, 4)),
-        ("Shock-front Sw", number(w.shock_front_sw, 4)),
-        ("fw at the shock front", number(w.shock_front_fw, 4)),
+        (
+            "Initial S_{w} (start of imbibition)",
+            number(w.initial_sw, 4),
+        ),
+        ("Highest S_{w} (1 − S_{nr})", number(w.max_sw, 4)),
+        ("Shock-front S_{w}", number(w.shock_front_sw, 4)),
+        ("f_{w} at the shock front", number(w.shock_front_fw, 4)),
         (
             "Breakthrough (pore volumes injected)",
             number(w.breakthrough_pv, 4),
@@ -58,8 +61,8 @@ pub(super) fn waterflood(r: &RunResults) -> Html {
         &[
             "Injected",
             "Pore volumes",
-            "Average Sw",
-            "Outlet Sw",
+            "Average S_{w}",
+            "Outlet S_{w}",
             "Water cut",
             &format!("Recovery of {label} (fraction of initial in place)"),
         ],
