@@ -2,7 +2,8 @@
 # Every test of the project, in one command (the README's test command):
 #   1. the Rust tests of the workspace (unit, integration, CLI, report);
 #   2. the demo-output guard (byte-for-byte comparison with recorded sums);
-#   3. the reservoir-simulator round trip of the written tables
+#   3. the reservoir-simulator round trip of the written tables, water-oil
+#      (Kestrel) and gas-water (Saltmere CO2)
 #      (scripts/test-simulator.sh: installs Debian's OPM Flow package when
 #      missing; every external call has a timeout).
 # Exits non-zero when any part fails.
@@ -11,4 +12,5 @@ cd "$(dirname "$0")/.."
 cargo test --workspace --release --locked
 scripts/check-golden.sh
 timeout 1200 scripts/test-simulator.sh
+timeout 1200 scripts/test-simulator.sh studies/saltmere-co2-storage.toml
 echo "all tests passed"
