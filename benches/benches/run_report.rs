@@ -1,9 +1,13 @@
 //! Reports of a whole run (network-report): the standard figures, the
 //! HTML report and the VTK state of a 20×20×20 lattice (8000 pores, 16 000
 //! throats). The run itself is set-up, untimed.
-//! Run with `cargo bench -p ganglion-benches --bench run_report`.
+//! Run with `cargo bench -p ganglion-benches --bench run_report`; only the
+//! VTK writers with `… --bench run_report -- vtp`, which first prints the
+//! file size per pore of both encodings and the median write times
+//! (binary vs ASCII, 15 writes each).
 
 use std::sync::LazyLock;
+use std::time::Instant;
 
 use divan::black_box;
 use network_core::Network;
@@ -11,10 +15,74 @@ use network_core::generate::{LatticeSpec, generate};
 use network_core::progress::Silent;
 use network_core::run::{RunResults, run_study};
 use network_core::study::Study;
+use network_report::vtk::{VtkEncoding, VtkOptions};
 use network_report::{run_figures, run_report, saturation_tables, write_vtp};
 
 fn main() {
+    let filters: Vec<String> = std::env::args()
+        .skip(1)
+        .filter(|a| !a.starts_with('-'))
+        .collect();
+    if filters.is_empty()
+        || filters
+            .iter()
+            .any(|f| "vtp".contains(f.as_str()) || f.contains("vtp"))
+    {
+        vtp_sizes();
+    }
     divan::main();
+}
+
+/// One `.vtp` of the first imbibition's end state (angles and pressure, as
+/// `ganglion run` writes it).
+fn vtp(encoding: VtkEncoding) -> Vec<u8> {
+    let (n, r) = &*RUN;
+    let state = &r.end_states[1];
+    let opts = VtkOptions {
+        encoding,
+        description: "benchmark".into(),
+    };
+    write_vtp(
+        black_box(n),
+        state,
+        r.angles.as_ref(),
+        state.water_pressure.as_deref(),
+        &opts,
+    )
+    .unwrap()
+}
+
+/// Prints bytes per pore of both encodings and the median write times.
+fn vtp_sizes() {
+    let (n, _) = &*RUN;
+    let median = |encoding| {
+        let mut t: Vec<f64> = (0..15)
+            .map(|_| {
+                let start = Instant::now();
+                black_box(vtp(encoding));
+                start.elapsed().as_secs_f64()
+            })
+            .collect();
+        t.sort_by(f64::total_cmp);
+        t[t.len() / 2]
+    };
+    let (b, a) = (
+        vtp(VtkEncoding::Binary).len(),
+        vtp(VtkEncoding::Ascii).len(),
+    );
+    let (tb, ta) = (median(VtkEncoding::Binary), median(VtkEncoding::Ascii));
+    let per_pore = |bytes: usize| bytes as f64 / n.n_pores() as f64;
+    println!(
+        "vtp, {} pores, {} throats: binary {b} B ({:.1} B/pore, {:.2} ms), ascii {a} B ({:.1} B/pore, {:.2} ms); ascii/binary size {:.2}, time {:.1}",
+        n.n_pores(),
+        n.n_throats(),
+        per_pore(b),
+        tb * 1e3,
+        per_pore(a),
+        ta * 1e3,
+        a as f64 / b as f64,
+        ta / tb
+    );
 }
 
 static RUN: LazyLock<(Network, RunResults)> = LazyLock::new(|| {
@@ -60,7 +128,13 @@ fn saturation_tables_21_rows(bencher: divan::Bencher) {
 }
 
 #[divan::bench]
-fn vtp_8000_pores(bencher: divan::Bencher) {
-    let (n, r) = &*RUN;
-    bencher.bench(|| write_vtp(black_box(n), &r.end_states[1], r.angles.as_ref(), None).unwrap());
+fn vtp_binary_8000_pores(bencher: divan::Bencher) {
+    LazyLock::force(&RUN);
+    bencher.bench(|| vtp(VtkEncoding::Binary));
+}
+
+#[divan::bench]
+fn vtp_ascii_8000_pores(bencher: divan::Bencher) {
+    LazyLock::force(&RUN);
+    bencher.bench(|| vtp(VtkEncoding::Ascii));
 }
