@@ -11,4 +11,5 @@ cd "$(dirname "$0")/.."
 cargo test --workspace --release --locked
 scripts/check-golden.sh
 timeout 1200 scripts/test-simulator.sh
+timeout 1500 scripts/test-vtk-reader.sh
 echo "all tests passed"
