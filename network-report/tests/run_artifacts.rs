@@ -544,7 +544,7 @@ impl Vtp {
     }
 
     /// Every array with its values as bits (NaN compared by bits too).
-    fn bits(&self) -> BTreeMap<(String, String), (String, usize, Vec<u64>, Vec<String>)> {
+    fn bits(&self) -> BTreeMap<(String, String), Bits> {
         self.arrays
             .iter()
             .map(|(k, (ty, comps, d))| {
@@ -558,6 +558,9 @@ impl Vtp {
             .collect()
     }
 }
+
+/// An array as (type, components, numbers as bits, strings).
+type Bits = (String, usize, Vec<u64>, Vec<String>);
 
 /// The location word of the field data `array_meanings` for a section.
 fn location(section: &str) -> &'static str {
