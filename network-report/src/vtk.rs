@@ -39,8 +39,10 @@
 //! **NaN marks a missing value** in every Float64 array: a pressure where
 //! the water does not flow, or any non-finite value handed to the writer
 //! (written as the one quiet NaN `f64::NAN`, so files stay byte-identical).
-//! NaN falls outside every colour map's range in ParaView, which shows it
-//! in the "NaN colour" instead of stretching the scale.
+//! VTK leaves NaN out of an array's range (`GetRange` of the demo's
+//! `pressure` with 292 NaN is 0 to 1, checked with VTK 9.7) and its lookup
+//! tables draw NaN in a separate NaN colour, so the colour scale keeps the
+//! range of the real values.
 //!
 //! The small codes are signed (`Int8`), not `UInt8`: VTK's mappers take
 //! unsigned-char scalars as colours by default, signed ones through the
@@ -63,9 +65,11 @@
 //! inside each element: a well-formed XML file to read, diff and check
 //! with any XML parser. Floats are written in Rust's shortest round-trip
 //! exponent form (`1.25e-5`), which reads back to the same bits; a missing
-//! value is written `nan`, which VTK's XML reader (checked with VTK 9.7,
-//! `scripts/test-vtk-reader.sh`) and ParaView read as NaN; a hand-written
-//! parser must accept it too (Rust's and Python's float parsers do).
+//! value is written `nan`, which VTK's XML reader reads as NaN (checked
+//! with VTK 9.7 by `scripts/test-vtk-reader.sh`; older readers that parse
+//! with C++ stream extraction may stop at it, so use the binary default
+//! with those); a hand-written parser must accept it too (Rust's and
+//! Python's float parsers do).
 //!
 //! String arrays follow what VTK's own XML writer does (checked against
 //! its source, `vtkXMLWriter.cxx`, and read back with VTK 9.7): the
