@@ -5,7 +5,9 @@
 #   3. the reservoir-simulator round trip of the written tables, water-oil
 #      (Kestrel) and gas-water (Saltmere CO2)
 #      (scripts/test-simulator.sh: installs Debian's OPM Flow package when
-#      missing; every external call has a timeout).
+#      missing; every external call has a timeout);
+#   4. the VTK files read by VTK's own reader (scripts/test-vtk-reader.sh:
+#      installs the vtk wheel into a virtual environment under target/).
 # Exits non-zero when any part fails.
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -13,4 +15,5 @@ cargo test --workspace --release --locked
 scripts/check-golden.sh
 timeout 1200 scripts/test-simulator.sh
 timeout 1200 scripts/test-simulator.sh studies/saltmere-co2-storage.toml
+timeout 1500 scripts/test-vtk-reader.sh
 echo "all tests passed"

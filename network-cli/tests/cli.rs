@@ -236,6 +236,68 @@ fn run_writes_summary_curves_and_ganglia() {
 }
 
 #[test]
+fn run_writes_binary_vtk_by_default_identical_with_any_thread_count_and_text_with_vtk_ascii() {
+    let d = scratch("vtk");
+    let st = write_study(&d, SMALL_STUDY);
+    let run = |name: &str, threads: &str, extra: &[&str]| {
+        let out = d.join(name);
+        let mut args = vec![
+            "--quiet",
+            "--threads",
+            threads,
+            "run",
+            s(&st),
+            "-o",
+            s(&out),
+        ];
+        args.extend_from_slice(&["--no-png"]);
+        args.extend_from_slice(extra);
+        ok(&args);
+        out
+    };
+    let one = run("one", "1", &[]);
+    let two = run("two", "2", &[]);
+    let text = run("text", "2", &["--vtk-ascii"]);
+    for f in ["state-1-drainage.vtp", "state-2-imbibition.vtp"] {
+        let b1 = std::fs::read(one.join(f)).unwrap();
+        assert_eq!(
+            b1,
+            std::fs::read(two.join(f)).unwrap(),
+            "{f}: 1 vs 2 threads"
+        );
+        let at = b1
+            .windows(29)
+            .position(|w| w == b"<AppendedData encoding=\"raw\">")
+            .expect("appended data");
+        let header = std::str::from_utf8(&b1[..at]).expect("text header");
+        assert!(header.contains("format=\"appended\"") && !header.contains("format=\"ascii\""));
+        let a = String::from_utf8(std::fs::read(text.join(f)).unwrap()).expect("text file");
+        assert!(!a.contains("<AppendedData") && a.contains("format=\"ascii\""));
+        assert!(a.contains("Name=\"array_meanings\""));
+        // The same piece header in both encodings.
+        let piece = |t: &str| {
+            t[t.find("<Piece").unwrap()..]
+                .lines()
+                .next()
+                .unwrap()
+                .to_string()
+        };
+        assert_eq!(piece(header), piece(&a));
+    }
+    // Both flags together are a usage error.
+    let o = ganglion(&[
+        "run",
+        s(&st),
+        "-o",
+        s(&d.join("x")),
+        "--no-vtk",
+        "--vtk-ascii",
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--vtk-ascii"));
+}
+
+#[test]
 fn bad_inputs_exit_with_one_and_name_the_problem() {
     let d = scratch("bad");
     // A network whose pores.csv has a negative radius on line 3.

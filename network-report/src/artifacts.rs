@@ -14,7 +14,7 @@ use crate::html::run_report;
 use crate::plot::{render_png, render_svg};
 use crate::saturation_tables::TableUnits;
 use crate::saturation_tables::from_run::saturation_tables;
-use crate::vtk::write_vtp;
+use crate::vtk::{VtkEncoding, VtkOptions, write_vtp};
 
 /// PNG size of [`write_run_artifacts`], pixels (1.5 × the SVG size).
 pub const PNG_SIZE: (u32, u32) = (1200, 840);
@@ -27,6 +27,8 @@ pub struct ArtifactOptions {
     pub png: bool,
     /// Write the end state of each process as `.vtp`. Default `true`.
     pub vtk: bool,
+    /// Encoding of the `.vtp` files. Default [`VtkEncoding::Binary`].
+    pub vtk_encoding: VtkEncoding,
     /// Rows of each saturation-function table (≥ 2). Default 21.
     pub table_points: usize,
     /// Unit of Pc in the keyword tables. Default bar.
@@ -38,6 +40,7 @@ impl Default for ArtifactOptions {
         ArtifactOptions {
             png: true,
             vtk: true,
+            vtk_encoding: VtkEncoding::Binary,
             table_points: 21,
             table_units: TableUnits::Bar,
         }
@@ -52,9 +55,10 @@ impl Default for ArtifactOptions {
 /// - the tables of [`saturation_tables`] (`table-drainage.csv`, …);
 /// - `report.html` ([`run_report`]);
 /// - `state-<k>-<kind>.vtp` for process `k` (1-based) when `opts.vtk`
-///   ([`write_vtp`], with the contact angles after the run and the water
-///   pressure of the process's last flow solve, for a unit pressure drop,
-///   where relative permeability was computed).
+///   ([`write_vtp`] in `opts.vtk_encoding`, with the contact angles after
+///   the run, the water pressure of the process's last flow solve, for a
+///   unit pressure drop, where relative permeability was computed, and a
+///   description naming the process and the network).
 ///
 /// Returns the paths written, in that order. `network` must be the network
 /// of the run (its sizes are checked against the states).
@@ -79,19 +83,30 @@ pub fn write_run_artifacts(
     }
     put("report.html", run_report(results, &figures).as_bytes())?;
     if opts.vtk {
+        let n = results.end_states.len();
         for (k, (state, outcome)) in results.end_states.iter().zip(&results.outcomes).enumerate() {
-            let file = format!("state-{}-{}.vtp", k + 1, outcome.kind.as_str());
-            let text = write_vtp(
+            let kind = outcome.kind.as_str();
+            let file = format!("state-{}-{kind}.vtp", k + 1);
+            let vtk = VtkOptions {
+                encoding: opts.vtk_encoding,
+                description: format!(
+                    "end state of process {} of {n} ({kind}); network {}",
+                    k + 1,
+                    results.network.name
+                ),
+            };
+            let bytes = write_vtp(
                 network,
                 state,
                 results.angles.as_ref(),
                 state.water_pressure.as_deref(),
+                &vtk,
             )
             .map_err(|source| ReportError::Vtk {
                 file: file.clone(),
                 source,
             })?;
-            put(&file, text.as_bytes())?;
+            put(&file, &bytes)?;
         }
     }
     Ok(out.written)

@@ -14,7 +14,8 @@
 //! - [`error`]: every error type of the crate; uses no other module.
 //! - [`plot`]: line plots (linear or log axes, bands, markers) as SVG text
 //!   or PNG bytes, drawn with `plotters` and an embedded DejaVu Sans font.
-//! - [`vtk`]: a network and an end state as VTK XML PolyData (`.vtp`).
+//! - [`vtk`]: a network and an end state as VTK XML PolyData (`.vtp`),
+//!   binary appended data or ASCII, with the meaning of every array.
 //! - [`figures`]: the standard figures of a study run (Pc, kr linear and
 //!   log, resistivity index with the Archie line, ganglion sizes, saturation
 //!   profile along the flow axis).

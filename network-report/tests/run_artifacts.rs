@@ -17,7 +17,7 @@ use network_report::plot::{Series, render_svg};
 use network_report::run_files::{curves_csv, profiles_csv};
 use network_report::saturation_tables::parse_csv;
 use network_report::saturation_tables::parse_keyword_columns;
-use network_report::vtk::{PRESSURE_MISSING, VtkError};
+use network_report::vtk::{VtkEncoding, VtkError, VtkOptions};
 use network_report::{
     ArtifactOptions, ReportError, run_figures, run_report, saturation_tables, write_run_artifacts,
     write_vtp,
@@ -409,19 +409,91 @@ fn number_prints_missing_values_as_na() {
     assert_eq!(number(1.5e-7, 3), "1.50e-7");
 }
 
+/// The values of one array of a parsed `.vtp` file.
+#[derive(Clone, Debug)]
+enum Data {
+    Ints(Vec<i64>),
+    Floats(Vec<f64>),
+    Strings(Vec<String>),
+}
+
 /// One parsed `.vtp` file: piece counts and arrays by section and name.
 struct Vtp {
     points: usize,
     lines: usize,
-    /// `(section, name)` → (type, components, values as text).
-    arrays: BTreeMap<(String, String), (String, usize, Vec<String>)>,
+    /// The `format` of every array (all the same).
+    format: String,
+    /// `(section, name)` → (type, components, values).
+    arrays: BTreeMap<(String, String), (String, usize, Data)>,
 }
 
-fn parse_vtp(text: &str) -> Vtp {
-    let doc = roxmltree::Document::parse(text).expect("well-formed XML");
+fn find(haystack: &[u8], needle: &[u8]) -> Option<usize> {
+    haystack.windows(needle.len()).position(|w| w == needle)
+}
+
+/// Decodes `count` little-endian values of VTK type `ty` from `raw`.
+fn decode_raw(ty: &str, raw: &[u8]) -> Data {
+    let size = match ty {
+        "Int8" | "String" => 1,
+        "Int32" => 4,
+        "Int64" | "Float64" => 8,
+        other => panic!("unexpected type {other}"),
+    };
+    assert_eq!(raw.len() % size, 0, "{ty}: {} bytes", raw.len());
+    let words = raw.chunks_exact(size);
+    match ty {
+        "Int8" => Data::Ints(raw.iter().map(|&b| b as i8 as i64).collect()),
+        "Int32" => Data::Ints(
+            words
+                .map(|w| i32::from_le_bytes(w.try_into().unwrap()) as i64)
+                .collect(),
+        ),
+        "Int64" => Data::Ints(
+            words
+                .map(|w| i64::from_le_bytes(w.try_into().unwrap()))
+                .collect(),
+        ),
+        "Float64" => Data::Floats(
+            words
+                .map(|w| f64::from_le_bytes(w.try_into().unwrap()))
+                .collect(),
+        ),
+        _ => Data::Strings(split_strings(raw)),
+    }
+}
+
+/// Strings stored back to back, each ended by a zero byte.
+fn split_strings(bytes: &[u8]) -> Vec<String> {
+    assert_eq!(bytes.last(), Some(&0), "strings end with a zero byte");
+    bytes[..bytes.len() - 1]
+        .split(|&b| b == 0)
+        .map(|s| String::from_utf8(s.to_vec()).expect("UTF-8"))
+        .collect()
+}
+
+/// Reads a `.vtp` file independently of the writer: the XML with
+/// `roxmltree` (for a binary file, the part before `<AppendedData`), then
+/// each array from its text or from the raw block at its offset (a UInt64
+/// byte count, then the little-endian values).
+fn parse_vtp(bytes: &[u8]) -> Vtp {
+    let (xml, raw) = match find(bytes, b"<AppendedData") {
+        Some(at) => {
+            let mut xml = std::str::from_utf8(&bytes[..at])
+                .expect("ASCII header")
+                .to_string();
+            xml.push_str("</VTKFile>");
+            let open = b"<AppendedData encoding=\"raw\">\n_";
+            assert_eq!(&bytes[at..at + open.len()], open);
+            (xml, Some(&bytes[at + open.len()..]))
+        }
+        None => (std::str::from_utf8(bytes).expect("text").to_string(), None),
+    };
+    let doc = roxmltree::Document::parse(&xml).expect("well-formed XML");
     let root = doc.root_element();
     assert_eq!(root.tag_name().name(), "VTKFile");
     assert_eq!(root.attribute("type"), Some("PolyData"));
+    assert_eq!(root.attribute("byte_order"), Some("LittleEndian"));
+    assert_eq!(root.attribute("header_type"), Some("UInt64"));
     let pieces: Vec<_> = doc
         .descendants()
         .filter(|n| n.has_tag_name("Piece"))
@@ -432,187 +504,355 @@ fn parse_vtp(text: &str) -> Vtp {
     assert_eq!(count("NumberOfVerts"), 0);
     assert_eq!(count("NumberOfPolys"), 0);
     let mut arrays = BTreeMap::new();
-    for a in piece.descendants().filter(|n| n.has_tag_name("DataArray")) {
-        assert_eq!(a.attribute("format"), Some("ascii"));
+    let mut formats = BTreeSet::new();
+    // The end of the last array read from the raw block: arrays tile it.
+    let mut raw_end = 0usize;
+    for a in doc
+        .descendants()
+        .filter(|n| n.has_tag_name("DataArray") || n.has_tag_name("Array"))
+    {
+        let format = a.attribute("format").expect("format").to_string();
         let section = a.parent_element().unwrap().tag_name().name().to_string();
         let name = a.attribute("Name").expect("named array").to_string();
+        let ty = a.attribute("type").unwrap().to_string();
+        assert_eq!(a.has_tag_name("Array"), ty == "String", "{name}");
         let comps = a
             .attribute("NumberOfComponents")
             .map_or(1, |c| c.parse().unwrap());
-        let values = a
-            .text()
-            .unwrap_or("")
-            .split_whitespace()
-            .map(String::from)
-            .collect();
-        let ty = a.attribute("type").unwrap().to_string();
-        let old = arrays.insert((section, name), (ty, comps, values));
+        let data = match format.as_str() {
+            "ascii" => {
+                let words = a.text().unwrap_or("").split_whitespace();
+                match ty.as_str() {
+                    "Float64" => Data::Floats(words.map(|w| w.parse().expect("float")).collect()),
+                    "String" => {
+                        let bytes: Vec<u8> = words
+                            .map(|w| w.parse::<i8>().expect("signed char") as u8)
+                            .collect();
+                        Data::Strings(split_strings(&bytes))
+                    }
+                    _ => Data::Ints(words.map(|w| w.parse().expect("integer")).collect()),
+                }
+            }
+            "appended" => {
+                let raw = raw.expect("an appended block");
+                let offset: usize = a.attribute("offset").expect("offset").parse().unwrap();
+                assert_eq!(offset, raw_end, "{name}: arrays follow each other");
+                let n = u64::from_le_bytes(raw[offset..offset + 8].try_into().unwrap()) as usize;
+                raw_end = offset + 8 + n;
+                decode_raw(&ty, &raw[offset + 8..raw_end])
+            }
+            other => panic!("unexpected format {other}"),
+        };
+        if let Data::Strings(s) = &data {
+            let tuples: usize = a.attribute("NumberOfTuples").unwrap().parse().unwrap();
+            assert_eq!(s.len(), tuples, "{name}");
+        }
+        formats.insert(format);
+        let old = arrays.insert((section, name), (ty, comps, data));
         assert!(old.is_none(), "array written twice");
     }
+    if let Some(raw) = raw {
+        assert_eq!(&raw[raw_end..], b"\n</AppendedData>\n</VTKFile>\n");
+    }
+    assert_eq!(formats.len(), 1, "one format per file: {formats:?}");
     Vtp {
         points: count("NumberOfPoints"),
         lines: count("NumberOfLines"),
+        format: formats.into_iter().next().unwrap(),
         arrays,
     }
 }
 
 impl Vtp {
-    fn get(&self, section: &str, name: &str) -> &(String, usize, Vec<String>) {
+    fn get(&self, section: &str, name: &str) -> &(String, usize, Data) {
         self.arrays
             .get(&(section.to_string(), name.to_string()))
             .unwrap_or_else(|| panic!("no {section}/{name}"))
     }
 
+    fn len(&self, section: &str, name: &str) -> usize {
+        match &self.get(section, name).2 {
+            Data::Ints(v) => v.len(),
+            Data::Floats(v) => v.len(),
+            Data::Strings(v) => v.len(),
+        }
+    }
+
     fn f64s(&self, section: &str, name: &str) -> Vec<f64> {
-        let (ty, _, v) = self.get(section, name);
-        assert_eq!(ty, "Float64");
-        v.iter().map(|x| x.parse().expect("float")).collect()
+        match self.get(section, name) {
+            (ty, _, Data::Floats(v)) if ty == "Float64" => v.clone(),
+            other => panic!("{section}/{name} is not Float64: {other:?}"),
+        }
     }
 
     fn ints(&self, section: &str, name: &str) -> Vec<i64> {
-        self.get(section, name)
-            .2
+        match &self.get(section, name).2 {
+            Data::Ints(v) => v.clone(),
+            other => panic!("{section}/{name} is not integer: {other:?}"),
+        }
+    }
+
+    fn strings(&self, name: &str) -> Vec<String> {
+        match self.get("FieldData", name) {
+            (ty, _, Data::Strings(v)) if ty == "String" => v.clone(),
+            other => panic!("FieldData/{name} is not String: {other:?}"),
+        }
+    }
+
+    /// Every array with its values as bits (NaN compared by bits too).
+    fn bits(&self) -> BTreeMap<(String, String), Bits> {
+        self.arrays
             .iter()
-            .map(|x| x.parse().expect("integer"))
+            .map(|(k, (ty, comps, d))| {
+                let (bits, strings) = match d {
+                    Data::Ints(v) => (v.iter().map(|&x| x as u64).collect(), Vec::new()),
+                    Data::Floats(v) => (v.iter().map(|x| x.to_bits()).collect(), Vec::new()),
+                    Data::Strings(s) => (Vec::new(), s.clone()),
+                };
+                (k.clone(), (ty.clone(), *comps, bits, strings))
+            })
             .collect()
     }
 }
 
+/// An array as (type, components, numbers as bits, strings).
+type Bits = (String, usize, Vec<u64>, Vec<String>);
+
+/// The location word of the field data `array_meanings` for a section.
+fn location(section: &str) -> &'static str {
+    match section {
+        "FieldData" => "field data",
+        "PointData" => "point data",
+        "CellData" => "cell data",
+        "Points" => "points",
+        "Lines" => "lines",
+        other => panic!("unexpected section {other}"),
+    }
+}
+
+fn vtk_options(encoding: VtkEncoding, description: &str) -> VtkOptions {
+    VtkOptions {
+        encoding,
+        description: description.to_string(),
+    }
+}
+
 #[test]
-fn vtp_parses_back_with_the_network_counts_and_value_ranges() {
+fn vtp_parses_back_with_the_network_counts_and_values_in_both_encodings() {
     let Run { network, results } = &*RUN;
-    let (n_p, n_t) = (network.n_pores(), network.n_throats());
+    let n_p = network.n_pores();
     let angles = results.angles.as_ref().expect("angles");
-    // A pressure field with missing values (NaN, ∞) to exercise the
-    // sentinel.
+    // A pressure field with missing values (NaN, ∞) written as NaN.
     let mut pressure: Vec<f64> = (0..n_p).map(|i| 100.0 * i as f64).collect();
     pressure[3] = f64::NAN;
     pressure[7] = f64::INFINITY;
+    let description = "state <2> & \"imbibition\"\0end";
     for (k, state) in results.end_states.iter().enumerate() {
-        let text = write_vtp(network, state, Some(angles), Some(&pressure)).expect("writes");
-        let v = parse_vtp(&text);
-        assert_eq!(v.points, n_p);
-        assert_eq!(v.lines, n_t);
-        let names: BTreeSet<(String, String)> = v.arrays.keys().cloned().collect();
-        for (s, n) in [
-            ("PointData", "radius_m"),
-            ("PointData", "occupancy"),
-            ("PointData", "ganglion_id"),
-            ("PointData", "contact_angle_deg"),
-            ("PointData", "pressure"),
-            ("PointData", "pressure_known"),
-            ("PointData", "boundary"),
-            ("CellData", "radius_m"),
-            ("CellData", "occupancy"),
-            ("CellData", "ganglion_id"),
-            ("CellData", "contact_angle_deg"),
-            ("Points", "coordinates_m"),
-            ("Lines", "connectivity"),
-            ("Lines", "offsets"),
-        ] {
-            assert!(names.contains(&(s.into(), n.into())), "missing {s}/{n}");
-        }
-        // Types: small codes signed (mapped through colour maps), ids 32-bit.
-        for (sec, name, ty) in [
-            ("PointData", "occupancy", "Int8"),
-            ("CellData", "occupancy", "Int8"),
-            ("PointData", "boundary", "Int8"),
-            ("PointData", "ganglion_id", "Int32"),
-            ("CellData", "ganglion_id", "Int32"),
-            ("Lines", "connectivity", "Int64"),
-            ("Points", "coordinates_m", "Float64"),
-        ] {
-            assert_eq!(v.get(sec, name).0, ty, "{sec}/{name}");
-        }
-        // Lengths: one value per pore / throat (three per point).
-        let (_, comps, xyz) = v.get("Points", "coordinates_m");
-        assert_eq!((*comps, xyz.len()), (3, 3 * n_p));
-        for (s, n) in [("PointData", n_p), ("CellData", n_t)] {
-            for name in ["radius_m", "occupancy", "ganglion_id", "contact_angle_deg"] {
-                assert_eq!(v.get(s, name).2.len(), n, "{s}/{name}");
-            }
-        }
-        // Values read back bit for bit, radii positive.
-        let rp = v.f64s("PointData", "radius_m");
-        let rt = v.f64s("CellData", "radius_m");
-        assert_eq!(rp, network.pores().radius);
-        assert_eq!(rt, network.throats().radius);
-        assert!(rp.iter().chain(&rt).all(|&r| r > 0.0));
-        let coords = v.f64s("Points", "coordinates_m");
-        for i in 0..n_p {
-            assert_eq!(coords[3 * i..3 * i + 3], network.pores().centre(i));
-        }
-        let conn = v.ints("Lines", "connectivity");
-        for (t, ends) in network.throats().pores.iter().enumerate() {
-            assert_eq!(conn[2 * t..2 * t + 2], [ends[0] as i64, ends[1] as i64]);
-        }
-        let offsets = v.ints("Lines", "offsets");
-        assert_eq!(offsets, (1..=n_t as i64).map(|k| 2 * k).collect::<Vec<_>>());
-        // Occupancy codes in {0, 1, 2} and matching the state.
-        let mut occ = v.ints("PointData", "occupancy");
-        occ.extend(v.ints("CellData", "occupancy"));
-        for (e, &o) in occ.iter().enumerate() {
-            let expect = if state.oil[e] {
-                1
-            } else if state.layers[e] != 0 {
-                2
-            } else {
-                0
-            };
-            assert_eq!(o, expect, "element {e}");
-        }
-        let mut angle = v.f64s("PointData", "contact_angle_deg");
-        angle.extend(v.f64s("CellData", "contact_angle_deg"));
-        assert!(angle.iter().all(|a| (0.0..=180.0).contains(a)));
-        let boundary = v.ints("PointData", "boundary");
-        assert!(boundary.iter().all(|b| (0..=2).contains(b)));
-        assert!(boundary.contains(&1) && boundary.contains(&2));
-        // The pressure sentinel and its mask.
-        let p = v.f64s("PointData", "pressure");
-        let known = v.ints("PointData", "pressure_known");
+        let write = |encoding| {
+            write_vtp(
+                network,
+                state,
+                Some(angles),
+                Some(&pressure),
+                &vtk_options(encoding, description),
+            )
+            .expect("writes")
+        };
+        let binary = write(VtkEncoding::Binary);
+        let ascii = write(VtkEncoding::Ascii);
+        assert_eq!(binary, write(VtkEncoding::Binary), "deterministic");
+        assert!(binary.len() < ascii.len());
+        let vb = parse_vtp(&binary);
+        let va = parse_vtp(&ascii);
         assert_eq!(
-            (p[3], p[7], known[3], known[7]),
-            (PRESSURE_MISSING, PRESSURE_MISSING, 0, 0)
+            (vb.format.as_str(), va.format.as_str()),
+            ("appended", "ascii")
         );
-        assert_eq!((p[5], known[5]), (500.0, 1));
-        // Ganglion ids: -1 or 0..count, and for the first imbibition exactly
-        // the run's ganglia, with their pore and throat counts.
-        let mut gid = v.ints("PointData", "ganglion_id");
-        gid.extend(v.ints("CellData", "ganglion_id"));
-        let distinct: BTreeSet<i64> = gid.iter().copied().filter(|&g| g >= 0).collect();
-        assert!(gid.iter().all(|&g| g >= -1));
-        // Ids are dense from 0.
-        assert_eq!(
-            distinct.iter().copied().collect::<Vec<_>>(),
-            (0..distinct.len() as i64).collect::<Vec<_>>()
-        );
-        if k == 1 {
-            assert_eq!(distinct.len(), results.ganglia.len());
-            for g in &results.ganglia {
-                let pores = gid[..n_p].iter().filter(|&&x| x == g.id as i64).count();
-                let throats = gid[n_p..].iter().filter(|&&x| x == g.id as i64).count();
-                assert_eq!((pores, throats), (g.pores, g.throats), "ganglion {}", g.id);
-            }
+        // The same arrays, types and numbers, bit for bit, in both encodings.
+        assert_eq!(vb.bits(), va.bits(), "state {k}");
+        for v in [&vb, &va] {
+            check_state_file(v, network, results, k, &pressure);
+            assert_eq!(v.strings("description"), ["state <2> & \"imbibition\" end"]);
         }
     }
+    // Without angles, pressure and description those arrays are left out,
+    // and array_meanings names only what is there.
+    let v = parse_vtp(
+        &write_vtp(
+            network,
+            &results.end_states[1],
+            None,
+            None,
+            &VtkOptions::default(),
+        )
+        .unwrap(),
+    );
+    assert_eq!(v.format, "appended", "binary by default");
+    assert!(
+        !v.arrays.keys().any(|(_, n)| n.starts_with("pressure")
+            || n.starts_with("contact")
+            || n == "description")
+    );
+    check_meanings(&v);
     // The first imbibition's state has oil layers (code 2).
-    let v = parse_vtp(&write_vtp(network, &results.end_states[1], None, None).unwrap());
     let mut occ = v.ints("PointData", "occupancy");
     occ.extend(v.ints("CellData", "occupancy"));
     assert!(occ.contains(&2) && occ.contains(&1) && occ.contains(&0));
-    // Without angles and pressure those arrays are left out.
-    assert!(
-        !v.arrays
-            .keys()
-            .any(|(_, n)| n.starts_with("pressure") || n.starts_with("contact"))
+}
+
+/// `array_meanings` holds one line per array present, in file order:
+/// name, location, unit, meaning, codes.
+fn check_meanings(v: &Vtp) {
+    let lines = v.strings("array_meanings");
+    let present: BTreeSet<(String, String)> = v
+        .arrays
+        .keys()
+        .map(|(s, n)| (location(s).to_string(), n.clone()))
+        .collect();
+    let named: BTreeSet<(String, String)> = lines
+        .iter()
+        .map(|l| {
+            let f: Vec<&str> = l.split(" | ").collect();
+            assert_eq!(f.len(), 5, "{l}");
+            assert!(f.iter().all(|x| !x.is_empty()), "{l}");
+            (f[1].to_string(), f[0].to_string())
+        })
+        .collect();
+    assert_eq!(named.len(), lines.len(), "one line per array");
+    assert_eq!(named, present);
+    // The codes are stated where there are codes.
+    for l in &lines {
+        if l.starts_with("occupancy") {
+            assert!(l.contains("0 water, 1 non-aqueous phase in the centre, 2 water"));
+        }
+        if l.starts_with("pressure") {
+            assert!(l.ends_with("| NaN where the water does not flow"));
+        }
+        if l.starts_with("boundary") {
+            assert!(l.ends_with("| 0 interior, 1 inlet, 2 outlet"));
+        }
+    }
+}
+
+/// Every array of the file written for end state `k` against the network,
+/// the state and the pressure given.
+fn check_state_file(v: &Vtp, network: &Network, results: &RunResults, k: usize, pressure: &[f64]) {
+    let (n_p, n_t) = (network.n_pores(), network.n_throats());
+    let state = &results.end_states[k];
+    assert_eq!(v.points, n_p);
+    assert_eq!(v.lines, n_t);
+    check_meanings(v);
+    assert_eq!(v.strings("ganglion_version"), [env!("CARGO_PKG_VERSION")]);
+    // Types: small codes signed (mapped through colour maps), ids 32-bit,
+    // indices 32-bit while they fit.
+    for (sec, name, ty) in [
+        ("PointData", "radius_m", "Float64"),
+        ("PointData", "occupancy", "Int8"),
+        ("CellData", "occupancy", "Int8"),
+        ("PointData", "boundary", "Int8"),
+        ("PointData", "ganglion_id", "Int32"),
+        ("CellData", "ganglion_id", "Int32"),
+        ("PointData", "pressure", "Float64"),
+        ("Lines", "connectivity", "Int32"),
+        ("Lines", "offsets", "Int32"),
+        ("Points", "coordinates_m", "Float64"),
+    ] {
+        assert_eq!(v.get(sec, name).0, ty, "{sec}/{name}");
+    }
+    // Lengths: one value per pore / throat (three per point).
+    assert_eq!(v.get("Points", "coordinates_m").1, 3);
+    assert_eq!(v.len("Points", "coordinates_m"), 3 * n_p);
+    for (s, n) in [("PointData", n_p), ("CellData", n_t)] {
+        for name in ["radius_m", "occupancy", "ganglion_id", "contact_angle_deg"] {
+            assert_eq!(v.len(s, name), n, "{s}/{name}");
+        }
+    }
+    assert_eq!(v.len("PointData", "pressure"), n_p);
+    assert_eq!(v.len("PointData", "boundary"), n_p);
+    assert_eq!(v.len("Lines", "connectivity"), 2 * n_t);
+    assert_eq!(v.len("Lines", "offsets"), n_t);
+    // Values read back bit for bit, radii positive.
+    let rp = v.f64s("PointData", "radius_m");
+    let rt = v.f64s("CellData", "radius_m");
+    assert_eq!(rp, network.pores().radius);
+    assert_eq!(rt, network.throats().radius);
+    assert!(rp.iter().chain(&rt).all(|&r| r > 0.0));
+    let coords = v.f64s("Points", "coordinates_m");
+    for i in 0..n_p {
+        assert_eq!(coords[3 * i..3 * i + 3], network.pores().centre(i));
+    }
+    let conn = v.ints("Lines", "connectivity");
+    for (t, ends) in network.throats().pores.iter().enumerate() {
+        assert_eq!(conn[2 * t..2 * t + 2], [ends[0] as i64, ends[1] as i64]);
+    }
+    let offsets = v.ints("Lines", "offsets");
+    assert_eq!(offsets, (1..=n_t as i64).map(|k| 2 * k).collect::<Vec<_>>());
+    // Occupancy codes matching the state.
+    let mut occ = v.ints("PointData", "occupancy");
+    occ.extend(v.ints("CellData", "occupancy"));
+    for (e, &o) in occ.iter().enumerate() {
+        let expect = if state.oil[e] {
+            1
+        } else if state.layers[e] != 0 {
+            2
+        } else {
+            0
+        };
+        assert_eq!(o, expect, "element {e}");
+    }
+    // Angles: the run's advancing angles in degrees.
+    let mut angle = v.f64s("PointData", "contact_angle_deg");
+    angle.extend(v.f64s("CellData", "contact_angle_deg"));
+    let advancing = &results.angles.as_ref().unwrap().advancing;
+    for (a, r) in angle.iter().zip(advancing) {
+        assert_eq!(*a, r.to_degrees());
+    }
+    assert!(angle.iter().all(|a| (0.0..=180.0).contains(a)));
+    let boundary = v.ints("PointData", "boundary");
+    for (b, expect) in boundary.iter().zip(&network.pores().boundary) {
+        assert_eq!(*b, *expect as u8 as i64);
+    }
+    assert!(boundary.contains(&1) && boundary.contains(&2));
+    // Missing pressures (NaN, ∞ given) are NaN; the others as given.
+    let p = v.f64s("PointData", "pressure");
+    for (i, (&got, &given)) in p.iter().zip(pressure).enumerate() {
+        if given.is_finite() {
+            assert_eq!(got, given, "pore {i}");
+        } else {
+            assert!(got.is_nan(), "pore {i}: {got}");
+        }
+    }
+    assert_eq!(p.iter().filter(|x| x.is_nan()).count(), 2);
+    // Ganglion ids: -1 or 0..count, and for the first imbibition exactly
+    // the run's ganglia, with their pore and throat counts.
+    let mut gid = v.ints("PointData", "ganglion_id");
+    gid.extend(v.ints("CellData", "ganglion_id"));
+    for (e, &g) in gid.iter().enumerate() {
+        assert_eq!(g == -1, state.ganglion[e] == u32::MAX, "element {e}");
+    }
+    let distinct: BTreeSet<i64> = gid.iter().copied().filter(|&g| g >= 0).collect();
+    assert!(gid.iter().all(|&g| g >= -1));
+    // Ids are dense from 0.
+    assert_eq!(
+        distinct.iter().copied().collect::<Vec<_>>(),
+        (0..distinct.len() as i64).collect::<Vec<_>>()
     );
+    if k == 1 {
+        assert_eq!(distinct.len(), results.ganglia.len());
+        for g in &results.ganglia {
+            let pores = gid[..n_p].iter().filter(|&&x| x == g.id as i64).count();
+            let throats = gid[n_p..].iter().filter(|&&x| x == g.id as i64).count();
+            assert_eq!((pores, throats), (g.pores, g.throats), "ganglion {}", g.id);
+        }
+    }
 }
 
 #[test]
 fn vtp_refuses_columns_of_the_wrong_length() {
     let Run { network, results } = &*RUN;
+    let opts = VtkOptions::default();
     let short = vec![0.0; network.n_pores() - 1];
-    let e = write_vtp(network, &results.end_states[0], None, Some(&short)).unwrap_err();
+    let e = write_vtp(network, &results.end_states[0], None, Some(&short), &opts).unwrap_err();
     assert_eq!(
         e,
         VtkError::LengthMismatch {
@@ -624,7 +864,7 @@ fn vtp_refuses_columns_of_the_wrong_length() {
     let mut state = results.end_states[0].clone();
     state.oil.pop();
     assert!(matches!(
-        write_vtp(network, &state, None, None),
+        write_vtp(network, &state, None, None, &opts),
         Err(VtkError::LengthMismatch {
             what: "state.oil",
             ..
@@ -922,6 +1162,38 @@ fn artifacts_are_all_written_and_listed() {
     assert_eq!(html, run_report(results, &run_figures(results)));
     let csv = std::fs::read_to_string(dir.join("out/table-imbibition.csv")).unwrap();
     assert_eq!(parse_csv(&csv).unwrap().len(), 11);
+    // The states: binary by default, the same arrays as text with
+    // `VtkEncoding::Ascii`, and a description naming process and network.
+    let binary = parse_vtp(&std::fs::read(dir.join("out/state-2-imbibition.vtp")).unwrap());
+    assert_eq!(binary.format, "appended");
+    assert_eq!(
+        binary.strings("description"),
+        [format!(
+            "end state of process 2 of 3 (imbibition); network {NAME}"
+        )]
+    );
+    let ascii_dir = dir.join("ascii");
+    write_run_artifacts(
+        results,
+        network,
+        &ascii_dir,
+        &ArtifactOptions {
+            png: false,
+            vtk_encoding: VtkEncoding::Ascii,
+            ..ArtifactOptions::default()
+        },
+    )
+    .expect("written");
+    for k in ["1-drainage", "2-imbibition", "3-drainage"] {
+        let file = format!("state-{k}.vtp");
+        let b = parse_vtp(&std::fs::read(dir.join("out").join(&file)).unwrap());
+        let a = parse_vtp(&std::fs::read(ascii_dir.join(&file)).unwrap());
+        assert_eq!(
+            (b.format.as_str(), a.format.as_str()),
+            ("appended", "ascii")
+        );
+        assert_eq!(b.bits(), a.bits(), "{file}");
+    }
 
     // A file where the folder should be: an I/O error naming that path.
     let blocker = dir.join("blocked");

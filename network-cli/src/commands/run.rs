@@ -20,7 +20,8 @@ use crate::progress::Bars;
 /// ganglia.csv (trapped clusters of the non-aqueous phase), the figures (SVG and PNG), the
 /// saturation-function tables for drainage and imbibition (CSV and a
 /// simulator include file), report.html (one self-contained file) and the
-/// end state of every process as VTK PolyData (state-K-KIND.vtp). Every
+/// end state of every process as VTK PolyData (state-K-KIND.vtp; binary
+/// appended data, or text with --vtk-ascii). Every
 /// file is written atomically.
 ///
 /// Examples:
@@ -40,6 +41,10 @@ pub struct Args {
     /// Skip the VTK files of the end states.
     #[arg(long)]
     pub no_vtk: bool,
+    /// Write the VTK files as ASCII text (readable and diffable, about 2.4
+    /// times larger) instead of binary appended data.
+    #[arg(long, conflicts_with = "no_vtk")]
+    pub vtk_ascii: bool,
     /// Rows of each saturation-function table.
     #[arg(long, default_value_t = 21, value_name = "N")]
     pub table_points: usize,
@@ -68,6 +73,11 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     let opts = network_report::ArtifactOptions {
         png: !args.no_png,
         vtk: !args.no_vtk,
+        vtk_encoding: if args.vtk_ascii {
+            network_report::vtk::VtkEncoding::Ascii
+        } else {
+            network_report::vtk::VtkEncoding::Binary
+        },
         table_points: args.table_points,
         table_units: args.table_units,
     };
