@@ -623,3 +623,84 @@ fn template_prints_a_study_that_runs() {
         assert!(String::from_utf8_lossy(&o.stdout).contains("docs/keys.md"));
     }
 }
+
+/// The Pc column (the last) of the data rows of the first keyword table of a
+/// `.inc` file, and its "Pc unit" header.
+fn inc_pc(text: &str) -> (String, Vec<f64>) {
+    let unit = text
+        .lines()
+        .find_map(|l| l.strip_prefix("-- Pc unit: "))
+        .expect("Pc unit header")
+        .split_whitespace()
+        .next()
+        .unwrap()
+        .to_string();
+    let pc = text
+        .lines()
+        .skip_while(|l| !matches!(l.trim(), "SWOF" | "SWFN"))
+        .skip(1)
+        .take_while(|l| l.trim() != "/")
+        .filter(|l| !l.trim_start().starts_with("--"))
+        .map(|l| l.split_whitespace().last().unwrap().parse().unwrap())
+        .collect();
+    (unit, pc)
+}
+
+#[test]
+fn table_units_convert_the_keyword_tables_and_refuse_unknown_units() {
+    let d = scratch("table-units");
+    let st = write_study(&d, SMALL_STUDY);
+    let mut by_unit = Vec::new();
+    for unit in ["bar", "kpa", "psi"] {
+        let out = d.join(unit);
+        ok(&[
+            "--quiet",
+            "run",
+            s(&st),
+            "-o",
+            s(&out),
+            "--no-png",
+            "--no-vtk",
+            "--table-units",
+            unit,
+        ]);
+        let text = std::fs::read_to_string(out.join("table-drainage.inc")).unwrap();
+        let (named, pc) = inc_pc(&text);
+        assert!(
+            named.eq_ignore_ascii_case(unit),
+            "{unit}: header says {named}"
+        );
+        by_unit.push(pc);
+    }
+    // 1 bar = 1e5 Pa (definition), 1 kPa = 1e3 Pa, 1 psi = 6894.757 Pa
+    // (NIST SP 811, appendix B conversion factors). The files print seven
+    // significant digits (rounding error up to 5e-7 relative each), so the
+    // same Pa must agree to 1e-6 relative.
+    let pa = [1.0e5, 1.0e3, 6894.757];
+    assert!(by_unit[0].len() > 3);
+    for (k, pc) in by_unit.iter().enumerate() {
+        assert_eq!(pc.len(), by_unit[0].len());
+        for (v, bar) in pc.iter().zip(&by_unit[0]) {
+            let (a, b) = (v * pa[k], bar * pa[0]);
+            assert!((a - b).abs() <= 1e-6 * b.abs().max(1.0), "{a} Pa vs {b} Pa");
+        }
+    }
+    let bad = ganglion(&[
+        "run",
+        s(&st),
+        "-o",
+        s(&d.join("atm")),
+        "--table-units",
+        "atm",
+    ]);
+    assert_eq!(bad.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&bad.stderr);
+    assert!(
+        err.contains("--table-units") && err.contains("atm"),
+        "{err}"
+    );
+    assert!(
+        !d.join("atm").exists(),
+        "nothing may be written before a refusal"
+    );
+}
