@@ -43,11 +43,29 @@ enum Command {
     Sweep(commands::sweep::Args),
     Collect(commands::sweep::CollectArgs),
     Template(commands::template::Args),
+    Verify(commands::verify::Args),
 }
+
+/// Most worker threads per core `--threads` may ask for: more only adds
+/// start-up time and memory (each thread has its own stack), never speed.
+const MAX_THREADS_PER_CORE: usize = 4;
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
-    if let Some(n) = cli.threads
+    let progress = progress::Bars::new(cli.quiet);
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let threads = cli.threads.map(|n| {
+        let cap = MAX_THREADS_PER_CORE * cores;
+        if n > cap {
+            progress.warn(&format!(
+                "--threads {n}: capped at {cap} ({MAX_THREADS_PER_CORE} per core on {cores} cores)"
+            ));
+            cap
+        } else {
+            n
+        }
+    });
+    if let Some(n) = threads
         && let Err(e) = rayon::ThreadPoolBuilder::new()
             .num_threads(n.max(1))
             .build_global()
@@ -55,7 +73,6 @@ fn main() -> ExitCode {
         eprintln!("error: could not start {n} threads: {e}");
         return ExitCode::from(1);
     }
-    let progress = progress::Bars::new(cli.quiet);
     let result = match &cli.command {
         Command::Generate(a) => commands::generate::run(a, &progress),
         Command::Inspect(a) => commands::inspect::run(a, &progress),
@@ -65,6 +82,7 @@ fn main() -> ExitCode {
         Command::Sweep(a) => commands::sweep::run(a, &progress),
         Command::Collect(a) => commands::sweep::collect(a, &progress),
         Command::Template(a) => commands::template::run(a),
+        Command::Verify(a) => commands::verify::run(a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

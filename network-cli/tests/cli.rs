@@ -704,3 +704,173 @@ fn table_units_convert_the_keyword_tables_and_refuse_unknown_units() {
         "nothing may be written before a refusal"
     );
 }
+
+/// The manifest of a result folder, parsed, with `ganglion verify` passing.
+fn complete_manifest(out: &Path) -> serde_json::Value {
+    let v = ganglion(&["verify", s(out)]);
+    assert!(
+        v.status.success(),
+        "{} is not a complete set:\n{}",
+        out.display(),
+        String::from_utf8_lossy(&v.stderr)
+    );
+    serde_json::from_str(&std::fs::read_to_string(out.join("ganglion-manifest.json")).unwrap())
+        .unwrap()
+}
+
+#[test]
+fn issue_18_run_killed_during_its_write_phase_leaves_the_previous_or_the_new_complete_set() {
+    let d = scratch("kill");
+    let st = write_study(&d, SMALL_STUDY);
+    // Two different complete sets (the tables differ in length), recorded
+    // in folders of their own.
+    let variant = |k: usize| if k % 2 == 0 { "21" } else { "31" };
+    let mut reference = Vec::new();
+    let mut elapsed = Vec::new();
+    for k in 0..2 {
+        let out = d.join(format!("ref{k}"));
+        let t0 = std::time::Instant::now();
+        ok(&[
+            "-q",
+            "run",
+            s(&st),
+            "-o",
+            s(&out),
+            "--table-points",
+            variant(k),
+        ]);
+        elapsed.push(t0.elapsed());
+        reference.push(complete_manifest(&out)["files"].clone());
+    }
+    assert_ne!(reference[0], reference[1]);
+    let t_run = elapsed.iter().max().unwrap().as_secs_f64();
+    let out = d.join("out");
+    ok(&[
+        "-q",
+        "run",
+        s(&st),
+        "-o",
+        s(&out),
+        "--table-points",
+        variant(0),
+    ]);
+    let mut current = 0;
+    // Kill times spread over the whole run (the write phase is its tail),
+    // from a fixed-seed linear congruential sequence.
+    let mut state: u64 = 18;
+    let mut outcomes = [0usize; 2];
+    for it in 1..=8 {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        let frac = (state >> 11) as f64 / (1u64 << 53) as f64;
+        let next = it % 2;
+        let mut child = Command::new(env!("CARGO_BIN_EXE_ganglion"))
+            .args([
+                "-q",
+                "run",
+                s(&st),
+                "-o",
+                s(&out),
+                "--overwrite",
+                "--table-points",
+                variant(next),
+            ])
+            .current_dir(root())
+            .stdout(std::process::Stdio::null())
+            .stderr(std::process::Stdio::null())
+            .spawn()
+            .unwrap();
+        std::thread::sleep(std::time::Duration::from_secs_f64(
+            0.3 * t_run + frac * t_run,
+        ));
+        let _ = child.kill(); // SIGKILL on Unix
+        let _ = child.wait();
+        let files = complete_manifest(&out)["files"].clone();
+        if files == reference[current] {
+            outcomes[0] += 1;
+        } else {
+            assert_eq!(
+                files, reference[next],
+                "iteration {it}: the folder holds neither the previous nor the new set"
+            );
+            outcomes[1] += 1;
+            current = next;
+        }
+    }
+    // A killed run leaves at most its staging folder beside the target;
+    // the next run removes it.
+    ok(&["-q", "run", s(&st), "-o", s(&out), "--overwrite"]);
+    let mut names: Vec<String> = std::fs::read_dir(&d)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    assert_eq!(names, ["out", "ref0", "ref1", "study.toml"], "{outcomes:?}");
+    no_temp_files(&out);
+}
+
+#[test]
+fn issue_18_run_refuses_a_folder_of_other_files_and_our_set_without_overwrite() {
+    let d = scratch("refuse");
+    let st = write_study(&d, SMALL_STUDY);
+    let foreign = d.join("thesis");
+    std::fs::create_dir_all(&foreign).unwrap();
+    std::fs::write(foreign.join("chapter1.tex"), "keep me").unwrap();
+    for extra in [&[][..], &["--overwrite"][..]] {
+        let mut args = vec!["-q", "run", s(&st), "-o", s(&foreign)];
+        args.extend_from_slice(extra);
+        let o = ganglion(&args);
+        assert_eq!(o.status.code(), Some(1));
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(err.contains("not ours"), "{err}");
+    }
+    assert_eq!(std::fs::read_dir(&foreign).unwrap().count(), 1);
+    let out = d.join("out");
+    ok(&["-q", "run", s(&st), "-o", s(&out), "--table-points", "31"]);
+    let o = ganglion(&["-q", "run", s(&st), "-o", s(&out)]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--overwrite"));
+    // A rerun with fewer files replaces the whole set: no file of the
+    // earlier run (here the PNG copies) stays beside the new ones.
+    ok(&[
+        "-q",
+        "run",
+        s(&st),
+        "-o",
+        s(&out),
+        "--overwrite",
+        "--no-png",
+    ]);
+    assert!(
+        walk(&out)
+            .iter()
+            .all(|p| p.extension().is_none_or(|e| e != "png"))
+    );
+    complete_manifest(&out);
+    std::fs::write(out.join("curves.csv"), "edited").unwrap();
+    let v = ganglion(&["verify", s(&out)]);
+    assert_eq!(v.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&v.stderr).contains("curves.csv"));
+}
+
+#[test]
+fn issue_18_sweep_merged_outputs_are_sealed_last_and_an_interrupted_merge_shows() {
+    let d = scratch("sweep-seal");
+    let st = write_study(&d, SWEEP);
+    let out = d.join("out");
+    ok(&["-q", "sweep", s(&st), "-o", s(&out)]);
+    let m = complete_manifest(&out);
+    assert_eq!(m["kind"], "sweep");
+    let sources = m["sources"].as_array().unwrap();
+    assert!(sources.iter().any(|e| e["path"] == "sweep-cases.json"));
+    assert!(sources.iter().any(|e| e["path"] == "cases/case-00000.json"));
+    // A merge killed after removing the manifest, with a stale temporary
+    // of a dead writer (pid 0) left in cases/.
+    std::fs::remove_file(out.join("ganglion-manifest.json")).unwrap();
+    std::fs::write(out.join("cases/.case-00000.json.0-1.tmp"), "{").unwrap();
+    assert_eq!(ganglion(&["verify", s(&out)]).status.code(), Some(1));
+    ok(&["-q", "collect", s(&out)]);
+    complete_manifest(&out);
+    no_temp_files(&out);
+}

@@ -8,6 +8,7 @@ pub mod perm;
 pub mod run;
 pub mod sweep;
 pub mod template;
+pub mod verify;
 
 use std::path::Path;
 

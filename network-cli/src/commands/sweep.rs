@@ -103,14 +103,12 @@ fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
         summary,
         ..
     } = sweep::collect(out)?;
-    network_report::write_sweep_results(&summary, &results, out)
-        .with_context(|| format!("cannot write the sweep results to {}", out.display()))?;
     let title = results
         .first()
         .and_then(|r| r.case.study().title)
         .unwrap_or_else(|| "Ganglion sweep".to_string());
-    network_report::write_sweep_artifacts(&title, &summary, &results, out, true)
-        .with_context(|| format!("cannot write the sweep report to {}", out.display()))?;
+    network_report::write_sweep_set(&title, &summary, &results, out, true)
+        .with_context(|| format!("cannot write the sweep results to {}", out.display()))?;
     if !missing.is_empty() {
         progress.warn(&format!(
             "{} case(s) not finished yet: {:?}",
