@@ -29,6 +29,17 @@
 //! or foreign file; it is not a defence against deliberate tampering.
 //! [`verify`] reads a folder and says whether it holds a complete set.
 //!
+//! # Cost
+//!
+//! Measured with `cargo bench -p ganglion-benches --bench run_report --
+//! set_large` and `… -- run_set` (2-core shared machine, ext4): on the two
+//! binary 3-D states of a 10⁶-pore run (192 MB), the manifest and the swap
+//! (reading every file back for its CRC-32, removing the replaced set) took
+//! 0.125 s against 0.112 s for writing the files, i.e. about 0.05 % of the
+//! 230 s the run itself takes; on the whole set of an 8000-pore run
+//! (figures, tables, report, states) staged and plain writes took 85.4 ms
+//! and 84.9 ms (ratio 1.01).
+//!
 //! # What a target may hold
 //!
 //! [`StagedSet::begin`] accepts a missing or empty target; a folder holding
