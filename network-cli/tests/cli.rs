@@ -874,3 +874,30 @@ fn issue_18_sweep_merged_outputs_are_sealed_last_and_an_interrupted_merge_shows(
     complete_manifest(&out);
     no_temp_files(&out);
 }
+
+#[test]
+fn issue_18_negative_generate_values_reach_our_range_check_which_names_the_flag() {
+    let d = scratch("negative-flags");
+    let out = d.join("net");
+    for (flag, value, code) in [
+        ("--seed", "-1", 2),
+        ("--spacing-m", "-85e-6", 1),
+        ("--target-coordination", "-2", 1),
+        ("--clay-fraction", "-0.1", 1),
+        ("--size", "-3x3x3", 1),
+    ] {
+        let mut args = vec!["generate", "-o", s(&out), flag, value];
+        if flag != "--size" {
+            args.extend(["--size", "4x4x4"]);
+        }
+        let o = ganglion(&args);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(code), "{flag} {value}: {err}");
+        assert!(err.contains(flag), "{flag} {value}: {err}");
+        assert!(
+            !err.contains("unexpected argument"),
+            "{flag} {value}: {err}"
+        );
+        assert!(!out.exists(), "{flag} {value}: wrote before refusing");
+    }
+}

@@ -173,11 +173,17 @@ pub fn remove_stale_temporaries(dir: &Path) -> usize {
             continue;
         };
         let is_file = e.file_type().is_ok_and(|t| t.is_file());
-        if is_file && !super::result_set::process_alive(pid) && fs::remove_file(e.path()).is_ok() {
+        if is_file && !process_alive(pid) && fs::remove_file(e.path()).is_ok() {
             removed += 1;
         }
     }
     removed
+}
+
+/// `true` when process `pid` is running (Linux: `/proc/<pid>` exists).
+/// Without `/proc` every other process is taken as gone.
+pub(crate) fn process_alive(pid: u32) -> bool {
+    pid == std::process::id() || Path::new("/proc").join(pid.to_string()).exists()
 }
 
 /// The pid in a temporary name of ours, `.<name>.<pid>-<n>.tmp`.

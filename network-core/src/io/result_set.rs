@@ -56,7 +56,7 @@ use std::sync::atomic::{AtomicU64, Ordering};
 
 use serde::{Deserialize, Serialize};
 
-use super::atomic::{parent_dir, sync_dir, write_atomic};
+use super::atomic::{parent_dir, process_alive, sync_dir, write_atomic};
 
 /// File name of the manifest inside a result folder.
 pub const MANIFEST_NAME: &str = "ganglion-manifest.json";
@@ -507,12 +507,6 @@ fn target_name(target: &Path) -> String {
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_else(|| "out".to_owned())
-}
-
-/// `true` when process `pid` is running (Linux: `/proc/<pid>` exists).
-/// Without `/proc` every other process is taken as gone.
-pub(crate) fn process_alive(pid: u32) -> bool {
-    pid == std::process::id() || Path::new("/proc").join(pid.to_string()).exists()
 }
 
 /// Removes `.<name>.staging-<pid>-<n>` and `.<name>.old-<pid>-<n>` beside
