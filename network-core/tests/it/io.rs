@@ -1337,3 +1337,42 @@ fn issue_18_length_m_a_thousand_times_the_pore_extent_is_refused() {
             .is_ok()
     );
 }
+
+#[test]
+fn issue_18_one_unterminated_quote_in_pores_csv_is_reported_once_with_its_cascade_in_one_line() {
+    let f = Fixture::valid().pores_line(3, "1,\"1e-4,0,0,2e-5,4e-14,0.05,0,");
+    let err = f.read("quote").unwrap_err();
+    let v = err.violations();
+    let missing: Vec<_> = v.iter().filter(|x| x.rule == Rule::MissingPore).collect();
+    assert_eq!(missing.len(), 1, "{err}");
+    assert!(missing[0].detail.contains("follow from"), "{err}");
+    let malformed = v
+        .iter()
+        .filter(|x| x.file.as_deref().is_some_and(|f| f.ends_with(PORES)))
+        .filter(|x| matches!(x.rule, Rule::MalformedRow | Rule::MalformedValue))
+        .count();
+    assert_eq!(malformed, 1, "{err}");
+    assert!(v.len() <= 4, "{err}");
+}
+
+#[test]
+fn issue_18_many_throats_naming_missing_pores_are_listed_up_to_five_then_summarised() {
+    // Ten throats from pore 3 to pores 10..19 that do not exist.
+    let mut throats = Fixture::valid().throats;
+    for k in 0..10 {
+        throats += &format!("{},3,{},1e-5,0.0625,1e-4,3e-14\n", 3 + k, 10 + k);
+    }
+    let f = Fixture {
+        throats,
+        ..Fixture::valid()
+    };
+    let err = f.read("many-missing").unwrap_err();
+    let missing: Vec<_> = err
+        .violations()
+        .iter()
+        .filter(|x| x.rule == Rule::MissingPore)
+        .collect();
+    assert_eq!(missing.len(), 6, "{err}");
+    assert!(missing[5].detail.starts_with("5 more throat ends"), "{err}");
+    assert_eq!(missing[5].line, Some(10), "{err}");
+}
