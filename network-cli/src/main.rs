@@ -84,6 +84,12 @@ fn main() -> ExitCode {
         Command::Template(a) => commands::template::run(a),
         Command::Verify(a) => commands::verify::run(a),
     };
+    // For measuring the memory estimates against the real peak (tests).
+    if std::env::var_os("GANGLION_PRINT_PEAK_MEMORY").is_some()
+        && let Some(peak) = network_core::io::memory::peak_resident_bytes()
+    {
+        eprintln!("peak resident memory: {peak} bytes");
+    }
     match result {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {

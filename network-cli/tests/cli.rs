@@ -901,3 +901,102 @@ fn issue_18_negative_generate_values_reach_our_range_check_which_names_the_flag(
         assert!(!out.exists(), "{flag} {value}: wrote before refusing");
     }
 }
+
+/// Runs `ganglion args` reporting its peak resident memory (`VmHWM`).
+fn peak_of(args: &[&str]) -> u64 {
+    let o = Command::new(env!("CARGO_BIN_EXE_ganglion"))
+        .args(args)
+        .current_dir(root())
+        .env("GANGLION_PRINT_PEAK_MEMORY", "1")
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(o.status.success(), "{args:?}: {err}");
+    err.lines()
+        .find_map(|l| l.strip_prefix("peak resident memory: "))
+        .and_then(|l| l.strip_suffix(" bytes"))
+        .and_then(|n| n.parse().ok())
+        .unwrap_or_else(|| panic!("{args:?}: no peak in {err}"))
+}
+
+#[test]
+fn issue_18_memory_estimate_is_within_a_factor_two_of_the_measured_peak() {
+    use network_core::memory;
+    let d = scratch("memory");
+    // 10^4 pores (run, perm, generate) and 10^5 pores (generate, perm).
+    for n in [22usize, 46] {
+        let net = d.join(format!("net{n}.gnet"));
+        let size = format!("{n}x{n}x{n}");
+        let gen_peak = peak_of(&[
+            "-q",
+            "generate",
+            "-o",
+            s(&net),
+            "--size",
+            &size,
+            "--seed",
+            "3",
+        ]);
+        let loaded = network_core::io::read_network(&net).unwrap().network;
+        let (np, nt) = (loaded.n_pores() as u64, loaded.n_throats() as u64);
+        let bonds = 3 * (n as u64 - 1) * (n as u64) * (n as u64);
+        let mut checks = vec![
+            (
+                "generate",
+                memory::for_generate(np, bonds, nt).total(),
+                gen_peak,
+            ),
+            (
+                "perm",
+                memory::for_perm(np, nt).total(),
+                peak_of(&["-q", "perm", s(&net)]),
+            ),
+        ];
+        if n == 22 {
+            let st = d.join("study.toml");
+            std::fs::write(
+                &st,
+                format!(
+                    "network = {:?}\n{}",
+                    s(&net),
+                    SMALL_STUDY.replace("kr_points = 6", "kr_points = 10")
+                ),
+            )
+            .unwrap();
+            let out = d.join("out");
+            let peak = peak_of(&["-q", "run", s(&st), "-o", s(&out), "--no-png"]);
+            checks.push(("run", memory::for_run(np, nt).total(), peak));
+        }
+        for (what, estimate, peak) in checks {
+            let ratio = estimate as f64 / peak as f64;
+            assert!(
+                (0.5..=2.0).contains(&ratio),
+                "{what} on {np} pores: estimate {estimate} B, measured peak {peak} B (ratio {ratio:.2})"
+            );
+        }
+    }
+}
+
+#[test]
+fn issue_18_generate_beyond_the_available_memory_is_refused_with_both_figures_before_writing() {
+    let d = scratch("memory-refusal");
+    let out = d.join("big.gnet");
+    let o = Command::new(env!("CARGO_BIN_EXE_ganglion"))
+        .args(["generate", "-o", s(&out), "--size", "400x400x400"])
+        .env("GANGLION_MEMORY_LIMIT", "8G")
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(1), "{err}");
+    assert!(
+        err.contains("needs about") && err.contains("is available"),
+        "{err}"
+    );
+    assert!(
+        err.contains("GANGLION_MEMORY_LIMIT=8G")
+            || err.contains("MemAvailable")
+            || err.contains("cgroup"),
+        "{err}"
+    );
+    assert!(!out.exists());
+}

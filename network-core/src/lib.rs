@@ -80,6 +80,7 @@ pub mod flow;
 pub mod generate;
 pub mod geometry;
 pub mod io;
+pub mod memory;
 pub mod network;
 pub mod numeric;
 pub mod params;

@@ -66,6 +66,21 @@ fn help_default(text: &str, default: impl std::fmt::Display) -> String {
     format!("{text} [default: {default}, or the --spec file's value]")
 }
 
+/// Throats the generator keeps: every lattice bond for a regular lattice,
+/// else about `z n / 2` for the target coordination `z`.
+fn expected_throats(spec: &LatticeSpec) -> u64 {
+    let bonds = spec.n_lattice_bonds();
+    if spec.regular.is_some() || !spec.target_coordination.is_finite() {
+        return bonds;
+    }
+    let kept = (spec.target_coordination.max(0.0) * spec.n_pores() as f64 / 2.0).ceil();
+    if kept < bonds as f64 {
+        kept as u64
+    } else {
+        bonds
+    }
+}
+
 /// A seed: any whole number, judged here (not by the flag parser) so a
 /// negative one is named with its range.
 fn parse_seed(s: &str) -> Result<u64, String> {
@@ -123,6 +138,15 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     if let Some(s) = args.seed {
         spec.seed = s;
     }
+    super::check_memory(
+        &format!("a lattice of {}x{}x{} pores", spec.nx, spec.ny, spec.nz),
+        network_core::memory::for_generate(
+            spec.n_pores(),
+            spec.n_lattice_bonds(),
+            expected_throats(&spec),
+        ),
+        "choose a smaller --size, or generate on a machine with more memory",
+    )?;
     let network = generate(&spec, progress).map_err(|e| {
         // A value given by a flag is refused under the flag's name.
         let key = match &e {

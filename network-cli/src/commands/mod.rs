@@ -41,3 +41,19 @@ pub fn study_network(
     }
     Ok((net.network, net.hash))
 }
+
+/// Refuses a command whose memory estimate exceeds what the machine has
+/// (see `network_core::memory`), before it allocates.
+pub fn check_memory(
+    what: &str,
+    estimate: network_core::memory::Estimate,
+    hint: &str,
+) -> Result<()> {
+    network_core::memory::check(
+        what,
+        estimate,
+        network_core::io::memory::available_bytes(),
+        hint,
+    )?;
+    Ok(())
+}

@@ -88,6 +88,15 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     // Refuse the folder before spending the run on it.
     let set = StagedSet::begin(&args.output, "run", args.overwrite)?;
     let (network, hash) = super::study_network(&args.study, &study, 0, progress)?;
+    super::check_memory(
+        &format!(
+            "a run on {} pores and {} throats",
+            network.n_pores(),
+            network.n_throats()
+        ),
+        network_core::memory::for_run(network.n_pores() as u64, network.n_throats() as u64),
+        "use a machine with more memory or a smaller network",
+    )?;
     let mut results = run_study(&network, &study, progress);
     results.network.hash = hash;
     let opts = network_report::ArtifactOptions {

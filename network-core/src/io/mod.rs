@@ -117,6 +117,7 @@ use crate::network::validate::{self, Target, Violation, Warning};
 pub mod atomic;
 pub mod binary;
 pub mod csv;
+pub mod memory;
 pub mod result_set;
 mod sample;
 pub mod study;
