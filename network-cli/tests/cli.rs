@@ -724,7 +724,7 @@ fn issue_18_run_killed_during_its_write_phase_leaves_the_previous_or_the_new_com
     let st = write_study(&d, SMALL_STUDY);
     // Two different complete sets (the tables differ in length), recorded
     // in folders of their own.
-    let variant = |k: usize| if k % 2 == 0 { "21" } else { "31" };
+    let variant = |k: usize| if k.is_multiple_of(2) { "21" } else { "31" };
     let mut reference = Vec::new();
     let mut elapsed = Vec::new();
     for k in 0..2 {

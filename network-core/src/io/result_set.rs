@@ -399,10 +399,10 @@ impl StagedSet {
         write_manifest(&self.staging, &manifest)?;
         sync_dir(&self.staging).map_err(io_err("cannot sync", &self.staging))?;
         // The target may have changed while the run computed.
-        let replace = match check_target(&self.target, self.overwrite)? {
-            FolderState::Absent | FolderState::Empty => false,
-            _ => true,
-        };
+        let replace = !matches!(
+            check_target(&self.target, self.overwrite)?,
+            FolderState::Absent | FolderState::Empty
+        );
         if replace {
             exchange(&self.staging, &self.target)?;
             // The staging path now holds the earlier set.
@@ -435,9 +435,7 @@ pub fn check_target(target: &Path, overwrite: bool) -> Result<FolderState, SetEr
     let state = folder_state(target)?;
     match &state {
         FolderState::Absent | FolderState::Empty => {}
-        FolderState::Ours(m) if overwrite => {
-            let _ = m;
-        }
+        FolderState::Ours(_) if overwrite => {}
         FolderState::Ours(m) => {
             return Err(SetError::Exists {
                 path: target.to_path_buf(),

@@ -81,7 +81,7 @@ pub(super) fn axis_range(
         if scale == Scale::Log && min <= 0.0 {
             return Err(bad("a log axis needs min > 0"));
         }
-        if scale == Scale::Log && !((max / min).log10() <= MAX_LOG_SPAN) {
+        if scale == Scale::Log && (max / min).log10() > MAX_LOG_SPAN {
             return Err(bad("a log axis spans at most 300 decades"));
         }
         return Ok(Axis { scale, min, max });
