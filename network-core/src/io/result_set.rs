@@ -251,6 +251,10 @@ pub fn verify(dir: &Path) -> Result<Verified, SetError> {
     if let Some(m) = &manifest {
         for e in m.files.iter().chain(&m.sources) {
             on_disk.remove(&e.path);
+            if !inside(&e.path) {
+                damaged.push(format!("{}: not a path inside the folder", e.path));
+                continue;
+            }
             match entry_for(dir, &e.path) {
                 Ok(now) if now == *e => {}
                 Ok(now) if now.bytes != e.bytes => damaged.push(format!(
@@ -270,6 +274,15 @@ pub fn verify(dir: &Path) -> Result<Verified, SetError> {
         damaged,
         unlisted: on_disk.into_iter().collect(),
     })
+}
+
+/// `true` for a relative path that stays inside its folder (no root, no
+/// `..`): a manifest never makes us read or remove anything outside it.
+fn inside(rel: &str) -> bool {
+    !rel.is_empty()
+        && Path::new(rel)
+            .components()
+            .all(|c| matches!(c, std::path::Component::Normal(_)))
 }
 
 /// Every regular file under `dir`, as relative paths with `/`, sorted.
@@ -564,7 +577,7 @@ pub fn seal(
     let now: BTreeSet<&str> = written.iter().chain(sources).map(String::as_str).collect();
     if let Some(old) = old {
         for e in &old.files {
-            if !now.contains(e.path.as_str()) && !e.path.contains("..") {
+            if !now.contains(e.path.as_str()) && inside(&e.path) {
                 let p = dir.join(&e.path);
                 match fs::remove_file(&p) {
                     Ok(()) => {}
@@ -726,6 +739,35 @@ mod tests {
         assert_eq!(v.unlisted, vec![".summary.json.9-0.tmp".to_owned()]);
         fs::remove_file(out.join(MANIFEST_NAME)).unwrap();
         assert!(!verify(&out).unwrap().is_complete());
+    }
+
+    #[test]
+    fn manifest_paths_outside_the_folder_are_neither_read_nor_removed() {
+        let root = scratch("outside");
+        let dir = root.join("set");
+        fs::create_dir_all(&dir).unwrap();
+        let victim = root.join("victim.txt");
+        fs::write(&victim, "keep").unwrap();
+        let abs = victim.to_string_lossy().into_owned();
+        let entry = |p: &str| ManifestEntry {
+            path: p.to_owned(),
+            bytes: 4,
+            crc32: "00000000".into(),
+        };
+        let old = Manifest {
+            format: MANIFEST_FORMAT.into(),
+            version: 1,
+            kind: "sweep".into(),
+            complete: true,
+            files: vec![entry("../victim.txt"), entry(&abs)],
+            sources: Vec::new(),
+        };
+        write_manifest(&dir, &old).unwrap();
+        let v = verify(&dir).unwrap();
+        assert_eq!(v.damaged.len(), 2, "{v:?}");
+        assert!(v.damaged.iter().all(|d| d.contains("not a path inside")));
+        seal(&dir, "sweep", &[], &[], Some(&old)).unwrap();
+        assert_eq!(fs::read_to_string(&victim).unwrap(), "keep");
     }
 
     #[test]

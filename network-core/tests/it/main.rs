@@ -8,6 +8,7 @@ mod accounting;
 mod drainage;
 mod flow;
 mod flow_emt;
+mod fuzz;
 mod generate;
 mod imbibition;
 mod input_checks;
