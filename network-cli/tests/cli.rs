@@ -1000,3 +1000,64 @@ fn issue_18_generate_beyond_the_available_memory_is_refused_with_both_figures_be
     );
     assert!(!out.exists());
 }
+
+#[test]
+fn issue_18_pore_volume_of_1e308_is_refused_at_load_and_writes_nothing() {
+    let d = scratch("huge-volume");
+    let net = d.join("net");
+    std::fs::create_dir_all(&net).unwrap();
+    let src = root().join("sample-networks/tiny-lattice");
+    for f in ["network.toml", "throats.csv"] {
+        std::fs::copy(src.join(f), net.join(f)).unwrap();
+    }
+    // Pore 0 (line 2) gets a volume of 1e308 m³.
+    let pores = std::fs::read_to_string(src.join("pores.csv")).unwrap();
+    let header: Vec<&str> = pores.lines().next().unwrap().split(',').collect();
+    let col = header.iter().position(|h| *h == "volume_m3").unwrap();
+    let mut lines: Vec<String> = pores.lines().map(str::to_owned).collect();
+    let mut row: Vec<String> = lines[1].split(',').map(str::to_owned).collect();
+    row[col] = "1e308".into();
+    lines[1] = row.join(",");
+    std::fs::write(net.join("pores.csv"), lines.join("\n") + "\n").unwrap();
+    let st = d.join("study.toml");
+    std::fs::write(&st, format!("network = {:?}\n{SMALL_STUDY}", s(&net))).unwrap();
+    let out = d.join("results").join("out");
+    let started = std::time::Instant::now();
+    let o = ganglion(&["-q", "run", s(&st), "-o", s(&out)]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(1), "{err}");
+    assert!(
+        err.contains("porosity") && err.contains("volume_m3"),
+        "{err}"
+    );
+    assert!(
+        started.elapsed().as_secs() < 60,
+        "took {:?}",
+        started.elapsed()
+    );
+    assert!(
+        !d.join("results").exists(),
+        "nothing may be written before a refusal"
+    );
+    let o = ganglion(&["inspect", s(&net)]);
+    assert_eq!(o.status.code(), Some(1));
+}
+
+#[test]
+fn issue_18_huge_thread_counts_are_capped_and_table_points_bounded() {
+    let o = ok(&[
+        "--threads",
+        "100000",
+        "inspect",
+        "sample-networks/tiny-lattice",
+    ]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("--threads 100000: capped at"), "{err}");
+    let d = scratch("table-points");
+    let st = write_study(&d, SMALL_STUDY);
+    let out = d.join("out");
+    let o = ganglion(&["run", s(&st), "-o", s(&out), "--table-points", "1000000000"]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--table-points 1000000000"));
+    assert!(!out.exists());
+}

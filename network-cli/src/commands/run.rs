@@ -4,7 +4,7 @@ use std::path::PathBuf;
 
 use anyhow::{Context, Result};
 use network_core::io;
-use network_core::io::result_set::StagedSet;
+use network_core::io::result_set::{self, StagedSet};
 use network_core::run::run_study;
 use network_report::key_results::fixed;
 
@@ -85,8 +85,8 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         );
     }
     let study = io::study::read_study(&args.study)?;
-    // Refuse the folder before spending the run on it.
-    let set = StagedSet::begin(&args.output, "run", args.overwrite)?;
+    // Refuse the folder before spending the run on it (no side effects).
+    result_set::check_target(&args.output, args.overwrite)?;
     let (network, hash) = super::study_network(&args.study, &study, 0, progress)?;
     super::check_memory(
         &format!(
@@ -97,6 +97,8 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         network_core::memory::for_run(network.n_pores() as u64, network.n_throats() as u64),
         "use a machine with more memory or a smaller network",
     )?;
+    // Every input accepted: only now does anything appear on disk.
+    let set = StagedSet::begin(&args.output, "run", args.overwrite)?;
     let mut results = run_study(&network, &study, progress);
     results.network.hash = hash;
     let opts = network_report::ArtifactOptions {
