@@ -4,7 +4,7 @@
 //! `cargo test`; for a long run set `GANGLION_FUZZ_CASES`, e.g.
 //!
 //! ```text
-//! GANGLION_FUZZ_CASES=200000 cargo test --release -p network-core --test it fuzz
+//! GANGLION_FUZZ_CASES=200000 cargo test --release -p network-core --test it -- fuzz never_panics
 //! ```
 //!
 //! A crash found becomes a regression test named for it (`issue_<n>_…`).

@@ -1070,9 +1070,13 @@ mod never_panics {
     use proptest::prelude::*;
     use proptest::test_runner::{Config, RngSeed};
 
+    /// 96 cases per property, or `GANGLION_FUZZ_CASES` for long runs.
     fn config() -> Config {
         Config {
-            cases: 96,
+            cases: std::env::var("GANGLION_FUZZ_CASES")
+                .ok()
+                .and_then(|v| v.parse().ok())
+                .unwrap_or(96),
             rng_seed: RngSeed::Fixed(0x6761_6e67),
             failure_persistence: None,
             ..Config::default()
