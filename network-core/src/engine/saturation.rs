@@ -245,6 +245,12 @@ impl Engine<'_> {
     pub fn region_volumes(&self, region: &[u32], n_regions: usize) -> Vec<RegionVolumes> {
         let n = self.volume.len().min(region.len());
         let n_chunks = n.div_ceil(CHUNK);
+        let pc = self.live.state.pc;
+        let r2 = if pc > 0.0 {
+            (self.setup.sigma / pc).powi(2)
+        } else {
+            0.0
+        };
         let parts: Vec<Vec<RegionVolumes>> = (0..n_chunks)
             .into_par_iter()
             .map(|c| {
@@ -254,7 +260,16 @@ impl Engine<'_> {
                     if r >= n_regions {
                         continue;
                     }
-                    let ev = self.element_volumes(e);
+                    // The running records hold most elements' water
+                    // (accounting.rs); the rest is computed.
+                    let ev = match self.recorded_water(e, r2) {
+                        Some(w) => ElementVolumes {
+                            water: self.clay[e] + w,
+                            oil: self.volume[e] - w,
+                            ..ElementVolumes::default()
+                        },
+                        None => self.element_volumes(e),
+                    };
                     let a = &mut acc[r];
                     a.pore += ev.water + ev.oil;
                     a.water += ev.water;
