@@ -1,0 +1,139 @@
+"""Bad input from Python: an exception with the binary's message (file,
+line, key), never a crash of the interpreter."""
+
+from __future__ import annotations
+
+import subprocess
+from pathlib import Path
+
+import pytest
+
+import ganglion
+from conftest import TINY_DICT, TINY_STUDY
+
+
+def cli_error(binary: Path, *args: str) -> str:
+    r = subprocess.run(
+        [str(binary), "--quiet", *args], capture_output=True, text=True, timeout=600
+    )
+    assert r.returncode == 1, r.stderr
+    assert r.stderr.startswith("error: ")
+    return r.stderr[len("error: "):].rstrip("\n")
+
+
+def test_refused_study_file_has_the_binary_message(
+    tiny_study_file: Path, tmp_path: Path, ganglion_bin: Path
+) -> None:
+    bad = tiny_study_file.parent / "bad.toml"
+    bad.write_text(TINY_STUDY.replace("interfacial_tension_n_per_m = 0.030",
+                                      "interfacial_tension_n_per_m = -0.030"))
+    with pytest.raises(ganglion.GanglionError) as err:
+        ganglion.run_study(bad)
+    msg = str(err.value)
+    assert msg == cli_error(ganglion_bin, "run", str(bad), "-o", str(tmp_path / "o"))
+    # File, line and key are named.
+    line = TINY_STUDY.splitlines().index("interfacial_tension_n_per_m = 0.030") + 1
+    assert "bad.toml" in msg and f"line {line}:" in msg
+    assert "fluids.interfacial_tension_n_per_m" in msg
+    assert isinstance(err.value, ValueError)
+
+
+def test_refused_text_names_line_and_key() -> None:
+    text = TINY_STUDY.replace("pc_steps = 12", 'pc_steps = "twelve"', 1)
+    with pytest.raises(ganglion.GanglionError) as err:
+        ganglion.run_study(text)
+    msg = str(err.value)
+    assert "<study text>" in msg and "pc_steps" in msg, msg
+    line = TINY_STUDY.splitlines().index("pc_steps = 12") + 1
+    assert f"line {line}" in msg, msg
+
+
+def test_dict_with_a_wrong_type_names_the_key() -> None:
+    d = {**TINY_DICT, "fluids": {"interfacial_tension_n_per_m": "strong"}}
+    with pytest.raises(ganglion.GanglionError, match="interfacial_tension_n_per_m"):
+        ganglion.run_study(d)
+
+
+def test_dict_with_an_unknown_key_is_refused_by_name() -> None:
+    d = {**TINY_DICT, "fluids": {"interfacial_tension": 0.03}}
+    with pytest.raises(ganglion.GanglionError, match="interfacial_tension"):
+        ganglion.run_study(d)
+
+
+def test_dict_value_without_toml_form_names_the_key() -> None:
+    d = {**TINY_DICT, "wettability": {"receding_contact_angle_deg": [0.0, object()]}}
+    with pytest.raises(ganglion.GanglionError) as err:
+        ganglion.run_study(d)
+    assert "wettability.receding_contact_angle_deg[1]" in str(err.value)
+    with pytest.raises(ganglion.GanglionError, match="table keys must be str"):
+        ganglion.run_study({**TINY_DICT, 3: "x"})
+
+
+def test_missing_key_is_named() -> None:
+    d = {k: v for k, v in TINY_DICT.items() if k != "network"}
+    with pytest.raises(ganglion.GanglionError, match="network"):
+        ganglion.run_study(d)
+    # None counts as missing.
+    with pytest.raises(ganglion.GanglionError, match="network"):
+        ganglion.run_study({**TINY_DICT, "network": None})
+
+
+def test_bad_network_path_names_the_path_and_base_dir(tmp_path: Path) -> None:
+    d = {**TINY_DICT, "network": "nowhere-net"}
+    with pytest.raises(ganglion.GanglionError) as err:
+        ganglion.run_study(d, base_dir=tmp_path)
+    msg = str(err.value)
+    assert "nowhere-net" in msg and str(tmp_path) in msg and "base_dir" in msg, msg
+
+
+def test_bad_network_path_in_a_file_is_the_binary_message(
+    tmp_path: Path, ganglion_bin: Path
+) -> None:
+    study = tmp_path / "s.toml"
+    study.write_text(TINY_STUDY.replace('network = "tiny-lattice"', 'network = "gone"'))
+    with pytest.raises(ganglion.GanglionError) as err:
+        ganglion.run_study(study)
+    assert str(err.value) == cli_error(ganglion_bin, "run", str(study), "-o", str(tmp_path / "o"))
+    assert "s.toml:2" in str(err.value)
+
+
+def test_missing_study_file(tmp_path: Path) -> None:
+    with pytest.raises(ganglion.GanglionError, match="cannot read study"):
+        ganglion.run_study(tmp_path / "absent.toml")
+
+
+def test_wrong_argument_types_raise_type_error(tiny_study_file: Path) -> None:
+    with pytest.raises(TypeError):
+        ganglion.run_study(42)  # type: ignore[arg-type]
+    with pytest.raises(TypeError):
+        ganglion.run_study(tiny_study_file, progress="not callable")  # type: ignore[arg-type]
+    with pytest.raises(TypeError):
+        ganglion.run_study(tiny_study_file, network="tiny-lattice")  # type: ignore[arg-type]
+    with pytest.raises(TypeError):
+        ganglion.run_study(tiny_study_file, table_points="many")  # type: ignore[arg-type]
+    with pytest.raises(ValueError, match="base_dir"):
+        ganglion.run_study(tiny_study_file, base_dir=".")
+
+
+def test_bad_output_options_are_refused(tiny_study_file: Path, tmp_path: Path) -> None:
+    with pytest.raises(ganglion.GanglionError, match="table unit"):
+        ganglion.run_study(tiny_study_file, output=tmp_path / "o", table_units="atm")
+    with pytest.raises(ganglion.GanglionError, match="at least 2"):
+        ganglion.run_study(tiny_study_file, output=tmp_path / "o", table_points=1)
+    with pytest.raises(OverflowError):
+        ganglion.run_study(tiny_study_file, output=tmp_path / "o", table_points=-3)
+
+
+def test_unwritable_output_raises(tiny_study_file: Path, tmp_path: Path) -> None:
+    blocker = tmp_path / "file"
+    blocker.write_text("not a folder")
+    with pytest.raises(ganglion.GanglionError, match="cannot write results"):
+        ganglion.run_study(tiny_study_file, output=blocker / "out")
+
+
+def test_refused_sweep_names_key(tmp_path: Path) -> None:
+    text = TINY_STUDY + "\n[sweep]\ninitial_water_saturations = [1.5]\n"
+    with pytest.raises(ganglion.GanglionError) as err:
+        ganglion.run_sweep(text, tmp_path / "sw", base_dir=tmp_path)
+    assert "the sweep was refused" in str(err.value)
+    assert "initial_water_saturations" in str(err.value)
