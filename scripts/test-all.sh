@@ -2,6 +2,7 @@
 # Every test of the project, in one command (the README's test command):
 #   1. the Rust tests of the workspace (unit, integration, CLI, report);
 #   2. the demo-output guard (byte-for-byte comparison with recorded sums);
+#   2b. the Python package's pytest suite (scripts/test-python.sh);
 #   3. the reservoir-simulator round trip of the written tables
 #      (scripts/test-simulator.sh: installs Debian's OPM Flow package when
 #      missing; every external call has a timeout).
@@ -10,5 +11,6 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo test --workspace --release --locked
 scripts/check-golden.sh
+timeout 3600 scripts/test-python.sh
 timeout 1200 scripts/test-simulator.sh
 echo "all tests passed"
