@@ -63,6 +63,23 @@ fn ganglion_err_ctx(context: String, e: &(dyn std::error::Error + 'static)) -> P
     GanglionError::new_err(format!("{context}\n  caused by: {}", chain(e)))
 }
 
+/// Runs `f` on a pool of `threads` worker threads, or on the global pool
+/// (as many threads as cores) for `None`. Results do not depend on the
+/// number of threads.
+fn on_threads<T: Send>(threads: Option<usize>, f: impl FnOnce() -> T + Send) -> PyResult<T> {
+    match threads {
+        None => Ok(f()),
+        Some(0) => Err(GanglionError::new_err("threads 0: must be at least 1")),
+        Some(n) => {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(n)
+                .build()
+                .map_err(|e| GanglionError::new_err(format!("could not start {n} threads: {e}")))?;
+            Ok(pool.install(f))
+        }
+    }
+}
+
 /// A network held by Python: the immutable network, its content hash, the
 /// warnings met while reading it and where it came from.
 #[pyclass(module = "ganglion._core", name = "NetworkHandle", frozen)]
@@ -458,8 +475,8 @@ struct FileOptions {
 /// resolved against `base_dir`). With `output`, writes the files of
 /// `ganglion run` there. Returns the pieces the Python side assembles.
 #[pyfunction]
-#[pyo3(signature = (kind, value, label, base_dir, network=None, progress=None, output=None, png=true, vtk=true, table_points=21, table_units="bar".to_string()))]
-#[allow(clippy::too_many_arguments)]
+#[pyo3(signature = (kind, value, label, base_dir, network=None, progress=None, output=None, png=true, vtk=true, table_points=21, table_units="bar".to_string(), threads=None))]
+#[allow(clippy::too_many_arguments)] // one per Python keyword argument
 fn run_study_raw<'py>(
     py: Python<'py>,
     kind: &str,
@@ -473,6 +490,7 @@ fn run_study_raw<'py>(
     vtk: bool,
     table_points: usize,
     table_units: String,
+    threads: Option<usize>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let files = match output {
         Some(output) => {
@@ -512,10 +530,12 @@ fn run_study_raw<'py>(
     let (net, hash, net_warnings) = py.detach(|| study_network(&source, &study, given))?;
     let reporter = PyProgress::new(progress);
     let results = py.detach(|| {
-        let mut r = run_study(&net, &study, &reporter);
-        r.network.hash = hash;
-        r
-    });
+        on_threads(threads, || {
+            let mut r = run_study(&net, &study, &reporter);
+            r.network.hash = hash;
+            r
+        })
+    })?;
     reporter.take_error()?;
     if let (Some(f), Some(units)) = (&files, units) {
         py.detach(|| -> PyResult<()> {
@@ -658,7 +678,8 @@ fn run_to_dict<'py>(
 /// writing the files of `ganglion sweep`. Returns the summary and case
 /// results as JSON text and the numbers of missing cases.
 #[pyfunction]
-#[pyo3(signature = (kind, value, label, base_dir, output, progress=None))]
+#[pyo3(signature = (kind, value, label, base_dir, output, progress=None, threads=None))]
+#[allow(clippy::too_many_arguments)] // one per Python keyword argument
 fn run_sweep_raw<'py>(
     py: Python<'py>,
     kind: &str,
@@ -667,6 +688,7 @@ fn run_sweep_raw<'py>(
     base_dir: PathBuf,
     output: PathBuf,
     progress: Option<Py<PyAny>>,
+    threads: Option<usize>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let source = Source::new(kind, value, label, base_dir)?;
     let text = source.text()?;
@@ -683,8 +705,7 @@ fn run_sweep_raw<'py>(
     let collected = py.detach(|| -> PyResult<network_core::sweep::Collected> {
         let prepared = SweepRun::prepare(&study_path, &sweep, &output)
             .map_err(|e| ganglion_err_ctx(format!("cannot prepare {}", output.display()), &e))?;
-        prepared
-            .run_unfinished(&reporter)
+        on_threads(threads, || prepared.run_unfinished(&reporter))?
             .map_err(|e| ganglion_err(&e))?;
         let c = network_core::sweep::collect(&output).map_err(|e| ganglion_err(&e))?;
         network_report::write_sweep_results(&c.summary, &c.results, &output).map_err(|e| {

@@ -15,18 +15,19 @@ from conftest import STUDIES, TINY_STUDY
 def test_progress_callback_sees_stages_in_order(tiny_study_file: Path) -> None:
     calls = []
     ganglion.run_study(tiny_study_file, progress=lambda s, d, t: calls.append((s, d, t)))
-    assert calls, "the callback was never called"
     for stage, done, total in calls:
-        assert isinstance(stage, str) and stage
-        assert isinstance(done, int) and isinstance(total, int)
-        assert total == 0 or 0 <= done <= total
-    # Within a stage the count never goes back.
-    last = {}
-    for stage, done, _ in calls:
-        if stage in last and done < last[stage]:
-            # a new stage of the same name starts again at 0
-            assert done == 0
-        last[stage] = done
+        assert isinstance(stage, str) and isinstance(done, int) and isinstance(total, int)
+        assert 0 <= done <= total
+    # Each process reports a stage that starts at 0 and finishes at its
+    # total (network_core::run::process); the three processes of the study
+    # appear in order.
+    starts = [(s, t) for s, d, t in calls if d == 0]
+    kinds = [s for s, _ in starts if s in ("drainage", "imbibition")]
+    assert kinds == ["drainage", "imbibition", "drainage"], starts
+    for stage, total in starts:
+        if total > 0:
+            assert (stage, total, total) in calls, (stage, total)
+    assert any(s == "flow solves" for s, _, _ in calls)
 
 
 def test_progress_of_generation_and_sweep(tmp_path: Path) -> None:

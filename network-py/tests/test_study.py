@@ -173,3 +173,12 @@ def test_demo_study_runs_as_the_binary(tmp_path: Path, ganglion_bin: Path) -> No
     r = ganglion.run_study(study, output=tmp_path / "py", png=False, vtk=False)
     assert tree_bytes(cli) == tree_bytes(tmp_path / "py")
     assert r.processes[0].kro is r.processes[0].krn
+
+
+def test_one_and_two_threads_give_the_same_bits(tiny_study_file: Path) -> None:
+    # DEVELOPERS.md: serial and parallel runs match bit for bit.
+    one = ganglion.run_study(tiny_study_file, threads=1)
+    two = ganglion.run_study(tiny_study_file, threads=2)
+    assert_same_results(one, two)
+    with pytest.raises(ganglion.GanglionError, match="at least 1"):
+        ganglion.run_study(tiny_study_file, threads=0)

@@ -65,3 +65,11 @@ def test_sweep_resumes_finished_cases(tmp_path: Path) -> None:
     # Nothing left to run: the sweep stage has no work.
     assert ("sweep", 0, 0) in seen
     assert {p.name: p.stat().st_mtime_ns for p in case0.iterdir()} == stamp
+
+
+def test_sweep_on_one_and_two_threads_is_the_same(tmp_path: Path) -> None:
+    study = sweep_dir(tmp_path)
+    one = ganglion.run_sweep(study, tmp_path / "one", threads=1)
+    two = ganglion.run_sweep(study, tmp_path / "two", threads=2)
+    assert one.summary == two.summary and one.cases == two.cases
+    assert tree_bytes(tmp_path / "one") == tree_bytes(tmp_path / "two")

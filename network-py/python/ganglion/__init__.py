@@ -493,6 +493,7 @@ def run_study(
     vtk: bool = True,
     table_points: int = 21,
     table_units: str = "bar",
+    threads: Optional[int] = None,
 ) -> RunResult:
     """Runs every process of a study on its network.
 
@@ -503,6 +504,9 @@ def run_study(
     files of ``ganglion run`` (byte for byte the binary's); ``png``,
     ``vtk``, ``table_points`` and ``table_units`` are the binary's
     ``--no-png``, ``--no-vtk``, ``--table-points`` and ``--table-units``.
+    ``threads`` is the number of worker threads (default: one per core);
+    results are the same bits with any number. ``base_dir`` is refused with
+    a study file, whose relative network path resolves against its folder.
     """
     _check_progress(progress)
     if network is not None and not isinstance(network, Network):
@@ -521,6 +525,7 @@ def run_study(
         vtk=bool(vtk),
         table_points=table_points,
         table_units=table_units,
+        threads=threads,
     )
     return _run_result(raw, out)
 
@@ -531,6 +536,7 @@ def run_sweep(
     *,
     base_dir: Union[str, "os.PathLike[str]", None] = None,
     progress: Optional[ProgressCallback] = None,
+    threads: Optional[int] = None,
 ) -> SweepResult:
     """Runs every case of a study's ``[sweep]`` in parallel and merges them.
 
@@ -539,12 +545,13 @@ def run_sweep(
     the cases already finished there; without it, the cases run in a
     temporary folder removed afterwards. A failed case raises
     :class:`GanglionError` after the others finished (and were kept).
+    ``threads`` is the number of cases run at once (default: one per core).
     """
     _check_progress(progress)
     kind, value, label, base = _study_source(study, base_dir)
 
     def run(folder: str) -> Dict[str, Any]:
-        return _core.run_sweep_raw(kind, value, label, base, folder, progress)
+        return _core.run_sweep_raw(kind, value, label, base, folder, progress, threads)
 
     if output is None:
         with tempfile.TemporaryDirectory(prefix="ganglion-sweep-") as tmp:

@@ -45,6 +45,7 @@ def run_study_raw(
     vtk: bool = True,
     table_points: int = 21,
     table_units: str = "bar",
+    threads: Optional[int] = None,
 ) -> Dict[str, Any]: ...
 def run_sweep_raw(
     kind: str,
@@ -53,5 +54,6 @@ def run_sweep_raw(
     base_dir: str,
     output: str,
     progress: Optional[Callable[[str, int, int], Any]] = None,
+    threads: Optional[int] = None,
 ) -> Dict[str, Any]: ...
 def version() -> str: ...
