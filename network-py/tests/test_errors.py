@@ -137,3 +137,20 @@ def test_refused_sweep_names_key(tmp_path: Path) -> None:
         ganglion.run_sweep(text, tmp_path / "sw", base_dir=tmp_path)
     assert "the sweep was refused" in str(err.value)
     assert "initial_water_saturations" in str(err.value)
+
+
+def test_run_warnings_are_python_warnings_and_the_binary_stderr(
+    tiny_study_file: Path, tmp_path: Path, ganglion_bin: Path
+) -> None:
+    # The tiny study drains to Sw near 0.015, which the input checks warn
+    # about (network_core::run::input_checks).
+    with pytest.warns(ganglion.GanglionWarning) as caught:
+        r = ganglion.run_study(tiny_study_file)
+    assert r.warnings, "the study was chosen to give a warning"
+    assert [str(w.message) for w in caught] == r.warnings
+    cli = subprocess.run(
+        [str(ganglion_bin), "--quiet", "run", str(tiny_study_file), "-o", str(tmp_path / "o")],
+        capture_output=True, text=True, timeout=600,
+    )
+    for w in r.warnings:
+        assert w in cli.stderr

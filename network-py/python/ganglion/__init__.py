@@ -28,7 +28,9 @@ against ``base_dir`` (default: the current working directory).
 
 Errors: bad input raises :class:`GanglionError` (a ``ValueError``) with the
 message the binary prints (file, line, key and value where known); an
-argument of the wrong Python type raises ``TypeError``.
+argument of the wrong Python type raises ``TypeError``. The warnings the
+binary prints on standard error are issued as :class:`GanglionWarning`
+(filter them with the ``warnings`` module) and kept on the results.
 
 Long calls release the interpreter lock. A ``progress`` callback is called
 as ``progress(stage, done, total)`` at the start and end of each stage and
@@ -42,6 +44,7 @@ from __future__ import annotations
 import json
 import os
 import tempfile
+import warnings as _warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable, Dict, List, Mapping, Optional, Tuple, Union
@@ -53,6 +56,7 @@ from ._core import GanglionError
 
 __all__ = [
     "GanglionError",
+    "GanglionWarning",
     "Network",
     "ProcessCurve",
     "EndState",
@@ -68,6 +72,18 @@ __all__ = [
 ]
 
 __version__: str = _core.version()
+
+
+class GanglionWarning(UserWarning):
+    """An input that probably does not say what was meant, a model limit, or
+    a suspicious feature of the network files: the warnings the binary
+    prints on standard error. They are also kept on the results
+    (``RunResult.warnings``, ``Network.warnings``)."""
+
+
+def _emit(messages: List[str]) -> None:
+    for m in messages:
+        _warnings.warn(m, GanglionWarning, stacklevel=3)
 
 #: ``progress(stage, done, total)``.
 ProgressCallback = Callable[[str, int, int], Any]
@@ -213,7 +229,9 @@ def load_network(path: Union[str, "os.PathLike[str]"]) -> Network:
     """
     if not isinstance(path, (str, os.PathLike)):
         raise TypeError(f"path must be str or os.PathLike, not {type(path).__name__}")
-    return Network(_core.load_network(os.fspath(path)))
+    net = Network(_core.load_network(os.fspath(path)))
+    _emit(net.warnings)
+    return net
 
 
 def generate_network(
@@ -527,7 +545,10 @@ def run_study(
         table_units=table_units,
         threads=threads,
     )
-    return _run_result(raw, out)
+    result = _run_result(raw, out)
+    _emit(result.network_warnings if network is None else [])
+    _emit(result.warnings)
+    return result
 
 
 def run_sweep(
