@@ -246,7 +246,7 @@ fn generate_network(
 /// text, naming the dotted key of any value that has no TOML form.
 #[pyfunction]
 fn dict_to_toml(obj: &Bound<'_, PyAny>) -> PyResult<String> {
-    let table = match to_toml(obj, "")? {
+    let table = match to_toml(obj, "", 0)? {
         toml::Value::Table(t) => t,
         _ => {
             return Err(PyTypeError::new_err(
@@ -258,7 +258,18 @@ fn dict_to_toml(obj: &Bound<'_, PyAny>) -> PyResult<String> {
         .map_err(|e| GanglionError::new_err(format!("cannot write the dict as TOML: {e}")))
 }
 
-fn to_toml(obj: &Bound<'_, PyAny>, key: &str) -> PyResult<toml::Value> {
+/// Deepest nesting of tables and lists a dict may have (a study has three
+/// levels); deeper (or self-containing) input is refused instead of
+/// recursing without end.
+const MAX_DEPTH: usize = 32;
+
+fn to_toml(obj: &Bound<'_, PyAny>, key: &str, depth: usize) -> PyResult<toml::Value> {
+    if depth > MAX_DEPTH {
+        return Err(GanglionError::new_err(format!(
+            "key `{key}`: nested more than {MAX_DEPTH} levels deep (does a dict or list \
+             contain itself?)"
+        )));
+    }
     let at = |k: &str| {
         if key.is_empty() {
             k.to_string()
@@ -297,14 +308,14 @@ fn to_toml(obj: &Bound<'_, PyAny>, key: &str) -> PyResult<toml::Value> {
                 // missing key does.
                 continue;
             }
-            t.insert(ks, to_toml(&v, &child)?);
+            t.insert(ks, to_toml(&v, &child, depth + 1)?);
         }
         return Ok(toml::Value::Table(t));
     }
     if obj.is_instance_of::<PyList>() || obj.is_instance_of::<PyTuple>() {
         let mut items = Vec::new();
         for (i, v) in obj.try_iter()?.enumerate() {
-            items.push(to_toml(&v?, &format!("{key}[{i}]"))?);
+            items.push(to_toml(&v?, &format!("{key}[{i}]"), depth + 1)?);
         }
         return Ok(toml::Value::Array(items));
     }

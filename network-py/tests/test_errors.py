@@ -154,3 +154,27 @@ def test_run_warnings_are_python_warnings_and_the_binary_stderr(
     )
     for w in r.warnings:
         assert w in cli.stderr
+
+
+def test_self_containing_dict_is_refused_not_a_crash() -> None:
+    d = dict(TINY_DICT)
+    loop: dict = {}
+    loop["again"] = loop
+    d["fluids"] = loop
+    with pytest.raises(ganglion.GanglionError, match="contain itself"):
+        ganglion.run_study(d)
+    items: list = []
+    items.append(items)
+    with pytest.raises(ganglion.GanglionError, match="nested more than"):
+        ganglion.run_study({**TINY_DICT, "seed": items})
+
+
+def test_numpy_numbers_in_a_dict_are_numbers() -> None:
+    import numpy as np
+
+    d = {**TINY_DICT, "seed": np.int64(5),
+         "fluids": {"interfacial_tension_n_per_m": np.float64(0.030), "nonaqueous_label": "oil"}}
+    assert ganglion.study_to_toml(d) == ganglion.study_to_toml(TINY_DICT)
+    bad = {**TINY_DICT, "seed": np.array([1, 2])}
+    with pytest.raises(ganglion.GanglionError, match="seed"):
+        ganglion.run_study(bad)
