@@ -47,7 +47,7 @@ fi
 timeout 3600 cargo build --release --locked -p network-cli
 wheels=$target/wheels
 rm -f "$wheels"/ganglion-*.whl
-timeout 3600 "$venv/bin/maturin" build --release --locked --quiet \
+timeout 3600 "$venv/bin/maturin" build --release --locked --strip --quiet \
   --manifest-path network-py/Cargo.toml --interpreter "$py" --out "$wheels"
 timeout 600 "$py" -m pip install --quiet --disable-pip-version-check \
   --force-reinstall --no-deps "$wheels"/ganglion-*.whl
