@@ -8,7 +8,9 @@ Runs, alternating so that the machine's load falls on both alike,
 `ganglion --quiet run STUDY -o DIR` as a subprocess (as a user calls it) and
 `ganglion.run_study(STUDY, output=DIR)` in this process, N times each (after
 one untimed warm-up of each), and prints the median wall time of each and
-their ratio. Both write the same files (the tests check they are byte for
+their ratio, and the same for CPU time (user + system, all threads: the
+child's rusage for the binary, process_time for the call), which the load of
+a shared machine disturbs less than wall time. Both write the same files (the tests check they are byte for
 byte equal). Also timed: the Python call without writing files, which is
 what a notebook loop over parameters pays. Default study:
 studies/kestrel-waterflood.toml (8000 pores, three processes with kr).
@@ -18,10 +20,12 @@ from __future__ import annotations
 
 import argparse
 import os
+import resource
 import statistics
 import subprocess
 import tempfile
 import time
+import warnings
 from pathlib import Path
 
 import ganglion
@@ -39,35 +43,53 @@ def main() -> None:
     study = Path(a.study)
 
     cli, py_files, py_only = [], [], []
+    cpu_cli, cpu_py, cpu_only = [], [], []
     with tempfile.TemporaryDirectory(prefix="ganglion-overhead-") as tmp:
         out_cli, out_py = Path(tmp) / "cli", Path(tmp) / "py"
 
-        def run_cli() -> float:
-            t = time.perf_counter()
+        def children_cpu() -> float:
+            r = resource.getrusage(resource.RUSAGE_CHILDREN)
+            return r.ru_utime + r.ru_stime
+
+        def run_cli() -> tuple:
+            c, t = children_cpu(), time.perf_counter()
             subprocess.run(
                 [a.bin, "--quiet", "run", str(study), "-o", str(out_cli)],
-                check=True, stdout=subprocess.DEVNULL, timeout=3600,
+                check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, timeout=3600,
             )
-            return time.perf_counter() - t
+            return time.perf_counter() - t, children_cpu() - c
 
-        def run_py(output: Path | None) -> float:
-            t = time.perf_counter()
-            ganglion.run_study(study, output=output)
-            return time.perf_counter() - t
+        def run_py(output: Path | None) -> tuple:
+            c, t = time.process_time(), time.perf_counter()
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")
+                ganglion.run_study(study, output=output)
+            return time.perf_counter() - t, time.process_time() - c
 
         run_cli(), run_py(out_py)  # warm-up: page cache, thread pool
         for _ in range(a.repeats):
-            cli.append(run_cli())
-            py_files.append(run_py(out_py))
-            py_only.append(run_py(None))
+            for (wall, cpu), w, c in (
+                (run_cli(), cli, cpu_cli),
+                (run_py(out_py), py_files, cpu_py),
+                (run_py(None), py_only, cpu_only),
+            ):
+                w.append(wall)
+                c.append(cpu)
 
-    m_cli, m_py, m_only = (statistics.median(x) for x in (cli, py_files, py_only))
-    print(f"study {study} ({a.repeats} repeats each, medians; {os.cpu_count()} cores)")
-    print(f"  ganglion run (subprocess, files)   {m_cli:8.3f} s   [{min(cli):.3f}-{max(cli):.3f}]")
-    print(f"  ganglion.run_study(output=...)     {m_py:8.3f} s   [{min(py_files):.3f}-{max(py_files):.3f}]")
-    print(f"  ganglion.run_study() (no files)    {m_only:8.3f} s   [{min(py_only):.3f}-{max(py_only):.3f}]")
-    print(f"  ratio Python/binary, same files    {m_py / m_cli:8.3f}")
-    print(f"  ratio Python no files/binary       {m_only / m_cli:8.3f}")
+    med = statistics.median
+    print(f"study {study} ({a.repeats} repeats each; {os.cpu_count()} cores, "
+          f"load average {os.getloadavg()[0]:.1f})")
+    print("                                     wall median [min-max]        CPU median")
+    for name, w, c in (
+        ("ganglion run (subprocess, files)", cli, cpu_cli),
+        ("ganglion.run_study(output=...)", py_files, cpu_py),
+        ("ganglion.run_study() (no files)", py_only, cpu_only),
+    ):
+        print(f"  {name:<34} {med(w):7.3f} s [{min(w):.3f}-{max(w):.3f}]   {med(c):7.3f} s")
+    print(f"  ratio Python/binary, same files:  wall {med(py_files) / med(cli):.3f} "
+          f"(minima {min(py_files) / min(cli):.3f}), CPU {med(cpu_py) / med(cpu_cli):.3f}")
+    print(f"  ratio Python no files/binary:     wall {med(py_only) / med(cli):.3f} "
+          f"(minima {min(py_only) / min(cli):.3f}), CPU {med(cpu_only) / med(cpu_cli):.3f}")
 
 
 if __name__ == "__main__":
