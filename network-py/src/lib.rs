@@ -448,15 +448,8 @@ impl Source {
     }
 }
 
-/// The network of a study (or the one given), with its hash and warnings.
-fn study_network(
-    source: &Source,
-    study: &Study,
-    given: Option<&NetworkHandle>,
-) -> PyResult<(Network, String, Vec<String>)> {
-    if let Some(n) = given {
-        return Ok((n.network.clone(), n.hash.clone(), n.warnings.clone()));
-    }
+/// The network of a study, with its hash and warnings.
+fn study_network(source: &Source, study: &Study) -> PyResult<(Network, String, Vec<String>)> {
     match io::study::study_network(&source.study_path(), study, 0) {
         Ok(n) => Ok((n.network, n.hash, n.warnings)),
         Err(mut e) => {
@@ -537,12 +530,19 @@ fn run_study_raw<'py>(
     let study = py
         .detach(|| source.read_study())
         .map_err(|e| ganglion_err(&e))?;
-    let given = network.as_deref();
-    let (net, hash, net_warnings) = py.detach(|| study_network(&source, &study, given))?;
+    // A network given from Python is borrowed, not copied.
+    let loaded;
+    let (net, hash, net_warnings): (&Network, String, Vec<String>) = match network.as_deref() {
+        Some(n) => (&n.network, n.hash.clone(), n.warnings.clone()),
+        None => {
+            loaded = py.detach(|| study_network(&source, &study))?;
+            (&loaded.0, loaded.1.clone(), loaded.2.clone())
+        }
+    };
     let reporter = PyProgress::new(progress);
     let results = py.detach(|| {
         on_threads(threads, || {
-            let mut r = run_study(&net, &study, &reporter);
+            let mut r = run_study(net, &study, &reporter);
             r.network.hash = hash;
             r
         })
@@ -562,7 +562,7 @@ fn run_study_raw<'py>(
                 table_points: f.table_points,
                 table_units: units,
             };
-            network_report::write_run_artifacts(&results, &net, &f.output, &opts).map_err(|e| {
+            network_report::write_run_artifacts(&results, net, &f.output, &opts).map_err(|e| {
                 ganglion_err_ctx(
                     format!("cannot write the report files to {}", f.output.display()),
                     &e,
@@ -571,7 +571,7 @@ fn run_study_raw<'py>(
             Ok(())
         })?;
     }
-    run_to_dict(py, &results, &net, net_warnings)
+    run_to_dict(py, &results, net, net_warnings)
 }
 
 fn f64s<'py>(py: Python<'py>, v: Vec<f64>) -> Bound<'py, PyArray1<f64>> {
