@@ -7,10 +7,11 @@
 # 1. Creates (once) a virtual environment in $GANGLION_PY_VENV, default
 #    $CARGO_TARGET_DIR/py-venv (target/py-venv), with python3 (Debian needs
 #    python3-venv: installed with apt-get when missing and run as root).
-# 2. Installs maturin, numpy and pytest there from PyPI when missing.
+# 2. Installs maturin, numpy, pytest and mypy there from PyPI when missing.
 # 3. Builds the `ganglion` binary (the tests compare against it) and the
 #    wheel (`maturin build --release --locked`, abi3: CPython 3.9 and later),
-#    installs the wheel and runs pytest on network-py/tests.
+#    installs the wheel, checks the package's types and stubs with
+#    `mypy --strict` and runs pytest on network-py/tests.
 # Every external call has a timeout; the script can be run again and reuses
 # what is there. Honours CARGO_TARGET_DIR.
 set -euo pipefail
@@ -39,9 +40,9 @@ if ! [ -x "$venv/bin/python" ] || ! "$venv/bin/python" -c 'import sys' >/dev/nul
 fi
 py=$venv/bin/python
 
-if ! "$py" -c 'import numpy, pytest' >/dev/null 2>&1 || ! [ -x "$venv/bin/maturin" ]; then
+if ! "$py" -c 'import numpy, pytest, mypy' >/dev/null 2>&1 || ! [ -x "$venv/bin/maturin" ]; then
   timeout 900 "$py" -m pip install --quiet --disable-pip-version-check \
-    "maturin>=1.5,<2" "numpy>=1.21" "pytest>=7"
+    "maturin>=1.5,<2" "numpy>=1.21" "pytest>=7" "mypy>=1.0"
 fi
 
 timeout 3600 cargo build --release --locked -p network-cli
@@ -55,4 +56,5 @@ timeout 600 "$py" -m pip install --quiet --disable-pip-version-check \
 export GANGLION_BIN=$target/release/ganglion
 export GANGLION_ROOT=$root
 cd "$root/network-py"
+timeout 600 "$py" -m mypy --strict --no-incremental python/ganglion examples/quickstart.py
 timeout 1800 "$py" -m pytest -q -p no:cacheprovider tests "$@"

@@ -33,7 +33,7 @@ study = {
 }
 
 
-def show(stage, done, total):
+def show(stage: str, done: int, total: int) -> None:
     if done == total:
         print(f"  {stage} done")
 

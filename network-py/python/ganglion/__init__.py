@@ -192,7 +192,8 @@ class Network:
         radius / shape-factor / volume statistics of pores and throats (SI
         units) and the reading warnings.
         """
-        return json.loads(self._handle.inspect_json())
+        report: Dict[str, Any] = json.loads(self._handle.inspect_json())
+        return report
 
     def pores(self) -> Dict[str, Any]:
         """Pore columns: ``x_m``, ``y_m``, ``z_m``, ``radius_m``,
