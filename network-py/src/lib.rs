@@ -152,7 +152,8 @@ impl NetworkHandle {
         ] {
             d.set_item(k, PyArray1::from_slice(py, v))?;
         }
-        let boundary: Vec<String> = p.boundary.iter().map(|b| format!("{b:?}")).collect();
+        // As in pores.csv: "inlet", "outlet" or "" (interior).
+        let boundary: Vec<&str> = p.boundary.iter().map(|b| b.as_str()).collect();
         d.set_item("boundary", boundary)?;
         Ok(d)
     }

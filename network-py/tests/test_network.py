@@ -76,6 +76,11 @@ def test_columns_are_numpy_arrays_of_the_network_size() -> None:
         assert throats[k].dtype == np.float64 and throats[k].shape == (net.n_throats,), k
     assert throats["pore_1"].dtype == np.int64
     assert len(pores["boundary"]) == net.n_pores
+    # The faces are those counted by inspect.
+    report0 = net.inspect()
+    assert pores["boundary"].count("inlet") == report0["inlet_pores"]
+    assert pores["boundary"].count("outlet") == report0["outlet_pores"]
+    assert set(pores["boundary"]) <= {"inlet", "outlet", ""}
     # The columns are the report's: same extremes as inspect.
     report = net.inspect()
     assert pores["radius_m"].min() == report["pore_stats"]["radius_m"]["min"]

@@ -198,7 +198,8 @@ class Network:
     def pores(self) -> Dict[str, Any]:
         """Pore columns: ``x_m``, ``y_m``, ``z_m``, ``radius_m``,
         ``shape_factor``, ``volume_m3``, ``clay_volume_m3`` (float64 arrays)
-        and ``boundary`` (list of str), ready for ``pandas.DataFrame``."""
+        and ``boundary`` (list of str, as in ``pores.csv``: ``"inlet"``,
+        ``"outlet"`` or ``""``), ready for ``pandas.DataFrame``."""
         return self._handle.pore_columns()
 
     def throats(self) -> Dict[str, np.ndarray]:
