@@ -713,6 +713,15 @@ fn run_sweep_raw<'py>(
         GanglionError::new_err(format!("the sweep was refused:\n  {}", lines.join("\n  ")))
     })?;
     let study_path = source.study_path();
+    // For a study given as text or a dict, the cases would name their
+    // network's folder as that of a study file; check the first case's
+    // network here, where the message can say it came from base_dir.
+    if matches!(source, Source::Text { .. })
+        && let Some(first) = sweep.cases().first()
+    {
+        let study = first.study();
+        py.detach(|| study_network(&source, &study).map(|_| ()))?;
+    }
     let reporter = PyProgress::new(progress);
     let collected = py.detach(|| -> PyResult<network_core::sweep::Collected> {
         let prepared = SweepRun::prepare(&study_path, &sweep, &output)

@@ -178,3 +178,14 @@ def test_numpy_numbers_in_a_dict_are_numbers() -> None:
     bad = {**TINY_DICT, "seed": np.array([1, 2])}
     with pytest.raises(ganglion.GanglionError, match="seed"):
         ganglion.run_study(bad)
+
+
+def test_sweep_text_with_a_bad_network_path_names_base_dir(tmp_path: Path) -> None:
+    text = TINY_STUDY.replace('network = "tiny-lattice"', 'network = "gone"') + (
+        "\n[sweep]\ninitial_water_saturations = [0.5]\n"
+    )
+    with pytest.raises(ganglion.GanglionError) as err:
+        ganglion.run_sweep(text, tmp_path / "sw", base_dir=tmp_path)
+    msg = str(err.value)
+    assert "gone" in msg and "base_dir" in msg and str(tmp_path) in msg, msg
+    assert "<study text>:2" in msg, msg
