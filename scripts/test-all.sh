@@ -2,6 +2,7 @@
 # Every test of the project, in one command (the README's test command):
 #   1. the Rust tests of the workspace (unit, integration, CLI, report);
 #   2. the demo-output guard (byte-for-byte comparison with recorded sums);
+#   2b. the Python package's pytest suite (scripts/test-python.sh);
 #   3. the reservoir-simulator round trip of the written tables, water-oil
 #      (Kestrel) and gas-water (Saltmere CO2)
 #      (scripts/test-simulator.sh: installs Debian's OPM Flow package when
@@ -13,6 +14,7 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo test --workspace --release --locked
 scripts/check-golden.sh
+timeout 1800 scripts/test-python.sh
 timeout 1200 scripts/test-simulator.sh
 timeout 1200 scripts/test-simulator.sh studies/saltmere-co2-storage.toml
 timeout 1500 scripts/test-vtk-reader.sh

@@ -78,5 +78,5 @@ pub use html::run_report;
 pub use run_files::write_run_results;
 pub use saturation_tables::from_run::saturation_tables;
 pub use sweep_files::write_sweep_results;
-pub use sweep_report::{sweep_figures, sweep_report, write_sweep_artifacts};
+pub use sweep_report::{sweep_figures, sweep_report, sweep_title, write_sweep_artifacts};
 pub use vtk::write_vtp;

@@ -105,10 +105,7 @@ fn collect_into(out: &Path, progress: &Bars) -> Result<()> {
     } = sweep::collect(out)?;
     network_report::write_sweep_results(&summary, &results, out)
         .with_context(|| format!("cannot write the sweep results to {}", out.display()))?;
-    let title = results
-        .first()
-        .and_then(|r| r.case.study().title)
-        .unwrap_or_else(|| "Ganglion sweep".to_string());
+    let title = network_report::sweep_title(&results);
     network_report::write_sweep_artifacts(&title, &summary, &results, out, true)
         .with_context(|| format!("cannot write the sweep report to {}", out.display()))?;
     if !missing.is_empty() {
