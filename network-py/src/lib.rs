@@ -471,6 +471,7 @@ struct FileOptions {
     output: PathBuf,
     png: bool,
     vtk: bool,
+    vtk_ascii: bool,
     table_points: usize,
     table_units: String,
 }
@@ -480,7 +481,7 @@ struct FileOptions {
 /// resolved against `base_dir`). With `output`, writes the files of
 /// `ganglion run` there. Returns the pieces the Python side assembles.
 #[pyfunction]
-#[pyo3(signature = (kind, value, label, base_dir, network=None, progress=None, output=None, png=true, vtk=true, table_points=21, table_units="bar".to_string(), threads=None))]
+#[pyo3(signature = (kind, value, label, base_dir, network=None, progress=None, output=None, png=true, vtk=true, vtk_ascii=false, table_points=21, table_units="bar".to_string(), threads=None))]
 #[allow(clippy::too_many_arguments)] // one per Python keyword argument
 fn run_study_raw<'py>(
     py: Python<'py>,
@@ -493,6 +494,7 @@ fn run_study_raw<'py>(
     output: Option<PathBuf>,
     png: bool,
     vtk: bool,
+    vtk_ascii: bool,
     table_points: usize,
     table_units: String,
     threads: Option<usize>,
@@ -508,6 +510,7 @@ fn run_study_raw<'py>(
                 output,
                 png,
                 vtk,
+                vtk_ascii,
                 table_points,
                 table_units,
             })
@@ -560,6 +563,11 @@ fn run_study_raw<'py>(
             let opts = network_report::ArtifactOptions {
                 png: f.png,
                 vtk: f.vtk,
+                vtk_encoding: if f.vtk_ascii {
+                    network_report::vtk::VtkEncoding::Ascii
+                } else {
+                    network_report::vtk::VtkEncoding::Binary
+                },
                 table_points: f.table_points,
                 table_units: units,
             };

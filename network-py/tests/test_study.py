@@ -159,6 +159,20 @@ def test_output_options_are_the_binary_flags(
     assert not any(n.endswith(".png") or n.endswith(".vtp") for n in tree_bytes(py))
 
 
+def test_vtk_ascii_is_the_binary_flag(
+    tiny_study_file: Path, tmp_path: Path, ganglion_bin: Path
+) -> None:
+    cli = tmp_path / "cli"
+    py = tmp_path / "py"
+    run_cli(ganglion_bin, "run", str(tiny_study_file), "-o", str(cli), "--no-png", "--vtk-ascii")
+    ganglion.run_study(tiny_study_file, output=py, png=False, vtk_ascii=True)
+    a, b = tree_bytes(cli), tree_bytes(py)
+    assert a == b
+    vtps = [n for n in b if n.endswith(".vtp")]
+    assert vtps and all(b'format="ascii"' in b[n] for n in vtps)
+    assert not any(b"<AppendedData" in b[n] for n in vtps)
+
+
 def test_summary_equals_the_written_summary_json(tiny_study_file: Path, tmp_path: Path) -> None:
     import json
 

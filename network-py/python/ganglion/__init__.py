@@ -511,6 +511,7 @@ def run_study(
     progress: Optional[ProgressCallback] = None,
     png: bool = True,
     vtk: bool = True,
+    vtk_ascii: bool = False,
     table_points: int = 21,
     table_units: str = "bar",
     threads: Optional[int] = None,
@@ -522,8 +523,9 @@ def run_study(
     ``network`` replaces the study's network by one already loaded (its
     hash is echoed in the results). With ``output``, the folder receives the
     files of ``ganglion run`` (byte for byte the binary's); ``png``,
-    ``vtk``, ``table_points`` and ``table_units`` are the binary's
-    ``--no-png``, ``--no-vtk``, ``--table-points`` and ``--table-units``.
+    ``vtk``, ``vtk_ascii``, ``table_points`` and ``table_units`` are the
+    binary's ``--no-png``, ``--no-vtk``, ``--vtk-ascii``, ``--table-points``
+    and ``--table-units``.
     ``threads`` is the number of worker threads (default: one per core);
     results are the same bits with any number. ``base_dir`` is refused with
     a study file, whose relative network path resolves against its folder.
@@ -543,6 +545,7 @@ def run_study(
         output=None if out is None else os.fspath(out),
         png=bool(png),
         vtk=bool(vtk),
+        vtk_ascii=bool(vtk_ascii),
         table_points=table_points,
         table_units=table_units,
         threads=threads,

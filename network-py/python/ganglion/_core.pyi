@@ -43,6 +43,7 @@ def run_study_raw(
     output: Optional[str] = None,
     png: bool = True,
     vtk: bool = True,
+    vtk_ascii: bool = False,
     table_points: int = 21,
     table_units: str = "bar",
     threads: Optional[int] = None,
