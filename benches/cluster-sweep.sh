@@ -9,6 +9,9 @@
 # saturations × 8 realisations = 64 cases. Timed, from start to merged
 # results:
 #   - local: `ganglion sweep` (every core of the machine);
+#   - local, one `ganglion sweep --case K` process per case, as many at
+#     once as there are cores, then `collect`: the cost of a process per
+#     case without the scheduler;
 #   - cluster, K cases per job: `batch-script --cases-per-job K`, submit.sh,
 #     until the merge job (`collect`) has ended; one core per array task,
 #     so the one node runs as many tasks at once as it has cores.
@@ -44,11 +47,23 @@ n_cases=$(timeout 60 "$bin" sweep "$work/study.toml" -o "$work/local" --count-ca
 
 slurm_start "$work/slurm"
 now() { date +%s.%N; }
+calc() { awk "BEGIN { print $1 }"; }
 
 t0=$(now)
 timeout 1200 "$bin" -q sweep "$work/study.toml" -o "$work/local" >/dev/null 2>&1
-local_s=$(echo "$(now) - $t0" | bc)
-printf '%-34s %8.1f s\n' "local sweep ($cores threads)" "$local_s"
+local_s=$(calc "$(now) - $t0")
+printf '%-40s %8.1f s\n' "local sweep ($cores threads)" "$local_s"
+
+# Without the scheduler: one process per case, $cores at a time, then
+# collect (what a job costs beyond the scheduler: start, case list, network).
+t0=$(now)
+seq 0 $((n_cases - 1)) | timeout 1200 xargs -P "$cores" -I{} \
+  "$bin" -q --threads 1 sweep "$work/study.toml" -o "$work/processes" --case {} >/dev/null 2>&1
+timeout 300 "$bin" -q collect "$work/processes" >/dev/null 2>&1
+procs_s=$(calc "$(now) - $t0")
+printf '%-40s %8.1f s   extra per process %.2f s (per core)\n' \
+  "local: $n_cases processes x 1 case + collect" "$procs_s" \
+  "$(calc "($procs_s - $local_s) / $n_cases * $cores")"
 
 for k in "${groupings[@]}"; do
   out=$work/cluster-$k
@@ -62,13 +77,13 @@ for k in "${groupings[@]}"; do
   n_jobs=$((n_jobs + 1))
   slurm_wait_job "$array_id" 1200
   slurm_wait_job "$merge_id" 300
-  wall=$(echo "$(now) - $t0" | bc)
+  wall=$(calc "$(now) - $t0")
   if ! diff -r --exclude=batch -q "$work/local" "$out" >/dev/null; then
     echo "bench: the cluster results with $k case(s) per job differ from the local sweep" >&2
     exit 1
   fi
-  per_job=$(echo "($wall - $local_s) / $n_jobs * $cores" | bc -l)
-  printf '%-34s %8.1f s   extra per job %.2f s (per core)\n' \
+  per_job=$(calc "($wall - $local_s) / $n_jobs * $cores")
+  printf '%-40s %8.1f s   extra per job %.2f s (per core)\n' \
     "cluster: $n_jobs jobs x $k case(s) + merge" "$wall" "$per_job"
 done
 echo "results identical to the local sweep, byte for byte"
