@@ -18,6 +18,10 @@
 #    file of the two output folders byte for byte (case files, case list,
 #    summary.json, cases.csv, trapping-curve.csv, figures, report.html);
 #    only the cluster's batch/ folder (scripts and job logs) is left out.
+# 5. A failed task (planted: a wrapper of the binary that fails in task 1
+#    of 4): the merge job is cancelled, `collect` exits 1 naming the missing
+#    cases 4-7, and a second submission redoes only those, ending byte for
+#    byte equal to the local sweep.
 #
 # Prints "N passed, M failed"; exit 0 when all passed, 1 on a failed check,
 # 2 when the scheduler cannot be found or installed. Every daemon started
@@ -93,6 +97,49 @@ check "$compared result files identical to a local sweep, byte for byte" \
   diff -r --exclude=batch "$work/local" "$work/cluster"
 check "the same set of case files ($n_cases)" \
   test "$(ls "$work/cluster/cases" | wc -l)" -eq "$n_cases"
+
+# A failed task: a ganglion that fails in task 1 of 4 (cases 4-7 of the
+# 16), planted through --ganglion. The merge job must be cancelled, collect
+# must name the missing cases, and a second submission with the real
+# binary must redo only those and end with the same files.
+retry=$work/retry
+printf '#!/bin/sh\ncase " $* " in *" --shard 1/4 "*) echo "planted failure of task 1" >&2; exit 3 ;; esac\nexec %s "$@"\n' \
+  "'$bin'" >"$work/failing-ganglion"
+chmod +x "$work/failing-ganglion"
+timeout 60 "$bin" -q batch-script "$study" -o "$retry" --cases-per-job 4 \
+  --time 00:10:00 --job-name ganglion-retry --ganglion "$work/failing-ganglion" >/dev/null
+submitted=$(timeout 60 sh "$retry/batch/submit.sh")
+array_id=$(echo "$submitted" | sed -n 's/^array job \([0-9]*\) .*/\1/p')
+merge_id=$(echo "$submitted" | sed -n 's/.*merge job \([0-9]*\)$/\1/p')
+array_states=$(slurm_wait_ended "$array_id" 240 || true)
+merge_states=$(slurm_wait_ended "$merge_id" 180 || true)
+echo "cluster: planted failure: tasks" $array_states "; merge" $merge_states
+check "the planted failure failed one task of four and no other" \
+  test "$(echo "$array_states" | grep -c ' FAILED$')" -eq 1 \
+  -a "$(echo "$array_states" | grep -c ' COMPLETED$')" -eq 3
+check "the merge job was cancelled, not run" \
+  test "$(echo "$merge_states" | awk '{print $2}')" = CANCELLED -a ! -e "$retry/summary.json"
+set +e
+collected=$(timeout 120 "$bin" -q collect "$retry" 2>&1)
+status=$?
+set -e
+echo "cluster: collect said: $collected"
+check "collect exits 1 and names the missing cases 4-7" \
+  test "$status" -eq 1 -a -n "$(echo "$collected" | grep -F "4 of $n_cases cases missing in" | grep -F ': 4-7 ')"
+before=$(stat -c %y "$retry/cases/case-00000.json")
+timeout 60 "$bin" -q batch-script "$study" -o "$retry" --cases-per-job 4 \
+  --time 00:10:00 --job-name ganglion-retry >/dev/null
+submitted=$(timeout 60 sh "$retry/batch/submit.sh")
+array_id=$(echo "$submitted" | sed -n 's/^array job \([0-9]*\) .*/\1/p')
+merge_id=$(echo "$submitted" | sed -n 's/.*merge job \([0-9]*\)$/\1/p')
+ok=true
+slurm_wait_job "$array_id" 240 || ok=false
+$ok && { slurm_wait_job "$merge_id" 120 || ok=false; }
+check "the second submission ran to completion" $ok
+check "the second submission kept the finished cases" \
+  test "$before" = "$(stat -c %y "$retry/cases/case-00000.json")"
+check "after the second submission, identical to a local sweep, byte for byte" \
+  diff -r --exclude=batch "$work/local" "$retry"
 
 echo "cluster test: $(( $(date +%s) - start )) s in all"
 echo "$passed passed, $failed failed"

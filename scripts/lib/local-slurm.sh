@@ -10,9 +10,10 @@
 #                            until the node takes jobs; exports SLURM_CONF
 #   slurm_stop               stops the daemons slurm_start started, by PID
 #                            (call it from an EXIT trap)
-#   slurm_wait_job ID SECS   waits until job ID (and every task of an array)
-#                            has left the queue; prints its end states and
-#                            fails when one is not COMPLETED or on timeout
+#   slurm_wait_ended ID SECS waits until job ID (and every task of an array)
+#                            has left the queue and prints their end states;
+#                            fails on timeout
+#   slurm_wait_job ID SECS   the same, and fails when a state is not COMPLETED
 #
 # Every external call runs under `timeout`; every wait is bounded. Daemon
 # logs stay in DIR (printed by slurm_logs when something fails).
@@ -163,17 +164,15 @@ slurm_job_states() {
     | sed -n 's/^JobId=\([0-9]*\) .* JobState=\([A-Z_]*\) .*/\1 \2/p'
 }
 
-slurm_wait_job() {
+# Waits until job ID (every task of an array) has left the queue; prints
+# its end states ("ID STATE" lines) on stdout; fails on timeout.
+slurm_wait_ended() {
   local id=$1 limit=$2 start states
   start=$(date +%s)
   while :; do
     states=$(slurm_job_states "$id")
-    if [ -n "$states" ] && ! echo "$states" | grep -qE ' (PENDING|RUNNING|CONFIGURING|COMPLETING|SUSPENDED|REQUEUED)'; then
-      if echo "$states" | grep -vq ' COMPLETED$'; then
-        echo "slurm: job $id ended badly:" >&2
-        echo "$states" >&2
-        return 1
-      fi
+    if [ -n "$states" ] && ! echo "$states" | grep -qE ' (PENDING|RUNNING|CONFIGURING|COMPLETING|SUSPENDED|REQUEUED|RESIZING|SIGNALING|STAGE_OUT)$'; then
+      echo "$states"
       return 0
     fi
     if [ $(( $(date +%s) - start )) -ge "$limit" ]; then
@@ -183,4 +182,14 @@ slurm_wait_job() {
     fi
     sleep 0.5
   done
+}
+
+slurm_wait_job() {
+  local states
+  states=$(slurm_wait_ended "$1" "$2") || return 1
+  if echo "$states" | grep -vq ' COMPLETED$'; then
+    echo "slurm: job $1 ended badly:" >&2
+    echo "$states" >&2
+    return 1
+  fi
 }
