@@ -3,7 +3,7 @@
 # sweep run locally in parallel: the scheduler's cost per job, and how
 # grouping cases into fewer jobs amortises it.
 #
-#   benches/cluster-sweep.sh [CASES_PER_JOB ...]      (default: 1 8)
+#   [REPEATS=3] benches/cluster-sweep.sh [CASES_PER_JOB ...]   (default: 1 8)
 #
 # The sweep: the Kestrel trapping demo (8000 pores) with 8 initial water
 # saturations × 8 realisations = 64 cases. Timed, from start to merged
@@ -15,10 +15,12 @@
 #   - cluster, K cases per job: `batch-script --cases-per-job K`, submit.sh,
 #     until the merge job (`collect`) has ended; one core per array task,
 #     so the one node runs as many tasks at once as it has cores.
-# Each cluster result is checked byte for byte against the local one.
-# Prints one line per configuration and the extra wall time per job:
-#   (cluster wall time − local wall time) / number of jobs × cores,
-# the time a job costs beyond its cases, per core. The node's cluster is
+# Each result is checked byte for byte against the local one. Every
+# configuration runs REPEATS times, taking turns; the medians are printed,
+# one line per configuration, with the scheduler's cost per job:
+#   (cluster wall time − wall time of one process per case) / jobs × cores,
+# the time a job costs beyond running its cases, per core (the merge job
+# and the dependency's wait are included, spread over the jobs). The node's cluster is
 # started by scripts/lib/local-slurm.sh (installs slurm-wlm and munge
 # when missing; stops its daemons on exit). Note the machine's load: the
 # figures are wall times.
@@ -26,6 +28,7 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 groupings=("$@")
 [ ${#groupings[@]} -gt 0 ] || groupings=(1 8)
+repeats=${REPEATS:-3}
 # shellcheck source=../scripts/lib/local-slurm.sh
 source scripts/lib/local-slurm.sh
 
@@ -49,41 +52,63 @@ slurm_start "$work/slurm"
 now() { date +%s.%N; }
 calc() { awk "BEGIN { print $1 }"; }
 
-t0=$(now)
-timeout 1200 "$bin" -q sweep "$work/study.toml" -o "$work/local" >/dev/null 2>&1
-local_s=$(calc "$(now) - $t0")
-printf '%-40s %8.1f s\n' "local sweep ($cores threads)" "$local_s"
-
-# Without the scheduler: one process per case, $cores at a time, then
-# collect (what a job costs beyond the scheduler: start, case list, network).
-t0=$(now)
-seq 0 $((n_cases - 1)) | timeout 1200 xargs -P "$cores" -I{} \
-  "$bin" -q --threads 1 sweep "$work/study.toml" -o "$work/processes" --case {} >/dev/null 2>&1
-timeout 300 "$bin" -q collect "$work/processes" >/dev/null 2>&1
-procs_s=$(calc "$(now) - $t0")
-printf '%-40s %8.1f s   extra per process %.2f s (per core)\n' \
-  "local: $n_cases processes x 1 case + collect" "$procs_s" \
-  "$(calc "($procs_s - $local_s) / $n_cases * $cores")"
-
-for k in "${groupings[@]}"; do
-  out=$work/cluster-$k
+# One timed run of each configuration into a fresh folder; prints seconds.
+run_local() {
+  local out=$work/local-$1 t0
   t0=$(now)
-  timeout 60 "$bin" -q batch-script "$work/study.toml" -o "$out" --cases-per-job "$k" \
-    --time 00:30:00 --job-name "bench-$k" >/dev/null
+  timeout 1200 "$bin" -q sweep "$work/study.toml" -o "$out" >/dev/null 2>&1
+  calc "$(now) - $t0"
+}
+run_processes() {
+  local out=$work/processes-$1 t0
+  t0=$(now)
+  seq 0 $((n_cases - 1)) | timeout 1200 xargs -P "$cores" -I{} \
+    "$bin" -q --threads 1 sweep "$work/study.toml" -o "$out" --case {} >/dev/null 2>&1
+  timeout 300 "$bin" -q collect "$out" >/dev/null 2>&1
+  calc "$(now) - $t0"
+  diff -r -q "$work/local-1" "$out" >/dev/null || { echo "bench: processes differ" >&2; exit 1; }
+}
+run_cluster() { # run_cluster K REPEAT
+  local out=$work/cluster-$1-$2 t0 submitted array_id merge_id
+  t0=$(now)
+  timeout 60 "$bin" -q batch-script "$work/study.toml" -o "$out" --cases-per-job "$1" \
+    --time 00:30:00 --job-name "bench-$1" >/dev/null
   submitted=$(timeout 60 sh "$out/batch/submit.sh")
   array_id=$(echo "$submitted" | sed -n 's/^array job \([0-9]*\) .*/\1/p')
   merge_id=$(echo "$submitted" | sed -n 's/.*merge job \([0-9]*\)$/\1/p')
-  n_jobs=$(sed -n 's/^#SBATCH --array=0-\([0-9]*\)$/\1/p' "$out/batch/sweep-array.sbatch")
-  n_jobs=$((n_jobs + 1))
-  slurm_wait_job "$array_id" 1200
-  slurm_wait_job "$merge_id" 300
-  wall=$(calc "$(now) - $t0")
-  if ! diff -r --exclude=batch -q "$work/local" "$out" >/dev/null; then
-    echo "bench: the cluster results with $k case(s) per job differ from the local sweep" >&2
+  slurm_wait_job "$array_id" 1200 >&2
+  slurm_wait_job "$merge_id" 300 >&2
+  calc "$(now) - $t0"
+  if ! diff -r --exclude=batch -q "$work/local-1" "$out" >/dev/null; then
+    echo "bench: the cluster results with $1 case(s) per job differ from the local sweep" >&2
     exit 1
   fi
-  per_job=$(calc "($wall - $local_s) / $n_jobs * $cores")
-  printf '%-40s %8.1f s   extra per job %.2f s (per core)\n' \
-    "cluster: $n_jobs jobs x $k case(s) + merge" "$wall" "$per_job"
+}
+median() { tr ' ' '\n' | grep . | sort -g | awk '{ v[NR] = $1 } END { print (NR % 2) ? v[(NR + 1) / 2] : (v[NR / 2] + v[NR / 2 + 1]) / 2 }'; }
+
+# The configurations take turns in every repeat, so that a change of the
+# machine's load hits them alike.
+declare -A times
+for r in $(seq 1 "$repeats"); do
+  times[local]+=" $(run_local "$r")"
+  times[processes]+=" $(run_processes "$r")"
+  for k in "${groupings[@]}"; do
+    times[$k]+=" $(run_cluster "$k" "$r")"
+  done
+  echo "repeat $r of $repeats done" >&2
 done
-echo "results identical to the local sweep, byte for byte"
+
+local_s=$(echo "${times[local]}" | median)
+printf '%-44s %7.1f s   (runs:%s)\n' "local sweep ($cores threads)" "$local_s" "${times[local]}"
+procs_s=$(echo "${times[processes]}" | median)
+printf '%-44s %7.1f s   extra per process %5.2f s per core   (runs:%s)\n' \
+  "local: $n_cases processes x 1 case + collect" "$procs_s" \
+  "$(calc "($procs_s - $local_s) / $n_cases * $cores")" "${times[processes]}"
+for k in "${groupings[@]}"; do
+  n_jobs=$(( (n_cases + k - 1) / k ))
+  wall=$(echo "${times[$k]}" | median)
+  printf '%-44s %7.1f s   scheduler cost per job %5.2f s per core   (runs:%s)\n' \
+    "cluster: $n_jobs jobs x $k case(s) + merge job" "$wall" \
+    "$(calc "($wall - $procs_s) / $n_jobs * $cores")" "${times[$k]}"
+done
+echo "medians of $repeats runs; every result identical to the local sweep, byte for byte"

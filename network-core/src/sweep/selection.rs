@@ -179,8 +179,12 @@ impl Shard {
         Ok(Shard { index, count })
     }
 
-    /// The cases of this shard in a sweep of `n_cases` cases.
+    /// The cases of this shard in a sweep of `n_cases` cases (empty when
+    /// the fields break `index < count`, which [`Shard::parse`] refuses).
     pub fn cases(&self, n_cases: usize) -> Range<usize> {
+        if self.index >= self.count {
+            return 0..0;
+        }
         // u128: no overflow of i·n for any usize inputs.
         let at = |i: usize| ((i as u128 * n_cases as u128) / self.count as u128) as usize;
         at(self.index)..at(self.index + 1)
@@ -332,6 +336,9 @@ mod tests {
             assert!(e.to_string().contains(&format!("'{bad}'")), "{e}");
         }
         assert_eq!(Shard::parse("2/3").unwrap(), Shard { index: 2, count: 3 });
+        // Fields set by hand outside the rule select nothing (no panic).
+        assert_eq!(Shard { index: 0, count: 0 }.cases(5), 0..0);
+        assert_eq!(Shard { index: 3, count: 2 }.cases(5), 0..0);
     }
 
     #[test]
