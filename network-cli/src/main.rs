@@ -42,6 +42,7 @@ enum Command {
     Run(commands::run::Args),
     Sweep(commands::sweep::Args),
     Collect(commands::sweep::CollectArgs),
+    BatchScript(commands::batch::Args),
     Template(commands::template::Args),
 }
 
@@ -64,6 +65,7 @@ fn main() -> ExitCode {
         Command::Run(a) => commands::run::run(a, &progress),
         Command::Sweep(a) => commands::sweep::run(a, &progress),
         Command::Collect(a) => commands::sweep::collect(a, &progress),
+        Command::BatchScript(a) => commands::batch::run(a, &progress),
         Command::Template(a) => commands::template::run(a),
     };
     match result {

@@ -1,6 +1,7 @@
 //! One module per command; each validates its flags, calls the library and
 //! prints or writes the result.
 
+pub mod batch;
 pub mod convert;
 pub mod generate;
 pub mod inspect;
