@@ -664,6 +664,10 @@ fn run_to_dict<'py>(
                 .collect();
             p.set_item("ganglion", g.into_pyarray(py))?;
             p.set_item("water_trapped", s.water_trapped.clone().into_pyarray(py))?;
+            p.set_item(
+                "water_saturation",
+                s.water_saturation.clone().into_pyarray(py),
+            )?;
             match &s.water_pressure {
                 Some(w) => p.set_item("water_pressure", PyArray1::from_slice(py, w))?,
                 None => p.set_item("water_pressure", py.None())?,

@@ -32,7 +32,7 @@ def assert_same_results(a: ganglion.RunResult, b: ganglion.RunResult) -> None:
             assert same_arrays(getattr(p, f), getattr(q, f)), (p.kind, f)
         assert same_arrays(p.profile_sw, q.profile_sw)
     for s, t in zip(a.end_states, b.end_states):
-        for f in ("oil", "layers", "ganglion", "water_trapped"):
+        for f in ("oil", "layers", "ganglion", "water_trapped", "water_saturation"):
             assert same_arrays(getattr(s, f), getattr(t, f)), f
     for f in ("id", "volume_m3", "pores", "throats", "bbox_m"):
         assert same_arrays(getattr(a.ganglia, f), getattr(b.ganglia, f)), f
@@ -58,6 +58,30 @@ def test_dict_is_the_study_text_when_tomllib_reads_it() -> None:
     as_lists["wettability"] = {k: list(v) for k, v in TINY_DICT["wettability"].items()}
     assert tomllib.loads(TINY_STUDY) == as_lists
     assert tomllib.loads(ganglion.study_to_toml(TINY_DICT)) == as_lists
+
+
+def test_element_water_saturations_add_up_to_the_process_saturation(
+    tiny_study_file: Path,
+) -> None:
+    r = ganglion.run_study(tiny_study_file)
+    net = ganglion.load_network(tiny_study_file.parent / "tiny-lattice")
+    pores, throats = net.pores(), net.throats()
+    # Each element's pore volume is its volume plus its clay (the engine's
+    # definition of saturation, network_core::engine::saturation).
+    pv = np.concatenate([
+        pores["volume_m3"] + pores["clay_volume_m3"],
+        throats["volume_m3"] + throats["clay_volume_m3"],
+    ])
+    for e, p in zip(r.end_states, r.processes):
+        sw = e.water_saturation
+        assert sw.dtype == np.float32 and sw.shape == pv.shape
+        assert np.all((sw >= 0.0) & (sw <= 1.0))
+        # Water-filled centres without layers hold water only.
+        assert np.all(sw[~e.oil & (e.layers == 0)] == 1.0)
+        # The pore-volume-weighted mean is the process's final Sw, up to
+        # the single precision of the per-element values (2^-24 relative).
+        mean = float(np.dot(sw.astype(np.float64), pv) / pv.sum())
+        assert abs(mean - p.sw[-1]) < 1e-6, (p.kind, mean, p.sw[-1])
 
 
 def test_relative_network_of_text_resolves_against_cwd_by_default(
@@ -95,6 +119,8 @@ def test_arrays_have_documented_shapes_and_dtypes(tiny_study_file: Path) -> None
         assert e.layers.dtype == np.uint8 and e.layers.shape == (n_elements,)
         assert e.ganglion.dtype == np.int64 and e.ganglion.shape == (n_elements,)
         assert e.water_trapped.dtype == np.bool_ and e.water_trapped.shape == (n_elements,)
+        assert e.water_saturation.dtype == np.float32
+        assert e.water_saturation.shape == (n_elements,)
         assert e.water_pressure is not None and e.water_pressure.shape == (r.n_pores,)
     g = r.ganglia
     assert g.bbox_m.shape == (len(g), 6) and g.bbox_m.dtype == np.float64

@@ -323,9 +323,8 @@ class ProcessCurve:
 
 @dataclass(frozen=True)
 class EndState:
-    """Occupancy at the end of one process, per element (pores first, then
-    throats). Per-element saturations are not kept by the library; the
-    occupancy below and the process's saturations are."""
+    """Occupancy and water saturation at the end of one process, per element
+    (pores first, then throats)."""
 
     #: Process kind.
     kind: str
@@ -337,6 +336,9 @@ class EndState:
     ganglion: np.ndarray
     #: Water trapped in the element (bool).
     water_trapped: np.ndarray
+    #: Water saturation of the element: its water, clay included, over its
+    #: pore volume (float32).
+    water_saturation: np.ndarray
     #: Water pressure per pore for a unit pressure drop across the sample
     #: (float64, NaN where water does not flow); None without kr solves.
     water_pressure: Optional[np.ndarray]
@@ -479,6 +481,7 @@ def _run_result(raw: Dict[str, Any], output: Optional[Path]) -> RunResult:
                     layers=p["layers"],
                     ganglion=p["ganglion"],
                     water_trapped=p["water_trapped"],
+                    water_saturation=p["water_saturation"],
                     water_pressure=p["water_pressure"],
                 )
             )
