@@ -15,6 +15,8 @@
 # Exits non-zero when any part fails.
 set -euo pipefail
 cd "$(dirname "$0")/.."
+# Package installs below must never wait for an answer.
+export DEBIAN_FRONTEND=noninteractive
 cargo test --workspace --release --locked
 scripts/check-golden.sh
 timeout 1800 scripts/test-python.sh
