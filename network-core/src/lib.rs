@@ -79,6 +79,7 @@ pub mod fit;
 pub mod flow;
 pub mod generate;
 pub mod geometry;
+pub mod image;
 pub mod io;
 pub mod network;
 pub mod numeric;
