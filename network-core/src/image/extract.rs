@@ -8,10 +8,13 @@
 //!
 //! Pore properties (a region of `N` voxels):
 //! - centre: the centroid of its voxel centres;
-//! - inscribed radius `r = (√(d²_max) − ½) a`, at least `a/2`: `d²_max` is
-//!   the largest squared distance in the region from a voxel centre to the
-//!   nearest solid voxel centre, and the wall lies half a voxel before that
-//!   centre (the half-voxel correction, common practice);
+//! - inscribed radius `r = √(d²_max) a`: `d²_max` is the largest squared
+//!   distance in the region from a voxel centre to the nearest solid voxel
+//!   centre. Two voxelisation errors of opposite sign meet here: the solid
+//!   centre lies up to half a voxel behind the wall (too large), and the
+//!   deepest voxel centre may sit up to half a voxel diagonal off the true
+//!   centre of the inscribed sphere (too small); no correction is applied,
+//!   and the tests bound the result within one voxel;
 //! - shape factor `G = (1/4π) (r / r_eq)²`, capped at `1/4π`, with
 //!   `r_eq = (3N/4π)^{1/3} a` the radius of the sphere of the same volume:
 //!   a near-spherical region counts as circular, and the more its inscribed
@@ -20,7 +23,8 @@
 //!
 //! Throat properties (two regions sharing at least one voxel face):
 //! - inscribed radius: the largest over the shared faces of the smaller
-//!   distance of the two voxels, with the same half-voxel correction;
+//!   distance of the two voxels (as for pores, `√d² a`), at most the
+//!   radius of either pore;
 //! - cross-section area `A = n_faces a²`;
 //! - perimeter `P = (π/4) n_edges a`, where `n_edges` counts the edges of
 //!   shared faces that border solid: the staircase perimeter of a digital
@@ -219,10 +223,10 @@ struct FaceSums {
     d2_max: u32,
 }
 
-/// Inscribed radius in voxel units from a squared distance, with the
-/// half-voxel correction.
+/// Inscribed radius in voxel units from a squared distance (at least
+/// half a voxel).
 fn radius_voxels(d2: u32) -> f64 {
-    (f64::from(d2).sqrt() - 0.5).max(0.5)
+    f64::from(d2).sqrt().max(0.5)
 }
 
 /// Builds the network from a partition (the last stage of [`extract`]).

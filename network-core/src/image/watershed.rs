@@ -9,7 +9,8 @@
 //!
 //! 1. **Candidates**: pore voxels whose squared distance is at least that
 //!    of every pore neighbour in the 26-neighbourhood (local maxima,
-//!    plateaus included); found in parallel over z slabs.
+//!    plateaus included), found in parallel over z slabs; of these, only
+//!    regional maxima are kept (plateaus with no higher voxel next to them).
 //! 2. **Suppression**: candidates are visited from the largest distance down
 //!    (ties by storage index). A candidate becomes a marker unless it lies
 //!    strictly inside the inscribed sphere of a marker already taken
@@ -24,7 +25,13 @@
 //!    levels are the integer squared distances and whose buckets are first
 //!    in, first out. A voxel joins the region that reaches it first.
 //!
-//! Suppression and flooding are sequential, so the regions depend on the
+//! 4. **Shoulders**: a region whose highest distance is no higher than the
+//!    pass (the largest distance along its shared faces) to a neighbour
+//!    with a higher peak is a shoulder of that neighbour, not a pore body
+//!    of its own, and is merged into it. Regions of equal peaks, as along a
+//!    straight tube, stay apart.
+//!
+//! Suppression, flooding and merging are sequential, so the regions depend on the
 //! image only, never on the thread count.
 
 use rayon::prelude::*;
@@ -90,6 +97,79 @@ pub fn candidates(pore: &[bool], d2: &[u32], dims: [usize; 3]) -> Vec<u32> {
         })
         .collect();
     per_slab.concat()
+}
+
+/// The candidates that belong to a regional maximum: a plateau (26-connected
+/// voxels of equal squared distance) none of whose voxels has a pore
+/// neighbour with a larger distance. A plateau on the flank of a larger
+/// peak — common on a digital distance map, whose values are integers — is
+/// dropped whole.
+pub fn regional_maxima(
+    candidates: &[u32],
+    pore: &[bool],
+    d2: &[u32],
+    dims: [usize; 3],
+) -> Vec<u32> {
+    let [nx, ny, nz] = dims;
+    let mut seen = vec![false; d2.len()];
+    let mut keep = vec![false; d2.len()];
+    let mut plateau = Vec::new();
+    let mut stack = Vec::new();
+    for &c in candidates {
+        let c = c as usize;
+        if seen[c] {
+            continue;
+        }
+        let v = d2[c];
+        plateau.clear();
+        stack.push(c);
+        seen[c] = true;
+        let mut is_max = true;
+        while let Some(i) = stack.pop() {
+            plateau.push(i);
+            let (x, y, z) = (
+                (i % nx) as i64,
+                ((i / nx) % ny) as i64,
+                (i / (nx * ny)) as i64,
+            );
+            for dz in -1i64..=1 {
+                for dy in -1i64..=1 {
+                    for dx in -1i64..=1 {
+                        let (xx, yy, zz) = (x + dx, y + dy, z + dz);
+                        if xx < 0
+                            || yy < 0
+                            || zz < 0
+                            || xx >= nx as i64
+                            || yy >= ny as i64
+                            || zz >= nz as i64
+                        {
+                            continue;
+                        }
+                        let j = xx as usize + nx * (yy as usize + ny * zz as usize);
+                        if !pore[j] {
+                            continue;
+                        }
+                        if d2[j] > v {
+                            is_max = false;
+                        } else if d2[j] == v && !seen[j] {
+                            seen[j] = true;
+                            stack.push(j);
+                        }
+                    }
+                }
+            }
+        }
+        if is_max {
+            for &i in &plateau {
+                keep[i] = true;
+            }
+        }
+    }
+    candidates
+        .iter()
+        .copied()
+        .filter(|&c| keep[c as usize])
+        .collect()
 }
 
 /// Markers from the candidates by inscribed-sphere suppression (step 2 of
@@ -226,8 +306,111 @@ pub fn flood(pore: &[bool], d2: &[u32], dims: [usize; 3], markers: &[u32]) -> Re
 /// The whole partition: candidates, markers, flooding.
 pub fn watershed(pore: &[bool], d2: &[u32], dims: [usize; 3]) -> Regions {
     let c = candidates(pore, d2, dims);
+    let c = regional_maxima(&c, pore, d2, dims);
     let m = markers(&c, d2, dims);
-    flood(pore, d2, dims, &m)
+    let flooded = flood(pore, d2, dims, &m);
+    merge_shoulders(flooded, d2, dims)
+}
+
+/// Merges every region that is a shoulder of a higher one (step 4 of the
+/// [module docs](self)): a region whose largest squared distance is not
+/// above the pass to a neighbour with a larger one has no basin of its own.
+/// Regions are visited from the lowest peak up (ties by number); each
+/// shoulder joins the neighbour of highest pass (ties: the smaller
+/// number). Region numbers are then compacted in order of the smallest
+/// surviving original number, so the markers keep their order.
+pub fn merge_shoulders(regions: Regions, d2: &[u32], dims: [usize; 3]) -> Regions {
+    let [nx, ny, nz] = dims;
+    let n_reg = regions.count;
+    let lab = &regions.labels;
+    let mut peak = vec![0u32; n_reg + 1];
+    for (i, &l) in lab.iter().enumerate() {
+        if l > 0 {
+            peak[l as usize] = peak[l as usize].max(d2[i]);
+        }
+    }
+    // Pass level between neighbouring regions: the largest, over shared
+    // voxel faces, of the smaller distance of the two voxels.
+    let mut pass: std::collections::BTreeMap<(u32, u32), u32> = std::collections::BTreeMap::new();
+    let stride = [1, nx, nx * ny];
+    let extent = [nx, ny, nz];
+    let mut i = 0;
+    for z in 0..nz {
+        for y in 0..ny {
+            for x in 0..nx {
+                let c = [x, y, z];
+                let r = lab[i];
+                if r > 0 {
+                    for ax in 0..3 {
+                        if c[ax] + 1 < extent[ax] {
+                            let j = i + stride[ax];
+                            let q = lab[j];
+                            if q > 0 && q != r {
+                                let e = pass.entry((r.min(q), r.max(q))).or_insert(0);
+                                *e = (*e).max(d2[i].min(d2[j]));
+                            }
+                        }
+                    }
+                }
+                i += 1;
+            }
+        }
+    }
+    let mut neighbours: Vec<Vec<(u32, u32)>> = vec![Vec::new(); n_reg + 1];
+    for (&(a, b), &p) in &pass {
+        neighbours[a as usize].push((b, p));
+        neighbours[b as usize].push((a, p));
+    }
+    let mut parent: Vec<u32> = (0..=n_reg as u32).collect();
+    fn root(parent: &mut [u32], mut r: u32) -> u32 {
+        while parent[r as usize] != r {
+            parent[r as usize] = parent[parent[r as usize] as usize];
+            r = parent[r as usize];
+        }
+        r
+    }
+    let mut order: Vec<u32> = (1..=n_reg as u32).collect();
+    order.sort_by(|&a, &b| peak[a as usize].cmp(&peak[b as usize]).then(a.cmp(&b)));
+    for &r in &order {
+        let mut best: Option<(u32, u32)> = None;
+        for &(q, p) in &neighbours[r as usize] {
+            let rq = root(&mut parent, q);
+            if rq == r || peak[rq as usize] <= peak[r as usize] || p < peak[r as usize] {
+                continue;
+            }
+            best = match best {
+                Some((bq, bp)) if bp > p || (bp == p && bq < rq) => Some((bq, bp)),
+                _ => Some((rq, p)),
+            };
+        }
+        if let Some((q, _)) = best {
+            parent[r as usize] = q;
+        }
+    }
+    // Compact: new numbers in order of original number of the survivors.
+    let mut new_id = vec![0u32; n_reg + 1];
+    let mut markers = Vec::new();
+    for r in 1..=n_reg as u32 {
+        if root(&mut parent, r) == r {
+            markers.push(regions.markers[(r - 1) as usize]);
+            new_id[r as usize] = markers.len() as u32;
+        }
+    }
+    let map: Vec<u32> = (0..=n_reg as u32)
+        .map(|r| {
+            if r == 0 {
+                0
+            } else {
+                new_id[root(&mut parent, r) as usize]
+            }
+        })
+        .collect();
+    let labels = regions.labels.iter().map(|&l| map[l as usize]).collect();
+    Regions {
+        labels,
+        count: markers.len(),
+        markers,
+    }
 }
 
 #[cfg(test)]
