@@ -43,6 +43,8 @@ enum Command {
     Sweep(commands::sweep::Args),
     Collect(commands::sweep::CollectArgs),
     Template(commands::template::Args),
+    Extract(commands::extract::Args),
+    SynthImage(commands::synth_image::Args),
 }
 
 fn main() -> ExitCode {
@@ -65,6 +67,8 @@ fn main() -> ExitCode {
         Command::Sweep(a) => commands::sweep::run(a, &progress),
         Command::Collect(a) => commands::sweep::collect(a, &progress),
         Command::Template(a) => commands::template::run(a),
+        Command::Extract(a) => commands::extract::run(a, &progress),
+        Command::SynthImage(a) => commands::synth_image::run(a, &progress),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

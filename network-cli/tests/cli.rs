@@ -704,3 +704,74 @@ fn table_units_convert_the_keyword_tables_and_refuse_unknown_units() {
         "nothing may be written before a refusal"
     );
 }
+
+#[test]
+fn synthetic_image_extracts_to_a_network_that_loads_and_matches_the_image() {
+    let d = scratch("extract");
+    let img = d.join("rock.raw");
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&img),
+        "--size",
+        "48x40x36",
+        "--porosity",
+        "0.3",
+        "--seed",
+        "2",
+    ]);
+    let net = d.join("net");
+    let o = ok(&[
+        "extract",
+        s(&img),
+        "-o",
+        s(&net),
+        "--flow-axis",
+        "x",
+        "--json",
+        "-q",
+    ]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let ex = &v["extraction"];
+    // The network's pore volume over its bulk volume is the image porosity
+    // (pores hold every pore voxel; bulk is the image volume).
+    let o = ok(&["inspect", s(&net), "--json"]);
+    let rep: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(rep["pores"].as_u64(), ex["n_pores"].as_u64(), "{rep}");
+    let (a, b) = (
+        rep["porosity"].as_f64().unwrap(),
+        ex["porosity"].as_f64().unwrap(),
+    );
+    assert!((a - b).abs() < 1e-12, "{a} vs {b}");
+    assert!(v["permeability_m2"].as_f64().unwrap() > 0.0);
+    assert!(d.join("net.regions.vti").exists());
+    no_temp_files(&d);
+    // The same image as .npy needs a voxel size: exit code 1 and a message
+    // naming the file and the flag.
+    let npy = d.join("rock.npy");
+    ok(&["synth-image", "-o", s(&npy), "--size", "20", "--seed", "2"]);
+    let o = ganglion(&["extract", s(&npy), "-o", s(&d.join("n2"))]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("rock.npy") && err.contains("--voxel-size-m"),
+        "{err}"
+    );
+    // An undeclared label is named with its voxel.
+    let o = ganglion(&[
+        "extract",
+        s(&npy),
+        "--voxel-size-m",
+        "1e-6",
+        "--pore-label",
+        "5",
+        "-o",
+        s(&d.join("n3")),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("holds label 1") && err.contains("voxel (x="),
+        "{err}"
+    );
+}

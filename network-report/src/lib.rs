@@ -14,6 +14,7 @@
 //! - [`error`]: every error type of the crate; uses no other module.
 //! - [`plot`]: line plots (linear or log axes, bands, markers) as SVG text
 //!   or PNG bytes, drawn with `plotters` and an embedded DejaVu Sans font.
+//! - [`vti`]: the regions of an extracted image as VTK XML ImageData (`.vti`).
 //! - [`vtk`]: a network and an end state as VTK XML PolyData (`.vtp`),
 //!   binary appended data or ASCII, with the meaning of every array.
 //! - [`figures`]: the standard figures of a study run (Pc, kr linear and
@@ -69,6 +70,7 @@ pub mod run_files;
 pub mod saturation_tables;
 pub mod sweep_files;
 pub mod sweep_report;
+pub mod vti;
 pub mod vtk;
 
 pub use artifacts::{ArtifactOptions, write_run_artifacts};

@@ -2,11 +2,13 @@
 //! prints or writes the result.
 
 pub mod convert;
+pub mod extract;
 pub mod generate;
 pub mod inspect;
 pub mod perm;
 pub mod run;
 pub mod sweep;
+pub mod synth_image;
 pub mod template;
 
 use std::path::Path;
