@@ -45,6 +45,7 @@ enum Command {
     Template(commands::template::Args),
     Extract(commands::extract::Args),
     SynthImage(commands::synth_image::Args),
+    GangliaImage(commands::ganglia_image::Args),
 }
 
 fn main() -> ExitCode {
@@ -69,6 +70,7 @@ fn main() -> ExitCode {
         Command::Template(a) => commands::template::run(a),
         Command::Extract(a) => commands::extract::run(a, &progress),
         Command::SynthImage(a) => commands::synth_image::run(a, &progress),
+        Command::GangliaImage(a) => commands::ganglia_image::run(a, &progress),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

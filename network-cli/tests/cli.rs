@@ -775,3 +775,60 @@ fn synthetic_image_extracts_to_a_network_that_loads_and_matches_the_image() {
         "{err}"
     );
 }
+
+#[test]
+fn imaged_ganglia_are_counted_and_written() {
+    // A 10³ raw image: water (1) everywhere, solid (0) on the z = 0 slice,
+    // oil (2) in three blobs: a 2×2×2 cube, a 1×1×4 bar and a single voxel
+    // touching the cube only at a corner. By the neighbourhood definitions:
+    // 3 ganglia with 6-connectivity, 2 with 26; oil saturation 13 / 900
+    // (pore space: the 900 voxels above the solid slice).
+    let d = scratch("ganglia");
+    let mut v = vec![1u8; 1000];
+    let idx = |x: usize, y: usize, z: usize| x + 10 * (y + 10 * z);
+    for x in 0..10 {
+        for y in 0..10 {
+            v[idx(x, y, 0)] = 0;
+        }
+    }
+    for z in 3..5 {
+        for y in 3..5 {
+            for x in 3..5 {
+                v[idx(x, y, z)] = 2;
+            }
+        }
+    }
+    v[idx(5, 5, 5)] = 2;
+    for z in 2..6 {
+        v[idx(8, 1, z)] = 2;
+    }
+    let img = d.join("res.raw");
+    std::fs::write(&img, &v).unwrap();
+    std::fs::write(
+        d.join("res.raw.toml"),
+        "dims = [10, 10, 10]\nvoxel_size_m = 2e-6\npore_label = -1\nwater_label = 1\noil_label = 2\n",
+    )
+    .unwrap();
+    let out = d.join("out6");
+    let o = ok(&["ganglia-image", s(&img), "-o", s(&out)]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("ganglia            3"), "{text}");
+    let j: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("imaged-phase.json")).unwrap())
+            .unwrap();
+    assert_eq!(j["n_ganglia"], 3);
+    assert!((j["oil_saturation"].as_f64().unwrap() - 13.0 / 900.0).abs() < 1e-15);
+    let csv = std::fs::read_to_string(out.join("imaged-ganglia.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 4);
+    let out = d.join("out26");
+    let o = ok(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--connectivity",
+        "26",
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("ganglia            2"));
+    no_temp_files(&d);
+}

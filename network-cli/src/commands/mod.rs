@@ -3,6 +3,7 @@
 
 pub mod convert;
 pub mod extract;
+pub mod ganglia_image;
 pub mod generate;
 pub mod inspect;
 pub mod perm;

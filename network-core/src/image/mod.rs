@@ -16,6 +16,8 @@
 //!   watershed that splits the pore space into regions;
 //! - [`extract`]: regions → pores, shared interfaces → throats, faces →
 //!   inlet and outlet pores: a [`crate::Network`];
+//! - [`ganglia`]: the imaged non-aqueous phase: saturations, ganglia, size
+//!   distribution;
 //! - [`synth`]: seeded synthetic rock images (overlapping polydisperse
 //!   grains).
 //!
@@ -30,6 +32,7 @@
 pub mod distance;
 pub mod encode;
 pub mod extract;
+pub mod ganglia;
 pub mod label;
 pub mod read_npy;
 pub mod read_raw;
