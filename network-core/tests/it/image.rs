@@ -221,6 +221,27 @@ fn simple_cubic_sphere_pack_porosity_pores_and_windows() {
     }
     // 8 interior cells in a 2 × 2 × 2 block share 12 faces (geometry).
     assert_eq!(n_checked, 12);
+
+    // Permeability against Stokes flow through the periodic array (Zick &
+    // Homsy 1982, J. Fluid Mech. 115:13; Sangani & Acrivos 1982, Int. J.
+    // Multiphase Flow 8:343). They give the drag on each sphere as
+    // F = 6πμRUK with U the superficial velocity and, for the touching
+    // simple cubic array (solid fraction c = π/6), K ≈ 42.1 (from memory).
+    // Force balance of a slab: n F = Δp/L with n = c / (4πR³/3) spheres per
+    // unit volume, and Darcy Δp/L = μU/k, so k = 2R²/(9 c K) ≈ 0.0101 R².
+    // A pore network replaces the continuous flow field by conduits of
+    // uniform section and is not expected to agree better than a factor of
+    // two (common practice); the observed ratio is stated in the message.
+    let k = permeability(net, Axis::X, &PermOptions::default())
+        .unwrap()
+        .permeability_m2;
+    let r = SC_R * 1e-6;
+    let k_stokes = 2.0 * r * r / (9.0 * (PI / 6.0) * 42.1);
+    let ratio = k / k_stokes;
+    assert!(
+        ratio > 0.5 && ratio < 2.0,
+        "k = {k:e}, Stokes {k_stokes:e}, ratio {ratio}"
+    );
 }
 
 #[test]
