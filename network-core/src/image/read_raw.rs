@@ -417,7 +417,7 @@ mod tests {
     #[test]
     fn truncated_and_overlong_files_are_refused() {
         let spec = parse_sidecar(spec_text(), Path::new("a.toml")).unwrap();
-        let bytes = vec![0u8; 4 + 23];
+        let bytes = [0u8; 4 + 23];
         let e = read_raw(&bytes[..], &spec, Path::new("a.raw"))
             .unwrap_err()
             .to_string();
@@ -425,7 +425,7 @@ mod tests {
             e.contains("a.raw") && e.contains("expected 28") && e.contains("found 27"),
             "{e}"
         );
-        let bytes = vec![0u8; 29];
+        let bytes = [0u8; 29];
         let e = read_raw(&bytes[..], &spec, Path::new("a.raw"))
             .unwrap_err()
             .to_string();
