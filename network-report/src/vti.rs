@@ -62,7 +62,8 @@ mod tests {
         let text = String::from_utf8_lossy(&bytes);
         assert!(text.contains("WholeExtent=\"0 3 0 2 0 1\""));
         assert!(text.contains("Spacing=\"2e-6 2e-6 2e-6\""));
-        let at = bytes.iter().position(|&b| b == b'_').unwrap() + 1;
+        let mark = b"encoding=\"raw\">\n_";
+        let at = bytes.windows(mark.len()).position(|w| w == mark).unwrap() + mark.len();
         let len = u64::from_le_bytes(bytes[at..at + 8].try_into().unwrap());
         assert_eq!(len, 24);
         assert_eq!(
