@@ -91,7 +91,7 @@ pub enum ImageError {
         /// The file.
         path: PathBuf,
         /// The undeclared value.
-        value: u32,
+        value: i64,
         /// Its voxel coordinates (the first such voxel in storage order).
         voxel: [usize; 3],
         /// The declared labels, as text.

@@ -231,7 +231,9 @@ pub fn read_npy(
     let n = check_dims(dims, path)?;
     let w = h.descr.width;
     let expected = h.data_offset + (n * w) as u64;
-    let mut values = vec![0u16; n];
+    // Grown as elements arrive (a header that announces more than the file
+    // holds costs no more memory than the file).
+    let mut values: Vec<u16> = Vec::with_capacity(n.min(1 << 24));
     let mut block = vec![0u8; (1 << 20) * w];
     let mut done = 0usize;
     // Both orders store the fastest axis first, which is x: element k of
@@ -253,12 +255,12 @@ pub fn read_npy(
             if !(0..=65535).contains(&v) {
                 return Err(ImageError::UnknownLabel {
                     path: path.to_path_buf(),
-                    value: v.clamp(0, u32::MAX as i128) as u32,
+                    value: v.clamp(i64::MIN as i128, i64::MAX as i128) as i64,
                     voxel: super::volume::coords(dims, k),
                     declared: "labels must lie in 0..=65535".into(),
                 });
             }
-            values[k] = v as u16;
+            values.push(v as u16);
         }
         done += take / w;
     }

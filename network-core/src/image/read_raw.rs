@@ -300,7 +300,9 @@ pub fn read_raw(mut reader: impl Read, spec: &RawSpec, path: &Path) -> Result<Vo
         left -= take as u64;
     }
     let width = spec.sample_type.bytes();
-    let mut values = Vec::with_capacity(n);
+    // Grown as samples arrive: a sidecar that announces more than the file
+    // holds costs no more memory than the file.
+    let mut values = Vec::with_capacity(n.min(1 << 24));
     let mut block = vec![0u8; (1 << 20) * width];
     while values.len() < n {
         let take = ((n - values.len()) * width).min(block.len());

@@ -13,7 +13,7 @@ use std::path::Path;
 
 use super::ImageError;
 use super::read_raw::{ByteOrder, SampleType, decode_samples, read_full};
-use super::volume::{Volume, check_dims};
+use super::volume::{MAX_VOXELS, Volume, check_dims};
 
 const TAG_WIDTH: u16 = 256;
 const TAG_HEIGHT: u16 = 257;
@@ -254,6 +254,16 @@ fn read_page<R: Read + Seek>(
             format!("{n_strips} (ImageLength {height} / RowsPerStrip {rows})"),
         ));
     }
+    // Refuse a page that could not belong to a volume before any size is
+    // multiplied out.
+    check_dims([width as usize, height as usize, 1], c.path).map_err(|_| {
+        ImageError::bad_field(
+            c.path,
+            format!("page {page} ImageWidth × ImageLength"),
+            format!("{width} × {height}"),
+            "at most 2^32 - 1 pixels",
+        )
+    })?;
     let row_bytes = width * bits / 8;
     let mut strips = Vec::with_capacity(offsets.len());
     for (s, (&o, &cnt)) in offsets.iter().zip(&counts).enumerate() {
@@ -341,11 +351,7 @@ pub fn read_tiff<R: Read + Seek>(
         let (page, next) = read_page(&mut c, ifd, n_pages)?;
         let shape = (page.width, page.height, page.bits);
         match first {
-            None => {
-                first = Some(shape);
-                let est = page.width * page.height;
-                values.reserve(est);
-            }
+            None => first = Some(shape),
             Some(f) if f != shape => {
                 return Err(ImageError::bad_field(
                     path,

@@ -243,7 +243,7 @@ impl Labels {
                 None => {
                     return Err(ImageError::UnknownLabel {
                         path: source.to_path_buf(),
-                        value: u32::from(v),
+                        value: i64::from(v),
                         voxel: volume.coords(i),
                         declared: self.declared(),
                     });

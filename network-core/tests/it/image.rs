@@ -391,7 +391,32 @@ fn malformed_images_give_located_errors() {
     std::fs::remove_file(&side).unwrap();
     let e = error_of(&raw, &ImageOptions::default());
     assert!(e.contains("sidecar") && e.contains("r.raw.toml"), "{e}");
+    // A negative .npy element is named with its value and voxel.
+    let neg = Volume::new([3, 1, 1], 1e-6, vec![0, 1, 1], Path::new("n")).unwrap();
+    let mut bytes = encode::npy_bytes(&neg);
+    let at = bytes.windows(5).position(|w| w == b"'|u1'").unwrap();
+    bytes[at..at + 5].copy_from_slice(b"'|i1'");
+    let n = bytes.len();
+    bytes[n - 1] = 0xfe;
+    std::fs::write(&npy, &bytes).unwrap();
+    let e = error_of(&npy, &three_labels());
+    assert!(e.contains("label -2") && e.contains("x=2, y=0, z=0"), "{e}");
+    // A TIFF page announcing far more pixels than the file holds is refused
+    // as truncated without reserving memory for them.
+    let big = Volume::new([2, 2, 1], 1e-6, vec![0; 4], Path::new("b")).unwrap();
+    let mut bytes = encode::tiff_bytes(&big, SampleType::U8, ByteOrder::Little);
+    // Entries start at byte 10; ImageLength (the second) has its value at
+    // 10 + 12 + 8, RowsPerStrip (the eighth) at 10 + 7·12 + 8, the strip
+    // byte count (the ninth) at 10 + 8·12 + 8.
+    bytes[30..34].copy_from_slice(&60_000u32.to_le_bytes());
+    bytes[102..106].copy_from_slice(&60_000u32.to_le_bytes());
+    bytes[114..118].copy_from_slice(&120_000u32.to_le_bytes());
+    std::fs::write(&tif, &bytes).unwrap();
+    let e = error_of(&tif, &three_labels());
+    assert!(e.contains("truncated") && e.contains("page 0 strip"), "{e}");
     // Unknown label: value 2 is not declared without water_label.
+    let bytes = encode::tiff_bytes(&vol, SampleType::U8, ByteOrder::Little);
+    std::fs::write(&tif, &bytes).unwrap();
     let e = error_of(
         &tif,
         &ImageOptions {
