@@ -832,3 +832,43 @@ fn imaged_ganglia_are_counted_and_written() {
     assert!(String::from_utf8_lossy(&o.stdout).contains("ganglia            2"));
     no_temp_files(&d);
 }
+
+#[test]
+fn bundled_sample_image_is_what_its_command_makes_and_extracts() {
+    let d = scratch("sample-image");
+    let again = d.join("again.npy");
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&again),
+        "--size",
+        "120",
+        "--porosity",
+        "0.2",
+        "--grain-radius",
+        "5,11",
+        "--voxel-size-m",
+        "3e-6",
+        "--seed",
+        "7",
+        "-q",
+    ]);
+    let bundled = root().join("sample-images/sandstone-120.npy");
+    assert!(std::fs::read(&bundled).unwrap() == std::fs::read(&again).unwrap());
+    let o = ok(&[
+        "extract",
+        s(&bundled),
+        "--voxel-size-m",
+        "3e-6",
+        "-o",
+        s(&d.join("net.gnet")),
+        "--json",
+        "--no-regions",
+        "-q",
+    ]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    // Porosity as the README of sample-images states it (4 decimals).
+    let phi = v["extraction"]["porosity"].as_f64().unwrap();
+    assert!((phi - 0.1995).abs() < 5e-5, "{phi}");
+    assert!(v["extraction"]["n_inlet"].as_u64().unwrap() > 0);
+}
