@@ -877,13 +877,37 @@ fn bundled_sample_image_is_what_its_command_makes_and_extracts() {
 fn extraction_files_are_identical_with_one_and_two_threads() {
     let d = scratch("extract-threads");
     let img = d.join("rock.npy");
-    ok(&["synth-image", "-o", s(&img), "--size", "50x44x40", "--porosity", "0.25", "--seed", "4", "-q"]);
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&img),
+        "--size",
+        "50x44x40",
+        "--porosity",
+        "0.25",
+        "--seed",
+        "4",
+        "-q",
+    ]);
     let mut outputs = Vec::new();
     for t in ["1", "2"] {
         let net = d.join(format!("net-{t}.gnet"));
-        ok(&["extract", s(&img), "--voxel-size-m", "2e-6", "-o", s(&net), "--threads", t, "-q"]);
+        ok(&[
+            "extract",
+            s(&img),
+            "--voxel-size-m",
+            "2e-6",
+            "-o",
+            s(&net),
+            "--threads",
+            t,
+            "-q",
+        ]);
         let vti = d.join(format!("net-{t}.gnet.regions.vti"));
         outputs.push((std::fs::read(&net).unwrap(), std::fs::read(&vti).unwrap()));
     }
-    assert!(outputs[0] == outputs[1], "files differ between 1 and 2 threads");
+    assert!(
+        outputs[0] == outputs[1],
+        "files differ between 1 and 2 threads"
+    );
 }

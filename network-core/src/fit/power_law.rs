@@ -81,7 +81,10 @@ fn tail_fit(sorted: &[f64], start: usize, discrete: bool) -> Option<(f64, f64)> 
     Some((alpha, d))
 }
 
-/// Fits a power-law tail to positive `values` (see the [module docs](self)).
+/// Fits a power-law tail to positive `values` by maximum likelihood, with
+/// `x_min` chosen by the Kolmogorov–Smirnov distance (Clauset, Shalizi &
+/// Newman 2009, SIAM Review 51:661); `discrete` uses their `x_min − ½` rule
+/// for integer data.
 pub fn fit_power_law(values: &[f64], discrete: bool) -> Result<PowerLawFit, FitError> {
     if values.is_empty() {
         return Err(FitError::Empty { what: "sizes" });

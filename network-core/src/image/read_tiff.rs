@@ -367,23 +367,38 @@ pub fn read_tiff<R: Read + Seek>(
         } else {
             SampleType::U16
         };
+        if (values.len() + page.width * page.height) as u64 > MAX_VOXELS as u64 {
+            return Err(ImageError::bad_field(
+                path,
+                "pages",
+                n_pages + 1,
+                format!("at most {MAX_VOXELS} voxels in all"),
+            ));
+        }
         for &(offset, len) in &page.strips {
             c.r.seek(SeekFrom::Start(offset))
                 .map_err(|e| ImageError::Io {
                     path: path.to_path_buf(),
                     source: e,
                 })?;
-            strip.resize(len as usize, 0);
-            let got = read_full(c.r, &mut strip, path)?;
-            if got < len as usize {
-                return Err(ImageError::Truncated {
-                    path: path.to_path_buf(),
-                    what: format!("page {n_pages} strip data"),
-                    expected: offset + len,
-                    found: offset + got as u64,
-                });
+            // Read in blocks, so a header that announces more than the file
+            // holds costs no more memory than the file.
+            let mut done = 0u64;
+            while done < len {
+                let take = (len - done).min(1 << 20) as usize;
+                strip.resize(take, 0);
+                let got = read_full(c.r, &mut strip, path)?;
+                if got < take {
+                    return Err(ImageError::Truncated {
+                        path: path.to_path_buf(),
+                        what: format!("page {n_pages} strip data"),
+                        expected: offset + len,
+                        found: offset + done + got as u64,
+                    });
+                }
+                decode_samples(&strip, sample, order, &mut values);
+                done += take as u64;
             }
-            decode_samples(&strip, sample, order, &mut values);
         }
         n_pages += 1;
         ifd = next;
