@@ -302,6 +302,22 @@ fn every_format_round_trips() {
         std::fs::write(&tif, encode::tiff_bytes(&vol, t, order)).unwrap();
         assert_eq!(read_image(&tif, &three_labels()).unwrap().volume, vol);
     }
+    // Several strips per page: the 4 rows of a slice in strips of 1 row
+    // (4 strips), 2 rows (2 strips) and 3 rows (a full strip and a last
+    // one of 1 row), read through the offset and byte-count arrays.
+    for rows in [1, 2, 3] {
+        let tif = dir.join(format!("strips-{rows}.tif"));
+        std::fs::write(
+            &tif,
+            encode::tiff_bytes_with_strips(&vol, SampleType::U16, ByteOrder::Big, rows),
+        )
+        .unwrap();
+        assert_eq!(
+            read_image(&tif, &three_labels()).unwrap().volume,
+            vol,
+            "{rows} rows"
+        );
+    }
     let raw = dir.join("a.raw");
     let labels = Labels {
         water: Some(2),
