@@ -473,3 +473,26 @@ proptest! {
         let _ = error_of(&path, &three_labels());
     }
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(if cfg!(debug_assertions) { 64 } else { 512 }))]
+
+    /// Any sidecar text or `.npy` header text is parsed or refused; the
+    /// parsers never panic (the property). Texts are built from the keys'
+    /// own vocabulary so that many reach the value checks.
+    #[test]
+    fn header_texts_never_panic(
+        words in proptest::collection::vec(prop_oneof![
+            Just("dims"), Just("voxel_size_m"), Just("sample_type"), Just("pore_label"),
+            Just("oil_label"), Just("header_bytes"), Just("byte_order"), Just("="),
+            Just("["), Just("]"), Just(","), Just("\n"), Just("-1"), Just("0"),
+            Just("70000"), Just("2e-6"), Just("\"u16\""), Just("\"big\""), Just("'descr'"),
+            Just("'<u2'"), Just(":"), Just("'shape'"), Just("("), Just(")"),
+            Just("'fortran_order'"), Just("True"), Just("{"), Just("}"), Just("'|b2'"),
+        ], 0..40)
+    ) {
+        let text = words.join(" ");
+        let _ = network_core::image::read_raw::parse_sidecar(&text, Path::new("s.toml"));
+        let _ = network_core::image::read_npy::parse_header_text(&text, Path::new("h.npy"));
+    }
+}
