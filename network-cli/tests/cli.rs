@@ -830,6 +830,46 @@ fn imaged_ganglia_are_counted_and_written() {
         "26",
     ]);
     assert!(String::from_utf8_lossy(&o.stdout).contains("ganglia            2"));
+    // Beside a run's trapped ganglia: the figure is written, and a bad
+    // volume in ganglia.csv is refused with file and line.
+    let run = d.join("run");
+    std::fs::create_dir_all(&run).unwrap();
+    std::fs::write(
+        run.join("ganglia.csv"),
+        "id,volume_m3,pores\n0,1e-15,3\n1,4e-15,7\n",
+    )
+    .unwrap();
+    std::fs::write(run.join("summary.json"), "{\"snr\": 0.31}").unwrap();
+    let o = ok(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--compare",
+        s(&run),
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("2 trapped ganglia, Snr 0.3100"));
+    let svg = std::fs::read_to_string(out.join("ganglia-imaged-vs-simulated.svg")).unwrap();
+    assert!(
+        svg.starts_with("<svg") && svg.contains("simulated, 2 ganglia"),
+        "{}",
+        &svg[..200]
+    );
+    std::fs::write(run.join("ganglia.csv"), "id,volume_m3\n0,1e-15\n1,oops\n").unwrap();
+    let o = ganglion(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--compare",
+        s(&run),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("ganglia.csv:3") && err.contains("oops"),
+        "{err}"
+    );
     no_temp_files(&d);
 }
 
