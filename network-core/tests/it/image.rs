@@ -327,6 +327,22 @@ fn every_format_round_trips() {
     let back = read_image(&raw, &ImageOptions::default()).unwrap();
     assert_eq!(back.volume, vol);
     assert_eq!(back.labels, labels);
+    // The same bytes as a Fortran-order array of shape (nx, ny, nz): x is
+    // again the fastest axis, so the volume is the same (the format's
+    // definition of the two orders).
+    let c_order = encode::npy_bytes(&vol);
+    let text = String::from_utf8(c_order[10..c_order.len() - vol.len()].to_vec()).unwrap();
+    let f_text = text
+        .replace("'fortran_order': False", "'fortran_order': True")
+        .replace("(3, 4, 5)", "(5, 4, 3)");
+    assert_ne!(text, f_text);
+    let mut f_bytes = c_order[..10].to_vec();
+    f_bytes.extend_from_slice(f_text.as_bytes());
+    f_bytes.extend_from_slice(&c_order[c_order.len() - vol.len()..]);
+    f_bytes[8..10].copy_from_slice(&(f_text.len() as u16).to_le_bytes());
+    let fortran = dir.join("f.npy");
+    std::fs::write(&fortran, &f_bytes).unwrap();
+    assert_eq!(read_image(&fortran, &three_labels()).unwrap().volume, vol);
     // 16-bit values survive in .npy (written as <u2).
     let wide = Volume::new([2, 1, 1], 1e-6, vec![0, 40000], Path::new("w")).unwrap();
     write_npy(&wide, &npy).unwrap();
