@@ -44,6 +44,9 @@ enum Command {
     Collect(commands::sweep::CollectArgs),
     BatchScript(commands::batch::Args),
     Template(commands::template::Args),
+    Extract(commands::extract::Args),
+    SynthImage(commands::synth_image::Args),
+    GangliaImage(commands::ganglia_image::Args),
 }
 
 fn main() -> ExitCode {
@@ -67,6 +70,9 @@ fn main() -> ExitCode {
         Command::Collect(a) => commands::sweep::collect(a, &progress),
         Command::BatchScript(a) => commands::batch::run(a, &progress),
         Command::Template(a) => commands::template::run(a),
+        Command::Extract(a) => commands::extract::run(a, &progress),
+        Command::SynthImage(a) => commands::synth_image::run(a, &progress),
+        Command::GangliaImage(a) => commands::ganglia_image::run(a, &progress),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -707,3 +707,250 @@ fn table_units_convert_the_keyword_tables_and_refuse_unknown_units() {
         "nothing may be written before a refusal"
     );
 }
+
+#[test]
+fn synthetic_image_extracts_to_a_network_that_loads_and_matches_the_image() {
+    let d = scratch("extract");
+    let img = d.join("rock.raw");
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&img),
+        "--size",
+        "48x40x36",
+        "--porosity",
+        "0.3",
+        "--seed",
+        "2",
+    ]);
+    let net = d.join("net");
+    let o = ok(&[
+        "extract",
+        s(&img),
+        "-o",
+        s(&net),
+        "--flow-axis",
+        "x",
+        "--json",
+        "-q",
+    ]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let ex = &v["extraction"];
+    // The network's pore volume over its bulk volume is the image porosity
+    // (pores hold every pore voxel; bulk is the image volume).
+    let o = ok(&["inspect", s(&net), "--json"]);
+    let rep: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(rep["pores"].as_u64(), ex["n_pores"].as_u64(), "{rep}");
+    let (a, b) = (
+        rep["porosity"].as_f64().unwrap(),
+        ex["porosity"].as_f64().unwrap(),
+    );
+    assert!((a - b).abs() < 1e-12, "{a} vs {b}");
+    assert!(v["permeability_m2"].as_f64().unwrap() > 0.0);
+    assert!(d.join("net.regions.vti").exists());
+    no_temp_files(&d);
+    // The same image as .npy needs a voxel size: exit code 1 and a message
+    // naming the file and the flag.
+    let npy = d.join("rock.npy");
+    ok(&["synth-image", "-o", s(&npy), "--size", "20", "--seed", "2"]);
+    let o = ganglion(&["extract", s(&npy), "-o", s(&d.join("n2"))]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("rock.npy") && err.contains("--voxel-size-m"),
+        "{err}"
+    );
+    // An undeclared label is named with its voxel.
+    let o = ganglion(&[
+        "extract",
+        s(&npy),
+        "--voxel-size-m",
+        "1e-6",
+        "--pore-label",
+        "5",
+        "-o",
+        s(&d.join("n3")),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("holds label 1") && err.contains("voxel (x="),
+        "{err}"
+    );
+}
+
+#[test]
+fn imaged_ganglia_are_counted_and_written() {
+    // A 10³ raw image: water (1) everywhere, solid (0) on the z = 0 slice,
+    // oil (2) in three blobs: a 2×2×2 cube, a 1×1×4 bar and a single voxel
+    // touching the cube only at a corner. By the neighbourhood definitions:
+    // 3 ganglia with 6-connectivity, 2 with 26; oil saturation 13 / 900
+    // (pore space: the 900 voxels above the solid slice).
+    let d = scratch("ganglia");
+    let mut v = vec![1u8; 1000];
+    let idx = |x: usize, y: usize, z: usize| x + 10 * (y + 10 * z);
+    for x in 0..10 {
+        for y in 0..10 {
+            v[idx(x, y, 0)] = 0;
+        }
+    }
+    for z in 3..5 {
+        for y in 3..5 {
+            for x in 3..5 {
+                v[idx(x, y, z)] = 2;
+            }
+        }
+    }
+    v[idx(5, 5, 5)] = 2;
+    for z in 2..6 {
+        v[idx(8, 1, z)] = 2;
+    }
+    let img = d.join("res.raw");
+    std::fs::write(&img, &v).unwrap();
+    std::fs::write(
+        d.join("res.raw.toml"),
+        "dims = [10, 10, 10]\nvoxel_size_m = 2e-6\npore_label = -1\nwater_label = 1\noil_label = 2\n",
+    )
+    .unwrap();
+    let out = d.join("out6");
+    let o = ok(&["ganglia-image", s(&img), "-o", s(&out)]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("ganglia            3"), "{text}");
+    let j: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("imaged-phase.json")).unwrap())
+            .unwrap();
+    assert_eq!(j["n_ganglia"], 3);
+    assert!((j["oil_saturation"].as_f64().unwrap() - 13.0 / 900.0).abs() < 1e-15);
+    let csv = std::fs::read_to_string(out.join("imaged-ganglia.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 4);
+    let out = d.join("out26");
+    let o = ok(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--connectivity",
+        "26",
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("ganglia            2"));
+    // Beside a run's trapped ganglia: the figure is written, and a bad
+    // volume in ganglia.csv is refused with file and line.
+    let run = d.join("run");
+    std::fs::create_dir_all(&run).unwrap();
+    std::fs::write(
+        run.join("ganglia.csv"),
+        "id,volume_m3,pores\n0,1e-15,3\n1,4e-15,7\n",
+    )
+    .unwrap();
+    std::fs::write(run.join("summary.json"), "{\"snr\": 0.31}").unwrap();
+    let o = ok(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--compare",
+        s(&run),
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("2 trapped ganglia, Snr 0.3100"));
+    let svg = std::fs::read_to_string(out.join("ganglia-imaged-vs-simulated.svg")).unwrap();
+    assert!(
+        svg.starts_with("<svg") && svg.contains("simulated, 2 ganglia"),
+        "{}",
+        &svg[..200]
+    );
+    std::fs::write(run.join("ganglia.csv"), "id,volume_m3\n0,1e-15\n1,oops\n").unwrap();
+    let o = ganglion(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--compare",
+        s(&run),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("ganglia.csv:3") && err.contains("oops"),
+        "{err}"
+    );
+    no_temp_files(&d);
+}
+
+#[test]
+fn bundled_sample_image_is_what_its_command_makes_and_extracts() {
+    let d = scratch("sample-image");
+    let again = d.join("again.npy");
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&again),
+        "--size",
+        "120",
+        "--porosity",
+        "0.2",
+        "--grain-radius",
+        "5,11",
+        "--voxel-size-m",
+        "3e-6",
+        "--seed",
+        "7",
+        "-q",
+    ]);
+    let bundled = root().join("sample-images/sandstone-120.npy");
+    assert!(std::fs::read(&bundled).unwrap() == std::fs::read(&again).unwrap());
+    let o = ok(&[
+        "extract",
+        s(&bundled),
+        "--voxel-size-m",
+        "3e-6",
+        "-o",
+        s(&d.join("net.gnet")),
+        "--json",
+        "--no-regions",
+        "-q",
+    ]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    // Porosity as the README of sample-images states it (4 decimals).
+    let phi = v["extraction"]["porosity"].as_f64().unwrap();
+    assert!((phi - 0.1995).abs() < 5e-5, "{phi}");
+    assert!(v["extraction"]["n_inlet"].as_u64().unwrap() > 0);
+}
+
+#[test]
+fn extraction_files_are_identical_with_one_and_two_threads() {
+    let d = scratch("extract-threads");
+    let img = d.join("rock.npy");
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&img),
+        "--size",
+        "50x44x40",
+        "--porosity",
+        "0.25",
+        "--seed",
+        "4",
+        "-q",
+    ]);
+    let mut outputs = Vec::new();
+    for t in ["1", "2"] {
+        let net = d.join(format!("net-{t}.gnet"));
+        ok(&[
+            "extract",
+            s(&img),
+            "--voxel-size-m",
+            "2e-6",
+            "-o",
+            s(&net),
+            "--threads",
+            t,
+            "-q",
+        ]);
+        let vti = d.join(format!("net-{t}.gnet.regions.vti"));
+        outputs.push((std::fs::read(&net).unwrap(), std::fs::read(&vti).unwrap()));
+    }
+    assert!(
+        outputs[0] == outputs[1],
+        "files differ between 1 and 2 threads"
+    );
+}

@@ -14,6 +14,9 @@
 //! - [`error`]: every error type of the crate; uses no other module.
 //! - [`plot`]: line plots (linear or log axes, bands, markers) as SVG text
 //!   or PNG bytes, drawn with `plotters` and an embedded DejaVu Sans font.
+//! - [`image_ganglia`]: the imaged non-aqueous phase (`imaged-ganglia.csv`,
+//!   `imaged-phase.json`).
+//! - [`vti`]: the regions of an extracted image as VTK XML ImageData (`.vti`).
 //! - [`vtk`]: a network and an end state as VTK XML PolyData (`.vtp`),
 //!   binary appended data or ASCII, with the meaning of every array.
 //! - [`figures`]: the standard figures of a study run (Pc, kr linear and
@@ -63,12 +66,14 @@ pub mod artifacts;
 pub mod error;
 pub mod figures;
 pub mod html;
+pub mod image_ganglia;
 pub mod key_results;
 pub mod plot;
 pub mod run_files;
 pub mod saturation_tables;
 pub mod sweep_files;
 pub mod sweep_report;
+pub mod vti;
 pub mod vtk;
 
 pub use artifacts::{ArtifactOptions, write_run_artifacts};

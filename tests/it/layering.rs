@@ -362,6 +362,7 @@ const CORE_RULES: &[(&str, &[&str])] = &[
     ("fit", &["engine", "io", "study", "run", "network"]),
     ("run", &["io", "study", "sweep"]),
     ("study", &["engine", "run", "io"]),
+    ("image", &["engine", "io", "study", "run", "sweep", "flow"]),
 ];
 
 #[test]

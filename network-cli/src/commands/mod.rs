@@ -3,11 +3,14 @@
 
 pub mod batch;
 pub mod convert;
+pub mod extract;
+pub mod ganglia_image;
 pub mod generate;
 pub mod inspect;
 pub mod perm;
 pub mod run;
 pub mod sweep;
+pub mod synth_image;
 pub mod template;
 
 use std::path::Path;

@@ -9,6 +9,7 @@ mod drainage;
 mod flow;
 mod flow_emt;
 mod generate;
+mod image;
 mod imbibition;
 mod input_checks;
 mod io;
