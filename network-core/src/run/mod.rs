@@ -10,6 +10,7 @@ pub mod end_points;
 pub mod fractional_flow;
 pub mod indices;
 pub mod input_checks;
+pub mod micp;
 pub mod model_limits;
 pub mod process;
 pub mod profiles;
