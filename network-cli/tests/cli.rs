@@ -707,3 +707,49 @@ fn table_units_convert_the_keyword_tables_and_refuse_unknown_units() {
         "nothing may be written before a refusal"
     );
 }
+
+#[test]
+fn micp_writes_curve_and_figures_and_overlays_a_measured_curve() {
+    let dir = scratch("micp");
+    let measured = dir.join("measured.csv");
+    std::fs::write(
+        &measured,
+        "# invented plug\npressure_psi,mercury_saturation\n5,0.0\n50,0.5\n500,0.9\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&out),
+        "--measured",
+        s(&measured),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("misfit to measured"), "{text}");
+    let csv = std::fs::read_to_string(out.join("micp.csv")).unwrap();
+    assert!(
+        csv.contains("pressure_pa,pressure_psi,mercury_saturation,throat_radius_m,ds_dlog10_r")
+    );
+    let svg = std::fs::read_to_string(out.join("micp.svg")).unwrap();
+    assert!(svg.contains("measured"));
+    assert!(out.join("pore-throat-sizes.svg").is_file());
+    no_temp_files(&out);
+    // A measured file in percent is refused with file and line.
+    std::fs::write(&measured, "pressure_psi,mercury_saturation\n5,0\n50,55\n").unwrap();
+    let o = ganglion(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&out),
+        "--measured",
+        s(&measured),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("measured.csv, line 3") && err.contains("55"),
+        "{err}"
+    );
+}

@@ -5,6 +5,7 @@ pub mod batch;
 pub mod convert;
 pub mod generate;
 pub mod inspect;
+pub mod micp;
 pub mod perm;
 pub mod run;
 pub mod sweep;

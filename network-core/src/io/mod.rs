@@ -117,6 +117,7 @@ use crate::network::validate::{self, Target, Violation, Warning};
 pub mod atomic;
 pub mod binary;
 pub mod csv;
+pub mod lab_curve;
 mod sample;
 pub mod study;
 pub mod sweep_store;

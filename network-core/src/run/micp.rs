@@ -274,3 +274,36 @@ pub fn simulate_micp(network: &Network, spec: &MicpSpec) -> Result<MicpCurve, Mi
         first_entry_pa: first_entry,
     })
 }
+
+/// A measured mercury-injection curve (read by
+/// `crate::io::lab_curve::read_measured_micp`).
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct MeasuredMicp {
+    /// Injection pressures, Pa, strictly increasing.
+    pub pressure_pa: Vec<f64>,
+    /// Mercury saturations, fraction of the pore volume.
+    pub mercury_saturation: Vec<f64>,
+}
+
+impl MeasuredMicp {
+    /// Root-mean-square difference in mercury saturation between this
+    /// curve and `simulated`, over the measured pressures that lie inside
+    /// the simulated pressure range (the simulated curve is interpolated in
+    /// `log P`). `None` when no measured pressure lies in that range.
+    pub fn rms_misfit(&self, simulated: &MicpCurve) -> Option<f64> {
+        let (lo, hi) = match (simulated.points.first(), simulated.points.last()) {
+            (Some(a), Some(b)) => (a.pressure_pa, b.pressure_pa),
+            _ => return None,
+        };
+        let mut sum = 0.0;
+        let mut n = 0usize;
+        for (&p, &s) in self.pressure_pa.iter().zip(&self.mercury_saturation) {
+            if p >= lo && p <= hi {
+                let d = simulated.saturation_at(p) - s;
+                sum += d * d;
+                n += 1;
+            }
+        }
+        (n > 0).then(|| (sum / n as f64).sqrt())
+    }
+}
