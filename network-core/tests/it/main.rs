@@ -12,6 +12,7 @@ mod generate;
 mod imbibition;
 mod input_checks;
 mod io;
+mod irregular;
 mod micp;
 mod mixed_wet;
 mod networks;
