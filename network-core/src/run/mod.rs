@@ -6,6 +6,7 @@ use std::collections::BTreeSet;
 
 use serde::{Deserialize, Serialize};
 
+pub mod calibrate;
 pub mod end_points;
 pub mod fractional_flow;
 pub mod indices;
