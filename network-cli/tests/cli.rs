@@ -753,3 +753,84 @@ fn micp_writes_curve_and_figures_and_overlays_a_measured_curve() {
         "{err}"
     );
 }
+
+#[test]
+fn calibrate_writes_the_fit_and_refuses_what_it_cannot_match() {
+    let dir = scratch("calibrate");
+    // Measured curve: the sample's own simulated MICP at pressures 0.7 times
+    // lower (a network 1/0.7 times larger), every fifth step.
+    let micp_out = dir.join("micp");
+    ok(&["micp", "sample-networks/tiny-lattice", "-o", s(&micp_out)]);
+    let sim = std::fs::read_to_string(micp_out.join("micp.csv")).unwrap();
+    let mut measured = String::from("pressure_pa,mercury_saturation\n");
+    for (i, line) in sim
+        .lines()
+        .filter(|l| !l.starts_with('#'))
+        .skip(1)
+        .enumerate()
+    {
+        if i % 5 == 4 {
+            let f: Vec<&str> = line.split(',').collect();
+            let p: f64 = f[0].parse().unwrap();
+            measured.push_str(&format!("{},{}\n", 0.7 * p, f[2]));
+        }
+    }
+    std::fs::write(dir.join("plug.csv"), measured).unwrap();
+    let lab = dir.join("lab.toml");
+    std::fs::write(
+        &lab,
+        "porosity = 0.17\npermeability_md = 400.0\nmicp_curve = \"plug.csv\"\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        text.contains("length factor") && text.contains("MICP misfit"),
+        "{text}"
+    );
+    for f in [
+        "calibration.json",
+        "calibration.svg",
+        "micp.csv",
+        "network.gnet",
+    ] {
+        assert!(out.join(f).is_file(), "{f} missing");
+    }
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("calibration.json")).unwrap())
+            .unwrap();
+    assert_eq!(json["accepted"], serde_json::Value::Bool(true));
+    // A permeability 10⁴ times too high cannot be matched together with
+    // the curve: the fit compromises and at least one misfit exceeds its
+    // limit. Exit 1, the reason printed, no network written.
+    std::fs::write(
+        &lab,
+        "porosity = 0.17\npermeability_md = 4.0e6\nmicp_curve = \"plug.csv\"\n",
+    )
+    .unwrap();
+    let out2 = dir.join("out2");
+    let o = ganglion(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out2),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("cannot be matched") && err.contains("permeability"),
+        "{err}"
+    );
+    assert!(!out2.join("network.gnet").exists());
+    assert!(out2.join("calibration.svg").is_file());
+}

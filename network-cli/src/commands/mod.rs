@@ -2,6 +2,7 @@
 //! prints or writes the result.
 
 pub mod batch;
+pub mod calibrate;
 pub mod convert;
 pub mod generate;
 pub mod inspect;

@@ -191,3 +191,74 @@ mod tests {
         assert!(e.contains("line 3") && e.contains("not above"), "{e}");
     }
 }
+
+/// A lab-data file (TOML) for `ganglion calibrate`:
+///
+/// ```toml
+/// porosity = 0.21            # fraction (helium or summation porosity)
+/// permeability_md = 150.0    # absolute permeability, mD
+/// micp_curve = "plug7.csv"   # measured MICP curve, relative to this file
+/// ```
+///
+/// Unknown keys are refused with their line.
+#[derive(Debug, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+struct LabFile {
+    porosity: f64,
+    permeability_md: f64,
+    micp_curve: String,
+}
+
+/// Reads a lab-data file and the MICP curve it names.
+pub fn read_lab_data(path: &Path) -> Result<crate::run::calibrate::LabData, LabCurveError> {
+    let text = std::fs::read_to_string(path).map_err(|source| LabCurveError::Io {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    let file: LabFile = toml::from_str(&text).map_err(|e| {
+        let line = e
+            .span()
+            .map(|s| text[..s.start.min(text.len())].lines().count().max(1))
+            .unwrap_or(1);
+        LabCurveError::Invalid {
+            path: path.to_path_buf(),
+            line,
+            message: e.message().to_string(),
+        }
+    })?;
+    let key_line = |key: &str| {
+        text.lines()
+            .position(|l| l.trim_start().starts_with(key))
+            .map_or(1, |i| i + 1)
+    };
+    if !(file.porosity.is_finite() && file.porosity > 0.0 && file.porosity < 1.0) {
+        return Err(LabCurveError::Invalid {
+            path: path.to_path_buf(),
+            line: key_line("porosity"),
+            message: format!(
+                "porosity = {}: expected a fraction in (0, 1), not a percentage",
+                file.porosity
+            ),
+        });
+    }
+    if !(file.permeability_md.is_finite() && file.permeability_md > 0.0) {
+        return Err(LabCurveError::Invalid {
+            path: path.to_path_buf(),
+            line: key_line("permeability_md"),
+            message: format!(
+                "permeability_md = {}: expected > 0 mD",
+                file.permeability_md
+            ),
+        });
+    }
+    let curve = path
+        .parent()
+        .unwrap_or_else(|| Path::new("."))
+        .join(&file.micp_curve);
+    let micp = read_measured_micp(&curve)?;
+    Ok(crate::run::calibrate::LabData {
+        porosity: file.porosity,
+        permeability_md: file.permeability_md,
+        micp,
+    })
+}
