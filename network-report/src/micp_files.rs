@@ -134,6 +134,46 @@ pub fn write_micp_files(
     Ok(())
 }
 
+/// Writes the files of a calibration into `dir`: `calibration.json` (the
+/// fitted factors, the misfit per data set, the thresholds' verdict and
+/// the refusals), `calibration.svg` (measured against simulated MICP) and,
+/// from the calibrated network's MICP, `micp.csv` and
+/// `pore-throat-sizes.svg`.
+pub fn write_calibration_files(
+    dir: &Path,
+    cal: &network_core::run::calibrate::Calibration,
+    measured: &MeasuredMicp,
+) -> Result<(), ReportError> {
+    std::fs::create_dir_all(dir).map_err(|source| ReportError::Io {
+        path: dir.to_path_buf(),
+        source,
+    })?;
+    let mut summary = serde_json::to_value(cal).unwrap_or(serde_json::Value::Null);
+    if let Some(m) = summary.as_object_mut() {
+        // The curve is in micp.csv.
+        m.remove("micp");
+    }
+    let json = serde_json::to_string_pretty(&summary).unwrap_or_default() + "\n";
+    write(dir, "calibration.json", json.as_bytes())?;
+    write(dir, "micp.csv", micp_csv(&cal.micp).as_bytes())?;
+    let chart = micp_chart(
+        &cal.micp,
+        Some(measured),
+        "Calibrated network against the measured MICP curve",
+    );
+    let svg = render_svg(&chart).map_err(|source| ReportError::Plot {
+        file: "calibration.svg".into(),
+        source,
+    })?;
+    write(dir, "calibration.svg", svg.as_bytes())?;
+    let sizes = render_svg(&size_chart(&cal.micp)).map_err(|source| ReportError::Plot {
+        file: "pore-throat-sizes.svg".into(),
+        source,
+    })?;
+    write(dir, "pore-throat-sizes.svg", sizes.as_bytes())?;
+    Ok(())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -183,44 +223,4 @@ mod tests {
         let svg = render_svg(&spec).unwrap();
         assert!(svg.contains("measured"));
     }
-}
-
-/// Writes the files of a calibration into `dir`: `calibration.json` (the
-/// fitted factors, the misfit per data set, the thresholds' verdict and
-/// the refusals), `calibration.svg` (measured against simulated MICP) and,
-/// from the calibrated network's MICP, `micp.csv` and
-/// `pore-throat-sizes.svg`.
-pub fn write_calibration_files(
-    dir: &Path,
-    cal: &network_core::run::calibrate::Calibration,
-    measured: &MeasuredMicp,
-) -> Result<(), ReportError> {
-    std::fs::create_dir_all(dir).map_err(|source| ReportError::Io {
-        path: dir.to_path_buf(),
-        source,
-    })?;
-    let mut summary = serde_json::to_value(cal).unwrap_or(serde_json::Value::Null);
-    if let Some(m) = summary.as_object_mut() {
-        // The curve is in micp.csv.
-        m.remove("micp");
-    }
-    let json = serde_json::to_string_pretty(&summary).unwrap_or_default() + "\n";
-    write(dir, "calibration.json", json.as_bytes())?;
-    write(dir, "micp.csv", micp_csv(&cal.micp).as_bytes())?;
-    let chart = micp_chart(
-        &cal.micp,
-        Some(measured),
-        "Calibrated network against the measured MICP curve",
-    );
-    let svg = render_svg(&chart).map_err(|source| ReportError::Plot {
-        file: "calibration.svg".into(),
-        source,
-    })?;
-    write(dir, "calibration.svg", svg.as_bytes())?;
-    let sizes = render_svg(&size_chart(&cal.micp)).map_err(|source| ReportError::Plot {
-        file: "pore-throat-sizes.svg".into(),
-        source,
-    })?;
-    write(dir, "pore-throat-sizes.svg", sizes.as_bytes())?;
-    Ok(())
 }

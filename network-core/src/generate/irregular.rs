@@ -371,7 +371,7 @@ pub(super) fn generate_irregular(
         if free {
             grid.insert(pos.len() as u32, p);
             pos.push(p);
-            if pos.len() % CHUNK == 0 {
+            if pos.len().is_multiple_of(CHUNK) {
                 progress.advance(CHUNK as u64);
             }
         }

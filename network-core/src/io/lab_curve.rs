@@ -152,46 +152,6 @@ pub fn parse_measured_micp(text: &str, path: &Path) -> Result<MeasuredMicp, LabC
     })
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn reads_psi_and_converts_to_pascal() {
-        let m = parse_measured_micp(
-            "# plug 7\npressure_psi,mercury_saturation\n1,0\n10,0.5\n",
-            Path::new("m.csv"),
-        )
-        .unwrap();
-        // 1 psi = 0.45359237 kg × 9.80665 m/s² / (0.0254 m)² (exact
-        // definitions) = 6894.757293168… Pa.
-        assert!((m.pressure_pa[0] - 6894.757293168361).abs() < 1e-9);
-        assert_eq!(m.mercury_saturation, vec![0.0, 0.5]);
-    }
-
-    #[test]
-    fn names_file_and_line_of_a_bad_value() {
-        let e = parse_measured_micp(
-            "pressure_pa,mercury_saturation\n1e4,0\n2e4,45\n",
-            Path::new("m.csv"),
-        )
-        .unwrap_err()
-        .to_string();
-        assert!(e.contains("m.csv, line 3") && e.contains("45"), "{e}");
-        let e = parse_measured_micp("pressure_bar,mercury_saturation\n", Path::new("m.csv"))
-            .unwrap_err()
-            .to_string();
-        assert!(e.contains("line 1") && e.contains("pressure_bar"), "{e}");
-        let e = parse_measured_micp(
-            "pressure_pa,mercury_saturation\n2e4,0\n1e4,0.1\n",
-            Path::new("m.csv"),
-        )
-        .unwrap_err()
-        .to_string();
-        assert!(e.contains("line 3") && e.contains("not above"), "{e}");
-    }
-}
-
 /// A lab-data file (TOML) for `ganglion calibrate`:
 ///
 /// ```toml
@@ -261,4 +221,44 @@ pub fn read_lab_data(path: &Path) -> Result<crate::run::calibrate::LabData, LabC
         permeability_md: file.permeability_md,
         micp,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn reads_psi_and_converts_to_pascal() {
+        let m = parse_measured_micp(
+            "# plug 7\npressure_psi,mercury_saturation\n1,0\n10,0.5\n",
+            Path::new("m.csv"),
+        )
+        .unwrap();
+        // 1 psi = 0.45359237 kg × 9.80665 m/s² / (0.0254 m)² (exact
+        // definitions) = 6894.757293168… Pa.
+        assert!((m.pressure_pa[0] - 6894.757293168361).abs() < 1e-9);
+        assert_eq!(m.mercury_saturation, vec![0.0, 0.5]);
+    }
+
+    #[test]
+    fn names_file_and_line_of_a_bad_value() {
+        let e = parse_measured_micp(
+            "pressure_pa,mercury_saturation\n1e4,0\n2e4,45\n",
+            Path::new("m.csv"),
+        )
+        .unwrap_err()
+        .to_string();
+        assert!(e.contains("m.csv, line 3") && e.contains("45"), "{e}");
+        let e = parse_measured_micp("pressure_bar,mercury_saturation\n", Path::new("m.csv"))
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("line 1") && e.contains("pressure_bar"), "{e}");
+        let e = parse_measured_micp(
+            "pressure_pa,mercury_saturation\n2e4,0\n1e4,0.1\n",
+            Path::new("m.csv"),
+        )
+        .unwrap_err()
+        .to_string();
+        assert!(e.contains("line 3") && e.contains("not above"), "{e}");
+    }
 }

@@ -183,7 +183,7 @@ fn coordination_law_probabilities_sum_to_one_and_match_sampling() {
     let p = law.probabilities();
     assert!((p.iter().sum::<f64>() - 1.0).abs() < 1e-12);
     let grid = 20_000;
-    let mut hist = vec![0.0; 17];
+    let mut hist = [0.0; 17];
     for i in 0..grid {
         let u = (i as f64 + 0.5) / grid as f64;
         // Φ⁻¹ by bisection.

@@ -71,14 +71,14 @@ fn micp_of_a_bundle_of_tubes_follows_washburn_exactly() {
     let r = radii();
     let net = bundle(&r, 5e-4);
     let s2: f64 = r.iter().map(|x| x * x).sum();
-    for theta in [140.0, 130.0] {
+    for theta in [140.0f64, 130.0] {
         let spec = MicpSpec {
             contact_angle_deg: theta,
             steps: 200,
             ..MicpSpec::default()
         };
         let curve = simulate_micp(&net, &spec).expect("micp");
-        let cos = (theta as f64).to_radians().cos().abs();
+        let cos = theta.to_radians().cos().abs();
         let mut jumps = 0;
         for (k, p) in curve.points.iter().enumerate() {
             let want: f64 = r
