@@ -16,7 +16,10 @@
 //! (random sequential addition, Widom 1966, J. Chem. Phys. 44:3888–3894;
 //! a hard-core Poisson process). Proposal `a` uses the counter-based draws
 //! `unit_hash(seed, ·, 3a + c)`, and the process is sequential, so the
-//! positions do not depend on the thread count.
+//! positions do not depend on the thread count. The pores are then
+//! numbered in the order of the grid cells that hold them (x fastest, then
+//! y, then z; within a cell in order of placement), so neighbours lie
+//! close in memory.
 //!
 //! # Candidate neighbours
 //! Each pore is joined to its `k = coordination_max + 4` nearest pores
@@ -375,6 +378,20 @@ pub(super) fn generate_irregular(
                 progress.advance(CHUNK as u64);
             }
         }
+    }
+    // Number the pores in cell order (cells in x-fastest order, then
+    // order of placement), so that neighbours lie close in memory.
+    let mut order: Vec<(usize, u32)> = pos
+        .iter()
+        .enumerate()
+        .map(|(i, &p)| (grid.index(grid.cell_of(p)), i as u32))
+        .collect();
+    order.par_sort_unstable();
+    let pos: Vec<[f64; 3]> = order.iter().map(|&(_, i)| pos[i as usize]).collect();
+    drop(order);
+    let mut grid = Grid::new(dims, s, n);
+    for (i, &p) in pos.iter().enumerate() {
+        grid.insert(i as u32, p);
     }
     progress.finish();
 
