@@ -158,3 +158,48 @@ fn micp_refuses_a_wetting_mercury_angle() {
     let err = simulate_micp(&bundle(&radii(), 1e-4), &spec).unwrap_err();
     assert!(err.to_string().contains("contact_angle_deg = 40"), "{err}");
 }
+
+#[test]
+fn micp_and_calibration_give_the_same_bits_on_one_and_two_threads() {
+    use network_core::generate::IrregularSpec;
+    use network_core::run::calibrate::{LabData, calibrate, scale_network};
+    use network_core::run::micp::MeasuredMicp;
+    let spec = network_core::generate::LatticeSpec {
+        nx: 10,
+        ny: 10,
+        nz: 10,
+        irregular: Some(IrregularSpec::default()),
+        ..Default::default()
+    };
+    let net = network_core::generate::generate(&spec, &network_core::progress::Silent).unwrap();
+    let run = || {
+        let curve = simulate_micp(&net, &MicpSpec::default()).unwrap();
+        let truth = scale_network(&net, 1.05, 0.9).unwrap();
+        let sim = simulate_micp(&truth, &MicpSpec::default()).unwrap();
+        let lab = LabData {
+            porosity: truth.porosity(),
+            permeability_md: 50.0,
+            micp: MeasuredMicp {
+                pressure_pa: sim.points.iter().map(|p| p.pressure_pa).collect(),
+                mercury_saturation: sim.points.iter().map(|p| p.mercury_saturation).collect(),
+            },
+        };
+        let (cal, _) = calibrate(&net, &lab, 1).unwrap();
+        let bits: Vec<u64> = curve
+            .points
+            .iter()
+            .flat_map(|p| [p.mercury_saturation.to_bits(), p.ds_dlog10_r.to_bits()])
+            .chain([cal.radius_factor.to_bits(), cal.length_factor.to_bits()])
+            .collect();
+        bits
+    };
+    let pool = |n| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(n)
+            .build()
+            .unwrap()
+    };
+    let one = pool(1).install(run);
+    let two = pool(2).install(run);
+    assert_eq!(one, two);
+}
