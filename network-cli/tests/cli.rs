@@ -835,3 +835,27 @@ fn calibrate_writes_the_fit_and_refuses_what_it_cannot_match() {
     assert!(!out2.join("network.gnet").exists());
     assert!(out2.join("calibration.svg").is_file());
 }
+
+#[test]
+fn readme_rock_matching_example_runs_on_the_bundled_files() {
+    let dir = scratch("rock-example");
+    ok(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&dir.join("micp-out")),
+        "--measured",
+        "docs/examples/plug-demo-micp.csv",
+    ]);
+    let o = ok(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        "docs/examples/plug-demo.toml",
+        "-o",
+        s(&dir.join("cal-out")),
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("calibrated network"));
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    assert!(readme.contains("--lab docs/examples/plug-demo.toml"));
+}
