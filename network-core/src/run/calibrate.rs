@@ -32,6 +32,13 @@
 //!    practice); `J` is minimised by a scan of `log λ` followed by
 //!    golden-section refinement.
 //!
+//! # Optionally: the spread of the pore sizes
+//!
+//! [`calibrate_pore_shape`] repeats the procedure on networks generated
+//! with several pore-radius Weibull shapes `δ` (same seed and other
+//! parameters) and keeps the best, so the slope of the MICP curve can be
+//! matched too.
+//!
 //! # Refusal
 //!
 //! The data are refused ([`Calibration::accepted`] false, with the reasons)
@@ -127,6 +134,9 @@ pub enum CalibrationError {
     /// The permeability solve failed.
     #[error("permeability solve failed: {0}")]
     Flow(String),
+    /// A base network could not be generated.
+    #[error("cannot generate a base network: {0}")]
+    Generate(String),
 }
 
 /// The network with radii scaled by `radius_factor` and every length by
@@ -347,4 +357,70 @@ pub fn calibrate(
         },
         net,
     ))
+}
+
+impl Calibration {
+    /// The fitted objective `(e_S/0.05)² + (e_k/log₁₀ 2)²` (module
+    /// documentation); infinite when no MICP point was compared.
+    pub fn objective(&self) -> f64 {
+        (self.micp_rms_misfit / SAT_SCALE).powi(2)
+            + (self.permeability_log10_misfit / PERM_SCALE).powi(2)
+    }
+}
+
+/// Default candidates of the pore-radius Weibull shape `δ` tried by
+/// [`calibrate_pore_shape`].
+pub const PORE_SHAPE_CANDIDATES: [f64; 7] = [0.7, 1.0, 1.4, 1.8, 2.5, 3.5, 5.0];
+
+/// One candidate of [`calibrate_pore_shape`].
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+pub struct ShapeCandidate {
+    /// Pore-radius Weibull shape `δ` of the generated base network.
+    pub pore_radius_shape: f64,
+    /// Its calibration.
+    pub calibration: Calibration,
+}
+
+/// Calibrates networks generated from `spec` with each pore-radius Weibull
+/// shape of `shapes` (the other generator parameters and the seed kept)
+/// and returns every candidate, the index of the best (accepted first,
+/// then the smallest [`Calibration::objective`]) and its calibrated
+/// network. The shape changes the spread of the pore sizes and so the
+/// slope of the MICP curve, which scaling alone cannot change.
+pub fn calibrate_pore_shape(
+    spec: &crate::generate::LatticeSpec,
+    shapes: &[f64],
+    lab: &LabData,
+    seed: u64,
+) -> Result<(Vec<ShapeCandidate>, usize, Network), CalibrationError> {
+    let mut out: Vec<ShapeCandidate> = Vec::with_capacity(shapes.len());
+    let mut best: Option<(usize, Network)> = None;
+    for &shape in shapes {
+        let mut s = spec.clone();
+        s.pore_radius.shape = shape;
+        let base = crate::generate::generate(&s, &crate::progress::Silent)
+            .map_err(|e| CalibrationError::Generate(e.to_string()))?;
+        let (cal, net) = calibrate(&base, lab, seed)?;
+        let better = match &best {
+            None => true,
+            Some((i, _)) => {
+                let b = &out[*i].calibration;
+                (cal.accepted && !b.accepted)
+                    || (cal.accepted == b.accepted && cal.objective() < b.objective())
+            }
+        };
+        out.push(ShapeCandidate {
+            pore_radius_shape: shape,
+            calibration: cal,
+        });
+        if better {
+            best = Some((out.len() - 1, net));
+        }
+    }
+    match best {
+        Some((i, net)) => Ok((out, i, net)),
+        None => Err(CalibrationError::Generate(
+            "no pore-radius shape to try".into(),
+        )),
+    }
 }
