@@ -859,3 +859,64 @@ fn readme_rock_matching_example_runs_on_the_bundled_files() {
     let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
     assert!(readme.contains("--lab docs/examples/plug-demo.toml"));
 }
+
+#[test]
+fn calibrate_from_a_generator_file_fits_the_pore_shape() {
+    // Data made from a generated irregular network with pore Weibull shape
+    // 3.5; calibrating from the same generator file with shape 1.8 must
+    // pick 3.5 among the candidates and list them all.
+    let dir = scratch("calibrate-shape");
+    let gen_truth = dir.join("truth.toml");
+    std::fs::write(
+        &gen_truth,
+        "nx = 8\nny = 8\nnz = 8\npore_radius = { min_m = 5e-6, max_m = 4e-5, shape = 3.5, scale = 0.3 }\n[irregular]\n",
+    )
+    .unwrap();
+    let truth = dir.join("truth.gnet");
+    ok(&["generate", "--spec", s(&gen_truth), "-o", s(&truth)]);
+    let m = dir.join("m");
+    ok(&["micp", s(&truth), "-o", s(&m)]);
+    let sim = std::fs::read_to_string(m.join("micp.csv")).unwrap();
+    let mut measured = String::from("pressure_pa,mercury_saturation\n");
+    for (i, line) in sim
+        .lines()
+        .filter(|l| !l.starts_with('#'))
+        .skip(1)
+        .enumerate()
+    {
+        if i % 4 == 3 {
+            let f: Vec<&str> = line.split(',').collect();
+            measured.push_str(&format!("{},{}\n", f[0], f[2]));
+        }
+    }
+    std::fs::write(dir.join("m.csv"), measured).unwrap();
+    let perm = ganglion(&["perm", s(&truth), "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&perm.stdout).unwrap();
+    let lab = dir.join("lab.toml");
+    std::fs::write(
+        &lab,
+        format!(
+            "porosity = {}\npermeability_md = {}\nmicp_curve = \"m.csv\"\n",
+            v["porosity"], v["permeability_md"]
+        ),
+    )
+    .unwrap();
+    let gen_base = dir.join("base.toml");
+    std::fs::write(&gen_base, "nx = 8\nny = 8\nnz = 8\n[irregular]\n").unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "calibrate",
+        "--spec",
+        s(&gen_base),
+        "--fit-pore-shape",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("pore-radius shape        3.5"), "{text}");
+    let csv = std::fs::read_to_string(out.join("pore-shape-candidates.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 8);
+    assert!(out.join("network.gnet").is_file());
+}

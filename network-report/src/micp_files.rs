@@ -174,6 +174,52 @@ pub fn write_calibration_files(
     Ok(())
 }
 
+/// The `pore-shape-candidates.csv` text of a pore-shape calibration: one
+/// row per Weibull shape tried, with its factors, misfits, objective and
+/// verdict; `best` is 1 on the row kept.
+pub fn shape_candidates_csv(
+    cands: &[network_core::run::calibrate::ShapeCandidate],
+    best: usize,
+) -> String {
+    let mut s = String::from(
+        "pore_radius_shape,radius_factor,length_factor,porosity_misfit,permeability_log10_misfit,micp_rms_misfit,objective,accepted,best\n",
+    );
+    for (i, c) in cands.iter().enumerate() {
+        let k = &c.calibration;
+        let _ = writeln!(
+            s,
+            "{},{},{},{},{},{},{},{},{}",
+            c.pore_radius_shape,
+            k.radius_factor,
+            k.length_factor,
+            k.porosity_misfit,
+            k.permeability_log10_misfit,
+            k.micp_rms_misfit,
+            k.objective(),
+            k.accepted,
+            u8::from(i == best)
+        );
+    }
+    s
+}
+
+/// Writes `pore-shape-candidates.csv` into `dir` (created if missing).
+pub fn write_shape_candidates(
+    dir: &Path,
+    cands: &[network_core::run::calibrate::ShapeCandidate],
+    best: usize,
+) -> Result<(), ReportError> {
+    std::fs::create_dir_all(dir).map_err(|source| ReportError::Io {
+        path: dir.to_path_buf(),
+        source,
+    })?;
+    write(
+        dir,
+        "pore-shape-candidates.csv",
+        shape_candidates_csv(cands, best).as_bytes(),
+    )
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -6,7 +6,8 @@ use std::path::PathBuf;
 use anyhow::{Context, Result, bail};
 use network_core::io::lab_curve::read_lab_data;
 use network_core::run::calibrate::{
-    MAX_LOG10_PERM_MISFIT, MAX_MICP_RMS, MAX_POROSITY_MISFIT, calibrate,
+    MAX_LOG10_PERM_MISFIT, MAX_MICP_RMS, MAX_POROSITY_MISFIT, PORE_SHAPE_CANDIDATES, calibrate,
+    calibrate_pore_shape,
 };
 
 use crate::progress::Bars;
@@ -32,11 +33,21 @@ use crate::progress::Bars;
 /// Examples:
 ///   ganglion generate -o base.gnet --size 40x40x40 --irregular
 ///   ganglion calibrate base.gnet --lab plug7.toml -o plug7-cal
+///   ganglion calibrate --spec gen.toml --fit-pore-shape --lab plug7.toml -o plug7-cal
 #[derive(clap::Args, Debug)]
 #[command(verbatim_doc_comment)]
 pub struct Args {
-    /// Base network: a CSV folder or a binary `.gnet` file.
-    pub network: PathBuf,
+    /// Base network: a CSV folder or a binary `.gnet` file (or give
+    /// --spec instead).
+    pub network: Option<PathBuf>,
+    /// Generator file (TOML) of the base network, instead of NETWORK.
+    #[arg(long, value_name = "GEN.toml")]
+    pub spec: Option<PathBuf>,
+    /// With --spec: also fit the spread of the pore sizes, trying the
+    /// pore-radius Weibull shapes 0.7, 1, 1.4, 1.8, 2.5, 3.5 and 5 and
+    /// keeping the best (OUT/pore-shape-candidates.csv lists them all).
+    #[arg(long, requires = "spec")]
+    pub fit_pore_shape: bool,
     /// Lab-data file (TOML, see above).
     #[arg(long, value_name = "FILE.toml")]
     pub lab: PathBuf,
@@ -50,8 +61,35 @@ pub struct Args {
 
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     let lab = read_lab_data(&args.lab)?;
-    let loaded = super::load(&args.network, progress)?;
-    let (cal, net) = calibrate(&loaded.network, &lab, args.seed)?;
+    let (cal, net) = match (&args.network, &args.spec) {
+        (Some(_), Some(_)) => bail!("give either NETWORK or --spec, not both"),
+        (None, None) => bail!("give the base network: NETWORK or --spec GEN.toml"),
+        (Some(path), None) => {
+            let loaded = super::load(path, progress)?;
+            calibrate(&loaded.network, &lab, args.seed)?
+        }
+        (None, Some(spec_path)) => {
+            let spec = network_core::io::study::read_lattice_spec(spec_path)?;
+            if args.fit_pore_shape {
+                let (cands, best, net) =
+                    calibrate_pore_shape(&spec, &PORE_SHAPE_CANDIDATES, &lab, args.seed)?;
+                network_report::micp_files::write_shape_candidates(&args.output, &cands, best)
+                    .with_context(|| {
+                        format!("cannot write the results into {}", args.output.display())
+                    })?;
+                println!(
+                    "pore-radius shape        {} (best of {} tried; pore-shape-candidates.csv)",
+                    cands[best].pore_radius_shape,
+                    cands.len()
+                );
+                (cands[best].calibration.clone(), net)
+            } else {
+                let base = network_core::generate::generate(&spec, progress)
+                    .context("cannot generate the base network")?;
+                calibrate(&base, &lab, args.seed)?
+            }
+        }
+    };
     network_report::micp_files::write_calibration_files(&args.output, &cal, &lab.micp)
         .with_context(|| format!("cannot write the results into {}", args.output.display()))?;
     println!("radius factor            {:.6}", cal.radius_factor);
