@@ -954,3 +954,216 @@ fn extraction_files_are_identical_with_one_and_two_threads() {
         "files differ between 1 and 2 threads"
     );
 }
+
+#[test]
+fn micp_writes_curve_and_figures_and_overlays_a_measured_curve() {
+    let dir = scratch("micp");
+    let measured = dir.join("measured.csv");
+    std::fs::write(
+        &measured,
+        "# invented plug\npressure_psi,mercury_saturation\n5,0.0\n50,0.5\n500,0.9\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&out),
+        "--measured",
+        s(&measured),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("misfit to measured"), "{text}");
+    let csv = std::fs::read_to_string(out.join("micp.csv")).unwrap();
+    assert!(
+        csv.contains("pressure_pa,pressure_psi,mercury_saturation,throat_radius_m,ds_dlog10_r")
+    );
+    let svg = std::fs::read_to_string(out.join("micp.svg")).unwrap();
+    assert!(svg.contains("measured"));
+    assert!(out.join("pore-throat-sizes.svg").is_file());
+    no_temp_files(&out);
+    // A measured file in percent is refused with file and line.
+    std::fs::write(&measured, "pressure_psi,mercury_saturation\n5,0\n50,55\n").unwrap();
+    let o = ganglion(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&out),
+        "--measured",
+        s(&measured),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("measured.csv, line 3") && err.contains("55"),
+        "{err}"
+    );
+}
+
+#[test]
+fn calibrate_writes_the_fit_and_refuses_what_it_cannot_match() {
+    let dir = scratch("calibrate");
+    // Measured curve: the sample's own simulated MICP at pressures 0.7 times
+    // lower (a network 1/0.7 times larger), every fifth step.
+    let micp_out = dir.join("micp");
+    ok(&["micp", "sample-networks/tiny-lattice", "-o", s(&micp_out)]);
+    let sim = std::fs::read_to_string(micp_out.join("micp.csv")).unwrap();
+    let mut measured = String::from("pressure_pa,mercury_saturation\n");
+    for (i, line) in sim
+        .lines()
+        .filter(|l| !l.starts_with('#'))
+        .skip(1)
+        .enumerate()
+    {
+        if i % 5 == 4 {
+            let f: Vec<&str> = line.split(',').collect();
+            let p: f64 = f[0].parse().unwrap();
+            measured.push_str(&format!("{},{}\n", 0.7 * p, f[2]));
+        }
+    }
+    std::fs::write(dir.join("plug.csv"), measured).unwrap();
+    let lab = dir.join("lab.toml");
+    std::fs::write(
+        &lab,
+        "porosity = 0.17\npermeability_md = 400.0\nmicp_curve = \"plug.csv\"\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        text.contains("length factor") && text.contains("MICP misfit"),
+        "{text}"
+    );
+    for f in [
+        "calibration.json",
+        "calibration.svg",
+        "micp.csv",
+        "network.gnet",
+    ] {
+        assert!(out.join(f).is_file(), "{f} missing");
+    }
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("calibration.json")).unwrap())
+            .unwrap();
+    assert_eq!(json["accepted"], serde_json::Value::Bool(true));
+    // A permeability 10⁴ times too high cannot be matched together with
+    // the curve: the fit compromises and at least one misfit exceeds its
+    // limit. Exit 1, the reason printed, no network written.
+    std::fs::write(
+        &lab,
+        "porosity = 0.17\npermeability_md = 4.0e6\nmicp_curve = \"plug.csv\"\n",
+    )
+    .unwrap();
+    let out2 = dir.join("out2");
+    let o = ganglion(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out2),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("cannot be matched")
+            && (err.contains("permeability") || err.contains("MICP misfit")),
+        "{err}"
+    );
+    assert!(!out2.join("network.gnet").exists());
+    assert!(out2.join("calibration.svg").is_file());
+}
+
+#[test]
+fn readme_rock_matching_example_runs_on_the_bundled_files() {
+    let dir = scratch("rock-example");
+    ok(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&dir.join("micp-out")),
+        "--measured",
+        "docs/examples/plug-demo-micp.csv",
+    ]);
+    let o = ok(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        "docs/examples/plug-demo.toml",
+        "-o",
+        s(&dir.join("cal-out")),
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("calibrated network"));
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    assert!(readme.contains("--lab docs/examples/plug-demo.toml"));
+}
+
+#[test]
+fn calibrate_from_a_generator_file_fits_the_pore_shape() {
+    // Data made from a generated irregular network with pore Weibull shape
+    // 3.5; calibrating from the same generator file with shape 1.8 must
+    // pick 3.5 among the candidates and list them all.
+    let dir = scratch("calibrate-shape");
+    let gen_truth = dir.join("truth.toml");
+    std::fs::write(
+        &gen_truth,
+        "nx = 8\nny = 8\nnz = 8\npore_radius = { min_m = 5e-6, max_m = 4e-5, shape = 3.5, scale = 0.3 }\n[irregular]\n",
+    )
+    .unwrap();
+    let truth = dir.join("truth.gnet");
+    ok(&["generate", "--spec", s(&gen_truth), "-o", s(&truth)]);
+    let m = dir.join("m");
+    ok(&["micp", s(&truth), "-o", s(&m)]);
+    let sim = std::fs::read_to_string(m.join("micp.csv")).unwrap();
+    let mut measured = String::from("pressure_pa,mercury_saturation\n");
+    for (i, line) in sim
+        .lines()
+        .filter(|l| !l.starts_with('#'))
+        .skip(1)
+        .enumerate()
+    {
+        if i % 4 == 3 {
+            let f: Vec<&str> = line.split(',').collect();
+            measured.push_str(&format!("{},{}\n", f[0], f[2]));
+        }
+    }
+    std::fs::write(dir.join("m.csv"), measured).unwrap();
+    let perm = ganglion(&["perm", s(&truth), "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&perm.stdout).unwrap();
+    let lab = dir.join("lab.toml");
+    std::fs::write(
+        &lab,
+        format!(
+            "porosity = {}\npermeability_md = {}\nmicp_curve = \"m.csv\"\n",
+            v["porosity"], v["permeability_md"]
+        ),
+    )
+    .unwrap();
+    let gen_base = dir.join("base.toml");
+    std::fs::write(&gen_base, "nx = 8\nny = 8\nnz = 8\n[irregular]\n").unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "calibrate",
+        "--spec",
+        s(&gen_base),
+        "--fit-pore-shape",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("pore-radius shape        3.5"), "{text}");
+    let csv = std::fs::read_to_string(out.join("pore-shape-candidates.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 8);
+    assert!(out.join("network.gnet").is_file());
+}

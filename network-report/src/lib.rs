@@ -37,6 +37,9 @@
 //!   each file atomically.
 //! - [`sweep_report`](mod@sweep_report): the figures and the HTML report of a sweep, written
 //!   the same way.
+//! - [`micp_files`]: the files of a simulated mercury injection
+//!   (`micp.csv`, the Pc–S_Hg chart with an optional measured overlay, the
+//!   pore-throat size chart), each written atomically.
 //! - [`run_files`] and [`sweep_files`]: the result data files of a run
 //!   (`summary.json`, `curves.csv`, `ganglia.csv`, `profiles.csv`) and of a sweep
 //!   (`summary.json`, `trapping-curve.csv`, `cases.csv`), each written
@@ -68,6 +71,7 @@ pub mod figures;
 pub mod html;
 pub mod image_ganglia;
 pub mod key_results;
+pub mod micp_files;
 pub mod plot;
 pub mod run_files;
 pub mod saturation_tables;

@@ -354,6 +354,7 @@ const CORE_RULES: &[(&str, &[&str])] = &[
         &["geometry", "capillary", "engine", "io", "study", "run"],
     ),
     ("geometry", &["engine", "io", "study", "run"]),
+    ("generate", &["engine", "io", "study", "run", "flow"]),
     ("capillary", &["engine", "io", "study", "run", "flow"]),
     ("engine", &["io", "study", "run", "flow", "fit", "sweep"]),
     ("flow", &["engine", "io", "study", "run"]),

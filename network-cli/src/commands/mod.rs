@@ -2,11 +2,13 @@
 //! prints or writes the result.
 
 pub mod batch;
+pub mod calibrate;
 pub mod convert;
 pub mod extract;
 pub mod ganglia_image;
 pub mod generate;
 pub mod inspect;
+pub mod micp;
 pub mod perm;
 pub mod run;
 pub mod sweep;

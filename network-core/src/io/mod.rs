@@ -118,6 +118,7 @@ pub mod atomic;
 pub mod binary;
 pub mod csv;
 pub mod image;
+pub mod lab_curve;
 mod sample;
 pub mod study;
 pub mod sweep_store;

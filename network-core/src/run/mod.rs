@@ -6,10 +6,12 @@ use std::collections::BTreeSet;
 
 use serde::{Deserialize, Serialize};
 
+pub mod calibrate;
 pub mod end_points;
 pub mod fractional_flow;
 pub mod indices;
 pub mod input_checks;
+pub mod micp;
 pub mod model_limits;
 pub mod process;
 pub mod profiles;

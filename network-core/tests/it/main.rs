@@ -5,6 +5,7 @@
 #![allow(clippy::needless_range_loop)]
 
 mod accounting;
+mod calibrate;
 mod drainage;
 mod flow;
 mod flow_emt;
@@ -13,6 +14,8 @@ mod image;
 mod imbibition;
 mod input_checks;
 mod io;
+mod irregular;
+mod micp;
 mod mixed_wet;
 mod networks;
 mod profiles;
