@@ -100,6 +100,9 @@ fn large_state() -> (Network, EndState) {
             })
             .collect(),
         water_trapped: vec![false; n_e],
+        water_saturation: (0..n_e)
+            .map(|e| if e % 3 == 0 { 0.2 } else { 1.0 })
+            .collect(),
         water_pressure: Some(
             (0..n.n_pores())
                 .map(|i| {

@@ -39,11 +39,17 @@ enum Command {
     Inspect(commands::inspect::Args),
     Convert(commands::convert::Args),
     Perm(commands::perm::Args),
+    Micp(commands::micp::Args),
+    Calibrate(commands::calibrate::Args),
     Run(commands::run::Args),
     Sweep(commands::sweep::Args),
     Collect(commands::sweep::CollectArgs),
+    BatchScript(commands::batch::Args),
     Template(commands::template::Args),
     Verify(commands::verify::Args),
+    Extract(commands::extract::Args),
+    SynthImage(commands::synth_image::Args),
+    GangliaImage(commands::ganglia_image::Args),
 }
 
 /// Most worker threads per core `--threads` may ask for: more only adds
@@ -78,11 +84,17 @@ fn main() -> ExitCode {
         Command::Inspect(a) => commands::inspect::run(a, &progress),
         Command::Convert(a) => commands::convert::run(a, &progress),
         Command::Perm(a) => commands::perm::run(a, &progress),
+        Command::Micp(a) => commands::micp::run(a, &progress),
+        Command::Calibrate(a) => commands::calibrate::run(a, &progress),
         Command::Run(a) => commands::run::run(a, &progress),
         Command::Sweep(a) => commands::sweep::run(a, &progress),
         Command::Collect(a) => commands::sweep::collect(a, &progress),
+        Command::BatchScript(a) => commands::batch::run(a, &progress),
         Command::Template(a) => commands::template::run(a),
         Command::Verify(a) => commands::verify::run(a),
+        Command::Extract(a) => commands::extract::run(a, &progress),
+        Command::SynthImage(a) => commands::synth_image::run(a, &progress),
+        Command::GangliaImage(a) => commands::ganglia_image::run(a, &progress),
     };
     // For measuring the memory estimates against the real peak (tests).
     if std::env::var_os("GANGLION_PRINT_PEAK_MEMORY").is_some()

@@ -3,6 +3,9 @@
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
+#[path = "cli/cluster.rs"]
+mod cluster;
+
 fn root() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
         .parent()
@@ -1060,4 +1063,464 @@ fn issue_18_huge_thread_counts_are_capped_and_table_points_bounded() {
     assert_eq!(o.status.code(), Some(1));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--table-points 1000000000"));
     assert!(!out.exists());
+}
+
+#[test]
+fn synthetic_image_extracts_to_a_network_that_loads_and_matches_the_image() {
+    let d = scratch("extract");
+    let img = d.join("rock.raw");
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&img),
+        "--size",
+        "48x40x36",
+        "--porosity",
+        "0.3",
+        "--seed",
+        "2",
+    ]);
+    let net = d.join("net");
+    let o = ok(&[
+        "extract",
+        s(&img),
+        "-o",
+        s(&net),
+        "--flow-axis",
+        "x",
+        "--json",
+        "-q",
+    ]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let ex = &v["extraction"];
+    // The network's pore volume over its bulk volume is the image porosity
+    // (pores hold every pore voxel; bulk is the image volume).
+    let o = ok(&["inspect", s(&net), "--json"]);
+    let rep: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    assert_eq!(rep["pores"].as_u64(), ex["n_pores"].as_u64(), "{rep}");
+    let (a, b) = (
+        rep["porosity"].as_f64().unwrap(),
+        ex["porosity"].as_f64().unwrap(),
+    );
+    assert!((a - b).abs() < 1e-12, "{a} vs {b}");
+    assert!(v["permeability_m2"].as_f64().unwrap() > 0.0);
+    assert!(d.join("net.regions.vti").exists());
+    no_temp_files(&d);
+    // The same image as .npy needs a voxel size: exit code 1 and a message
+    // naming the file and the flag.
+    let npy = d.join("rock.npy");
+    ok(&["synth-image", "-o", s(&npy), "--size", "20", "--seed", "2"]);
+    let o = ganglion(&["extract", s(&npy), "-o", s(&d.join("n2"))]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("rock.npy") && err.contains("--voxel-size-m"),
+        "{err}"
+    );
+    // An undeclared label is named with its voxel.
+    let o = ganglion(&[
+        "extract",
+        s(&npy),
+        "--voxel-size-m",
+        "1e-6",
+        "--pore-label",
+        "5",
+        "-o",
+        s(&d.join("n3")),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("holds label 1") && err.contains("voxel (x="),
+        "{err}"
+    );
+}
+
+#[test]
+fn imaged_ganglia_are_counted_and_written() {
+    // A 10³ raw image: water (1) everywhere, solid (0) on the z = 0 slice,
+    // oil (2) in three blobs: a 2×2×2 cube, a 1×1×4 bar and a single voxel
+    // touching the cube only at a corner. By the neighbourhood definitions:
+    // 3 ganglia with 6-connectivity, 2 with 26; oil saturation 13 / 900
+    // (pore space: the 900 voxels above the solid slice).
+    let d = scratch("ganglia");
+    let mut v = vec![1u8; 1000];
+    let idx = |x: usize, y: usize, z: usize| x + 10 * (y + 10 * z);
+    for x in 0..10 {
+        for y in 0..10 {
+            v[idx(x, y, 0)] = 0;
+        }
+    }
+    for z in 3..5 {
+        for y in 3..5 {
+            for x in 3..5 {
+                v[idx(x, y, z)] = 2;
+            }
+        }
+    }
+    v[idx(5, 5, 5)] = 2;
+    for z in 2..6 {
+        v[idx(8, 1, z)] = 2;
+    }
+    let img = d.join("res.raw");
+    std::fs::write(&img, &v).unwrap();
+    std::fs::write(
+        d.join("res.raw.toml"),
+        "dims = [10, 10, 10]\nvoxel_size_m = 2e-6\npore_label = -1\nwater_label = 1\noil_label = 2\n",
+    )
+    .unwrap();
+    let out = d.join("out6");
+    let o = ok(&["ganglia-image", s(&img), "-o", s(&out)]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("ganglia            3"), "{text}");
+    let j: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("imaged-phase.json")).unwrap())
+            .unwrap();
+    assert_eq!(j["n_ganglia"], 3);
+    assert!((j["oil_saturation"].as_f64().unwrap() - 13.0 / 900.0).abs() < 1e-15);
+    let csv = std::fs::read_to_string(out.join("imaged-ganglia.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 4);
+    let out = d.join("out26");
+    let o = ok(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--connectivity",
+        "26",
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("ganglia            2"));
+    // Beside a run's trapped ganglia: the figure is written, and a bad
+    // volume in ganglia.csv is refused with file and line.
+    let run = d.join("run");
+    std::fs::create_dir_all(&run).unwrap();
+    std::fs::write(
+        run.join("ganglia.csv"),
+        "id,volume_m3,pores\n0,1e-15,3\n1,4e-15,7\n",
+    )
+    .unwrap();
+    std::fs::write(run.join("summary.json"), "{\"snr\": 0.31}").unwrap();
+    let o = ok(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--compare",
+        s(&run),
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("2 trapped ganglia, Snr 0.3100"));
+    let svg = std::fs::read_to_string(out.join("ganglia-imaged-vs-simulated.svg")).unwrap();
+    assert!(
+        svg.starts_with("<svg") && svg.contains("simulated, 2 ganglia"),
+        "{}",
+        &svg[..200]
+    );
+    std::fs::write(run.join("ganglia.csv"), "id,volume_m3\n0,1e-15\n1,oops\n").unwrap();
+    let o = ganglion(&[
+        "ganglia-image",
+        s(&img),
+        "-o",
+        s(&out),
+        "--compare",
+        s(&run),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("ganglia.csv:3") && err.contains("oops"),
+        "{err}"
+    );
+    no_temp_files(&d);
+}
+
+#[test]
+fn bundled_sample_image_is_what_its_command_makes_and_extracts() {
+    let d = scratch("sample-image");
+    let again = d.join("again.npy");
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&again),
+        "--size",
+        "120",
+        "--porosity",
+        "0.2",
+        "--grain-radius",
+        "5,11",
+        "--voxel-size-m",
+        "3e-6",
+        "--seed",
+        "7",
+        "-q",
+    ]);
+    let bundled = root().join("sample-images/sandstone-120.npy");
+    assert!(std::fs::read(&bundled).unwrap() == std::fs::read(&again).unwrap());
+    let o = ok(&[
+        "extract",
+        s(&bundled),
+        "--voxel-size-m",
+        "3e-6",
+        "-o",
+        s(&d.join("net.gnet")),
+        "--json",
+        "--no-regions",
+        "-q",
+    ]);
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    // Porosity as the README of sample-images states it (4 decimals).
+    let phi = v["extraction"]["porosity"].as_f64().unwrap();
+    assert!((phi - 0.1995).abs() < 5e-5, "{phi}");
+    assert!(v["extraction"]["n_inlet"].as_u64().unwrap() > 0);
+}
+
+#[test]
+fn extraction_files_are_identical_with_one_and_two_threads() {
+    let d = scratch("extract-threads");
+    let img = d.join("rock.npy");
+    ok(&[
+        "synth-image",
+        "-o",
+        s(&img),
+        "--size",
+        "50x44x40",
+        "--porosity",
+        "0.25",
+        "--seed",
+        "4",
+        "-q",
+    ]);
+    let mut outputs = Vec::new();
+    for t in ["1", "2"] {
+        let net = d.join(format!("net-{t}.gnet"));
+        ok(&[
+            "extract",
+            s(&img),
+            "--voxel-size-m",
+            "2e-6",
+            "-o",
+            s(&net),
+            "--threads",
+            t,
+            "-q",
+        ]);
+        let vti = d.join(format!("net-{t}.gnet.regions.vti"));
+        outputs.push((std::fs::read(&net).unwrap(), std::fs::read(&vti).unwrap()));
+    }
+    assert!(
+        outputs[0] == outputs[1],
+        "files differ between 1 and 2 threads"
+    );
+}
+
+#[test]
+fn micp_writes_curve_and_figures_and_overlays_a_measured_curve() {
+    let dir = scratch("micp");
+    let measured = dir.join("measured.csv");
+    std::fs::write(
+        &measured,
+        "# invented plug\npressure_psi,mercury_saturation\n5,0.0\n50,0.5\n500,0.9\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&out),
+        "--measured",
+        s(&measured),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("misfit to measured"), "{text}");
+    let csv = std::fs::read_to_string(out.join("micp.csv")).unwrap();
+    assert!(
+        csv.contains("pressure_pa,pressure_psi,mercury_saturation,throat_radius_m,ds_dlog10_r")
+    );
+    let svg = std::fs::read_to_string(out.join("micp.svg")).unwrap();
+    assert!(svg.contains("measured"));
+    assert!(out.join("pore-throat-sizes.svg").is_file());
+    no_temp_files(&out);
+    // A measured file in percent is refused with file and line.
+    std::fs::write(&measured, "pressure_psi,mercury_saturation\n5,0\n50,55\n").unwrap();
+    let o = ganglion(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&out),
+        "--measured",
+        s(&measured),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("measured.csv, line 3") && err.contains("55"),
+        "{err}"
+    );
+}
+
+#[test]
+fn calibrate_writes_the_fit_and_refuses_what_it_cannot_match() {
+    let dir = scratch("calibrate");
+    // Measured curve: the sample's own simulated MICP at pressures 0.7 times
+    // lower (a network 1/0.7 times larger), every fifth step.
+    let micp_out = dir.join("micp");
+    ok(&["micp", "sample-networks/tiny-lattice", "-o", s(&micp_out)]);
+    let sim = std::fs::read_to_string(micp_out.join("micp.csv")).unwrap();
+    let mut measured = String::from("pressure_pa,mercury_saturation\n");
+    for (i, line) in sim
+        .lines()
+        .filter(|l| !l.starts_with('#'))
+        .skip(1)
+        .enumerate()
+    {
+        if i % 5 == 4 {
+            let f: Vec<&str> = line.split(',').collect();
+            let p: f64 = f[0].parse().unwrap();
+            measured.push_str(&format!("{},{}\n", 0.7 * p, f[2]));
+        }
+    }
+    std::fs::write(dir.join("plug.csv"), measured).unwrap();
+    let lab = dir.join("lab.toml");
+    std::fs::write(
+        &lab,
+        "porosity = 0.17\npermeability_md = 400.0\nmicp_curve = \"plug.csv\"\n",
+    )
+    .unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        text.contains("length factor") && text.contains("MICP misfit"),
+        "{text}"
+    );
+    for f in [
+        "calibration.json",
+        "calibration.svg",
+        "micp.csv",
+        "network.gnet",
+    ] {
+        assert!(out.join(f).is_file(), "{f} missing");
+    }
+    let json: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(out.join("calibration.json")).unwrap())
+            .unwrap();
+    assert_eq!(json["accepted"], serde_json::Value::Bool(true));
+    // A permeability 10⁴ times too high cannot be matched together with
+    // the curve: the fit compromises and at least one misfit exceeds its
+    // limit. Exit 1, the reason printed, no network written.
+    std::fs::write(
+        &lab,
+        "porosity = 0.17\npermeability_md = 4.0e6\nmicp_curve = \"plug.csv\"\n",
+    )
+    .unwrap();
+    let out2 = dir.join("out2");
+    let o = ganglion(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out2),
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        err.contains("cannot be matched")
+            && (err.contains("permeability") || err.contains("MICP misfit")),
+        "{err}"
+    );
+    assert!(!out2.join("network.gnet").exists());
+    assert!(out2.join("calibration.svg").is_file());
+}
+
+#[test]
+fn readme_rock_matching_example_runs_on_the_bundled_files() {
+    let dir = scratch("rock-example");
+    ok(&[
+        "micp",
+        "sample-networks/tiny-lattice",
+        "-o",
+        s(&dir.join("micp-out")),
+        "--measured",
+        "docs/examples/plug-demo-micp.csv",
+    ]);
+    let o = ok(&[
+        "calibrate",
+        "sample-networks/tiny-lattice",
+        "--lab",
+        "docs/examples/plug-demo.toml",
+        "-o",
+        s(&dir.join("cal-out")),
+    ]);
+    assert!(String::from_utf8_lossy(&o.stdout).contains("calibrated network"));
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    assert!(readme.contains("--lab docs/examples/plug-demo.toml"));
+}
+
+#[test]
+fn calibrate_from_a_generator_file_fits_the_pore_shape() {
+    // Data made from a generated irregular network with pore Weibull shape
+    // 3.5; calibrating from the same generator file with shape 1.8 must
+    // pick 3.5 among the candidates and list them all.
+    let dir = scratch("calibrate-shape");
+    let gen_truth = dir.join("truth.toml");
+    std::fs::write(
+        &gen_truth,
+        "nx = 8\nny = 8\nnz = 8\npore_radius = { min_m = 5e-6, max_m = 4e-5, shape = 3.5, scale = 0.3 }\n[irregular]\n",
+    )
+    .unwrap();
+    let truth = dir.join("truth.gnet");
+    ok(&["generate", "--spec", s(&gen_truth), "-o", s(&truth)]);
+    let m = dir.join("m");
+    ok(&["micp", s(&truth), "-o", s(&m)]);
+    let sim = std::fs::read_to_string(m.join("micp.csv")).unwrap();
+    let mut measured = String::from("pressure_pa,mercury_saturation\n");
+    for (i, line) in sim
+        .lines()
+        .filter(|l| !l.starts_with('#'))
+        .skip(1)
+        .enumerate()
+    {
+        if i % 4 == 3 {
+            let f: Vec<&str> = line.split(',').collect();
+            measured.push_str(&format!("{},{}\n", f[0], f[2]));
+        }
+    }
+    std::fs::write(dir.join("m.csv"), measured).unwrap();
+    let perm = ganglion(&["perm", s(&truth), "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&perm.stdout).unwrap();
+    let lab = dir.join("lab.toml");
+    std::fs::write(
+        &lab,
+        format!(
+            "porosity = {}\npermeability_md = {}\nmicp_curve = \"m.csv\"\n",
+            v["porosity"], v["permeability_md"]
+        ),
+    )
+    .unwrap();
+    let gen_base = dir.join("base.toml");
+    std::fs::write(&gen_base, "nx = 8\nny = 8\nnz = 8\n[irregular]\n").unwrap();
+    let out = dir.join("out");
+    let o = ok(&[
+        "calibrate",
+        "--spec",
+        s(&gen_base),
+        "--fit-pore-shape",
+        "--lab",
+        s(&lab),
+        "-o",
+        s(&out),
+    ]);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("pore-radius shape        3.5"), "{text}");
+    let csv = std::fs::read_to_string(out.join("pore-shape-candidates.csv")).unwrap();
+    assert_eq!(csv.lines().count(), 8);
+    assert!(out.join("network.gnet").is_file());
 }

@@ -122,6 +122,9 @@ use crate::progress::Progress;
 #[cfg(doc)]
 use crate::geometry::Shape;
 
+pub mod irregular;
+pub use irregular::IrregularSpec;
+
 /// Stream of the bond shuffle.
 const STREAM_BONDS: u64 = 0;
 /// Stream of the pore radii (one draw per pore).
@@ -408,6 +411,12 @@ pub struct LatticeSpec {
     /// `target_coordination`, the radius distributions, the shape mixes and
     /// `seed` are then ignored (and not validated). Default none.
     pub regular: Option<RegularSpec>,
+    /// When given, an irregular network (random pore positions, a thinned
+    /// nearest-neighbour graph, throats tied to their pores; see
+    /// [`irregular`]) instead of the lattice; `throat_radius`,
+    /// `throat_aspect_min` and `regular` are then not used. Default none.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub irregular: Option<IrregularSpec>,
 }
 
 impl Default for LatticeSpec {
@@ -437,6 +446,7 @@ impl Default for LatticeSpec {
             clay_fraction: 0.0,
             seed: 1,
             regular: None,
+            irregular: None,
         }
     }
 }
@@ -474,6 +484,13 @@ impl LatticeSpec {
             value,
             expected: expected.to_owned(),
         };
+        if self.regular.is_some() && self.irregular.is_some() {
+            return Err(bad(
+                "irregular",
+                f64::NAN,
+                "either a `regular` or an `irregular` table, not both",
+            ));
+        }
         let axis = self.flow_axis.index();
         for (i, (name, n)) in [("nx", self.nx), ("ny", self.ny), ("nz", self.nz)]
             .into_iter()
@@ -571,8 +588,9 @@ impl LatticeSpec {
                 self.throat_shapes.validate("throat_shapes")?;
                 let z = self.target_coordination;
                 let (min, max) = self.coordination_range();
-                // A relative slack of 1e-12 lets the exact bounds through.
-                if !(z.is_finite() && z >= min * (1.0 - 1e-12) && z <= max * (1.0 + 1e-12)) {
+                if let Some(irr) = &self.irregular {
+                    irr.validate(self)?;
+                } else if !(z.is_finite() && z >= min * (1.0 - 1e-12) && z <= max * (1.0 + 1e-12)) {
                     return Err(GenerateError::CoordinationOutOfRange {
                         target: z,
                         min,
@@ -653,6 +671,9 @@ pub enum GenerateError {
 /// Progress stages: `lattice bonds`, `pores`, `throats`, `validation`.
 pub fn generate(spec: &LatticeSpec, progress: &dyn Progress) -> Result<Network, GenerateError> {
     spec.validate()?;
+    if let Some(irr) = &spec.irregular {
+        return irregular::generate_irregular(spec, irr, progress);
+    }
     let lattice = Lattice::new(spec);
     let rng = ChaCha8Rng::seed_from_u64(spec.seed);
 

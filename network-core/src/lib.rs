@@ -19,6 +19,10 @@
 //!   module that touches the file system).
 //! - [`flow`]: conductances, the pressure solve, permeability and formation
 //!   factor.
+//! - [`image`]: segmented 3-D images (raw + sidecar, TIFF, `.npy`), the
+//!   exact distance transform, connected components, the marker-based
+//!   watershed and the extraction of a [`Network`] from the pore space;
+//!   imaged ganglia; seeded synthetic rock images.
 //! - [`progress`]: the callback through which long calls report progress.
 //! - [`generate`]: seeded statistical lattice networks ([`generate::generate`]).
 //! - [`fit`]: Corey, Brooks–Corey, LET, Land and Archie models and their
@@ -79,6 +83,7 @@ pub mod fit;
 pub mod flow;
 pub mod generate;
 pub mod geometry;
+pub mod image;
 pub mod io;
 pub mod memory;
 pub mod network;

@@ -182,6 +182,19 @@ impl NetworkReport {
     }
 }
 
+/// The `inspect --json` object of a network: the [`NetworkReport`] fields
+/// followed by `warnings` (the warnings met while reading the network, as
+/// text). The CLI prints it and the Python package returns it, so both give
+/// the same numbers.
+pub fn inspect_json(
+    network: &Network,
+    warnings: &[String],
+) -> serde_json::Result<serde_json::Value> {
+    let mut v = serde_json::to_value(NetworkReport::of(network))?;
+    v["warnings"] = serde_json::Value::from(warnings.to_vec());
+    Ok(v)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -14,6 +14,9 @@
 //! - [`error`]: every error type of the crate; uses no other module.
 //! - [`plot`]: line plots (linear or log axes, bands, markers) as SVG text
 //!   or PNG bytes, drawn with `plotters` and an embedded DejaVu Sans font.
+//! - [`image_ganglia`]: the imaged non-aqueous phase (`imaged-ganglia.csv`,
+//!   `imaged-phase.json`).
+//! - [`vti`]: the regions of an extracted image as VTK XML ImageData (`.vti`).
 //! - [`vtk`]: a network and an end state as VTK XML PolyData (`.vtp`),
 //!   binary appended data or ASCII, with the meaning of every array.
 //! - [`figures`]: the standard figures of a study run (Pc, kr linear and
@@ -36,6 +39,9 @@
 //!   `network_core::io::result_set`).
 //! - [`sweep_report`](mod@sweep_report): the figures and the HTML report of a sweep, written
 //!   the same way.
+//! - [`micp_files`]: the files of a simulated mercury injection
+//!   (`micp.csv`, the Pc–S_Hg chart with an optional measured overlay, the
+//!   pore-throat size chart), each written atomically.
 //! - [`run_files`] and [`sweep_files`]: the result data files of a run
 //!   (`summary.json`, `curves.csv`, `ganglia.csv`, `profiles.csv`) and of a sweep
 //!   (`summary.json`, `trapping-curve.csv`, `cases.csv`), each written
@@ -65,12 +71,15 @@ pub mod artifacts;
 pub mod error;
 pub mod figures;
 pub mod html;
+pub mod image_ganglia;
 pub mod key_results;
+pub mod micp_files;
 pub mod plot;
 pub mod run_files;
 pub mod saturation_tables;
 pub mod sweep_files;
 pub mod sweep_report;
+pub mod vti;
 pub mod vtk;
 
 pub use artifacts::{ArtifactOptions, write_run_artifacts, write_run_set};
@@ -80,5 +89,5 @@ pub use html::run_report;
 pub use run_files::write_run_results;
 pub use saturation_tables::from_run::saturation_tables;
 pub use sweep_files::{write_sweep_results, write_sweep_set};
-pub use sweep_report::{sweep_figures, sweep_report, write_sweep_artifacts};
+pub use sweep_report::{sweep_figures, sweep_report, sweep_title, write_sweep_artifacts};
 pub use vtk::write_vtp;

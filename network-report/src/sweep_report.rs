@@ -598,6 +598,15 @@ pub fn sweep_report(
     page.render()
 }
 
+/// The title of a sweep's report: the study title of its first finished
+/// case, or "Ganglion sweep" (the CLI and the Python package use it).
+pub fn sweep_title(results: &[CaseResult]) -> String {
+    results
+        .first()
+        .and_then(|r| r.case.study().title)
+        .unwrap_or_else(|| "Ganglion sweep".to_string())
+}
+
 /// Writes the sweep's figures (SVG, and PNG when `png`) and `report.html`
 /// into `dir`, each atomically.
 pub fn write_sweep_artifacts(

@@ -154,6 +154,10 @@ fn the_templates_parse_and_state_the_library_defaults() {
     // The commented-out optional keys parse as well.
     let g: LatticeSpec = toml::from_str(&uncommented(generate::TEMPLATE)).unwrap();
     assert!(g.regular.is_some());
+    assert_eq!(
+        g.irregular,
+        Some(network_core::generate::IrregularSpec::default())
+    );
 }
 
 /// Keys of a serialised parameter struct.
@@ -223,6 +227,7 @@ fn every_library_parameter_is_in_a_template() {
             pore_shape_factor: 0.05,
             throat_shape_factor: 0.05,
         }),
+        irregular: Some(network_core::generate::IrregularSpec::default()),
         ..LatticeSpec::default()
     };
     let v = serde_json::to_value(&spec).unwrap();

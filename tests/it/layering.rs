@@ -322,7 +322,12 @@ fn cycles(edges: &BTreeMap<(ModPath, ModPath), String>) -> Vec<String> {
     found
 }
 
-const CRATES: [&str; 3] = ["network-core/src", "network-report/src", "network-cli/src"];
+const CRATES: [&str; 4] = [
+    "network-core/src",
+    "network-report/src",
+    "network-cli/src",
+    "network-py/src",
+];
 
 #[test]
 fn no_module_depends_on_a_module_that_depends_on_it() {
@@ -349,6 +354,7 @@ const CORE_RULES: &[(&str, &[&str])] = &[
         &["geometry", "capillary", "engine", "io", "study", "run"],
     ),
     ("geometry", &["engine", "io", "study", "run"]),
+    ("generate", &["engine", "io", "study", "run", "flow"]),
     ("capillary", &["engine", "io", "study", "run", "flow"]),
     ("engine", &["io", "study", "run", "flow", "fit", "sweep"]),
     ("flow", &["engine", "io", "study", "run"]),
@@ -357,6 +363,7 @@ const CORE_RULES: &[(&str, &[&str])] = &[
     ("fit", &["engine", "io", "study", "run", "network"]),
     ("run", &["io", "study", "sweep"]),
     ("study", &["engine", "run", "io"]),
+    ("image", &["engine", "io", "study", "run", "sweep", "flow"]),
 ];
 
 #[test]
@@ -383,6 +390,27 @@ fn report_reads_results_not_engine_internals() {
     let mut problems = Vec::new();
     for (m, code) in &krate.modules {
         for forbidden in ["network_core::engine", "network_core::flow::solver"] {
+            if code.contains(forbidden) {
+                problems.push(format!("{} uses {forbidden}", m.join("/")));
+            }
+        }
+    }
+    assert!(problems.is_empty(), "{}", problems.join("\n"));
+}
+
+#[test]
+fn python_package_calls_the_library_not_its_internals() {
+    // network-py is glue like the CLI: it reads, runs and writes through the
+    // library's public calls and holds no physics of its own.
+    let krate = read_crate(&workspace().join("network-py/src"));
+    let mut problems = Vec::new();
+    for (m, code) in &krate.modules {
+        for forbidden in [
+            "network_core::engine",
+            "network_core::flow",
+            "network_core::capillary",
+            "network_core::geometry",
+        ] {
             if code.contains(forbidden) {
                 problems.push(format!("{} uses {forbidden}", m.join("/")));
             }

@@ -1,14 +1,14 @@
-//! `ganglion generate`: a seeded simple-cubic lattice network.
+//! `ganglion generate`: a seeded simple-cubic lattice or irregular network.
 
 use std::path::{Path, PathBuf};
 
 use anyhow::{Context, Result, bail};
-use network_core::generate::{GenerateError, LatticeSpec, generate};
+use network_core::generate::{GenerateError, IrregularSpec, LatticeSpec, generate};
 use network_core::{Axis, io};
 
 use crate::progress::Bars;
 
-/// Generate a lattice network with random radii and shapes.
+/// Generate a lattice or irregular network with random radii and shapes.
 ///
 /// Parameters come from a generator file (`--spec`, TOML; every key
 /// optional, see docs/keys.md or `ganglion template generator`) and the
@@ -59,6 +59,31 @@ pub struct Args {
     /// Name written into network.toml.
     #[arg(long)]
     pub name: Option<String>,
+    /// Irregular network (table `[irregular]`): random pore positions in
+    /// the NX·s × NY·s × NZ·s box, a thinned nearest-neighbour graph,
+    /// throats tied to their pores. Implied by any flag below.
+    #[arg(long)]
+    pub irregular: bool,
+    #[arg(long, value_name = "F", help = help_default(
+        "Irregular: hard-core distance between pore centres as a fraction of the spacing, in (0, 0.85] (key irregular.min_distance_fraction).",
+        IrregularSpec::default().min_distance_fraction))]
+    pub min_distance_fraction: Option<f64>,
+    #[arg(long, value_name = "W", help = help_default(
+        "Irregular: spread of the log-normal coordination law, in (0, 2] (key irregular.coordination_spread).",
+        IrregularSpec::default().coordination_spread))]
+    pub coordination_spread: Option<f64>,
+    #[arg(long, value_name = "Z", help = help_default(
+        "Irregular: largest coordination number, 4–40 (key irregular.coordination_max).",
+        IrregularSpec::default().coordination_max))]
+    pub coordination_max: Option<u32>,
+    #[arg(long, value_name = "LO,HI", help = help_default(
+        "Irregular: range of throat radius / smaller pore radius, 0 < LO ≤ HI ≤ 1 (key irregular.throat_to_pore_ratio).",
+        { let [a, b] = IrregularSpec::default().throat_to_pore_ratio; format!("{a},{b}") }))]
+    pub throat_to_pore_ratio: Option<String>,
+    #[arg(long, value_name = "M", help = help_default(
+        "Irregular: correlation length of pore sizes, m; 0 for none, at most 4 spacings (key irregular.correlation_length_m).",
+        IrregularSpec::default().correlation_length_m))]
+    pub correlation_length_m: Option<f64>,
 }
 
 /// A flag's help with the library's default, so the two cannot drift.
@@ -138,6 +163,35 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     if let Some(s) = args.seed {
         spec.seed = s;
     }
+    let any_irregular = args.irregular
+        || args.min_distance_fraction.is_some()
+        || args.coordination_spread.is_some()
+        || args.coordination_max.is_some()
+        || args.throat_to_pore_ratio.is_some()
+        || args.correlation_length_m.is_some();
+    if any_irregular {
+        let irr = spec.irregular.get_or_insert_with(IrregularSpec::default);
+        if let Some(f) = args.min_distance_fraction {
+            irr.min_distance_fraction = f;
+        }
+        if let Some(w) = args.coordination_spread {
+            irr.coordination_spread = w;
+        }
+        if let Some(z) = args.coordination_max {
+            irr.coordination_max = z;
+        }
+        if let Some(r) = &args.throat_to_pore_ratio {
+            let parts: Vec<&str> = r.split(',').collect();
+            let nums: Vec<f64> = parts.iter().filter_map(|p| p.trim().parse().ok()).collect();
+            if parts.len() != 2 || nums.len() != 2 {
+                bail!("--throat-to-pore-ratio `{r}`: expected two numbers LO,HI, e.g. 0.3,0.8");
+            }
+            irr.throat_to_pore_ratio = [nums[0], nums[1]];
+        }
+        if let Some(l) = args.correlation_length_m {
+            irr.correlation_length_m = l;
+        }
+    }
     super::check_memory(
         &format!("a lattice of {}x{}x{} pores", spec.nx, spec.ny, spec.nz),
         network_core::memory::for_generate(
@@ -194,8 +248,13 @@ fn rename(
     if let Some(n) = &args.name {
         info.name = n.clone();
     }
+    let kind = if spec.irregular.is_some() {
+        "irregular network"
+    } else {
+        "lattice"
+    };
     info.description = Some(format!(
-        "generated lattice {}x{}x{}, spacing {} m, target coordination {}, seed {}",
+        "generated {kind} {}x{}x{}, spacing {} m, target coordination {}, seed {}",
         spec.nx, spec.ny, spec.nz, spec.spacing_m, spec.target_coordination, spec.seed
     ));
     network_core::Network::new(info, pores, throats).expect("a generated network stays valid")

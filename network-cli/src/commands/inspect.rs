@@ -25,19 +25,13 @@ pub struct Args {
 
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     let loaded = super::load(&args.network, progress)?;
-    let r = NetworkReport::of(&loaded.network);
     if args.json {
-        let mut v = serde_json::to_value(&r)?;
-        v["warnings"] = serde_json::Value::from(
-            loaded
-                .warnings
-                .iter()
-                .map(|w| w.to_string())
-                .collect::<Vec<_>>(),
-        );
+        let warnings: Vec<String> = loaded.warnings.iter().map(|w| w.to_string()).collect();
+        let v = network_core::stats::inspect_json(&loaded.network, &warnings)?;
         println!("{}", serde_json::to_string_pretty(&v)?);
         return Ok(());
     }
+    let r = NetworkReport::of(&loaded.network);
     println!("network            {}", r.name);
     println!("pores / throats    {} / {}", r.pores, r.throats);
     println!(

@@ -1,12 +1,18 @@
 //! One module per command; each validates its flags, calls the library and
 //! prints or writes the result.
 
+pub mod batch;
+pub mod calibrate;
 pub mod convert;
+pub mod extract;
+pub mod ganglia_image;
 pub mod generate;
 pub mod inspect;
+pub mod micp;
 pub mod perm;
 pub mod run;
 pub mod sweep;
+pub mod synth_image;
 pub mod template;
 pub mod verify;
 

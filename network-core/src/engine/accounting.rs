@@ -197,6 +197,30 @@ impl Engine<'_> {
         self.live.books.cell.len() == self.volume.len()
     }
 
+    /// Water of element `e` outside its clay, m³, from the running records
+    /// when they hold it without trigonometry: `(σ/Pc)² × coefficient` for
+    /// an element in the [`Regime::Fast`] regime (`r2` = `(σ/Pc)²`, 0 at
+    /// Pc ≤ 0, as in [`Engine::saturation`]) and the stored volume of a
+    /// [`Regime::Frozen`] one; `None` when it must be computed
+    /// ([`Engine::element_volumes`]). Agrees with that computation up to
+    /// round-off, which the saturation tests check.
+    pub(crate) fn recorded_water(&self, e: usize, r2: f64) -> Option<f64> {
+        if !self.accounts_ready() {
+            return None;
+        }
+        let cell = &self.live.books.cell[e];
+        let baseline = if self.live.state.oil[e] {
+            0.0
+        } else {
+            self.volume[e]
+        };
+        match cell.regime {
+            Regime::Fast if self.live.state.oil[e] => Some(cell.slots[SUM_COEF] * r2),
+            Regime::Frozen => Some(baseline + cell.slots[FROZEN_ADJUST]),
+            _ => None,
+        }
+    }
+
     /// Brackets every change of element `e`'s occupancy, layers, trap
     /// flags or connection: takes the element's contribution out of the
     /// saturation sums, applies `change`, then puts the element back in

@@ -224,7 +224,7 @@ impl Engine<'_> {
             }
         }
         // Water trapping: e no longer passes water unless its corners do.
-        if self.wet[e] == 0 {
+        if self.wet[e] == 0 && self.water_trapping {
             let seeds: super::Neighbours = nb
                 .iter()
                 .copied()

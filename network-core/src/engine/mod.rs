@@ -175,6 +175,9 @@ pub struct Engine<'a> {
     /// let water out in drainage ([`DrainageFaces::All`]); empty: the inlet
     /// face enters, the outlet face lets water out.
     all_faces: Vec<bool>,
+    /// False when the defending phase of a drainage can never be trapped
+    /// (an evacuated sample under mercury injection).
+    water_trapping: bool,
 }
 
 impl<'a> Setup<'a> {
@@ -227,6 +230,14 @@ impl<'a> Engine<'a> {
                 mask
             }
         };
+    }
+
+    /// Chooses whether drainage traps the defending (wetting) phase when
+    /// it loses every path to an exit (the default, `true`). Mercury
+    /// injection into an evacuated sample sets `false`: the defending
+    /// phase is a vacuum, which never holds the invading phase back.
+    pub fn set_water_trapping(&mut self, on: bool) {
+        self.water_trapping = on;
     }
 
     /// The faces through which the non-aqueous phase enters in drainage.
@@ -305,6 +316,7 @@ impl<'a> Engine<'a> {
             clay_total,
             resolved_total,
             all_faces: Vec::new(),
+            water_trapping: true,
             setup,
         }
     }

@@ -245,6 +245,12 @@ impl Engine<'_> {
     pub fn region_volumes(&self, region: &[u32], n_regions: usize) -> Vec<RegionVolumes> {
         let n = self.volume.len().min(region.len());
         let n_chunks = n.div_ceil(CHUNK);
+        let pc = self.live.state.pc;
+        let r2 = if pc > 0.0 {
+            (self.setup.sigma / pc).powi(2)
+        } else {
+            0.0
+        };
         let parts: Vec<Vec<RegionVolumes>> = (0..n_chunks)
             .into_par_iter()
             .map(|c| {
@@ -254,7 +260,16 @@ impl Engine<'_> {
                     if r >= n_regions {
                         continue;
                     }
-                    let ev = self.element_volumes(e);
+                    // The running records hold most elements' water
+                    // (accounting.rs); the rest is computed.
+                    let ev = match self.recorded_water(e, r2) {
+                        Some(w) => ElementVolumes {
+                            water: self.clay[e] + w,
+                            oil: self.volume[e] - w,
+                            ..ElementVolumes::default()
+                        },
+                        None => self.element_volumes(e),
+                    };
                     let a = &mut acc[r];
                     a.pore += ev.water + ev.oil;
                     a.water += ev.water;
@@ -273,6 +288,39 @@ impl Engine<'_> {
             }
         }
         out
+    }
+
+    /// Water saturation of every element at the current state: its water
+    /// (clay included) over its pore volume, in element order (pores
+    /// first, then throats), in single precision; 1 for an element without
+    /// volume. Taken from the running records where they hold it, as
+    /// [`Engine::region_volumes`] does (parallel; each value depends on its
+    /// element only).
+    pub fn element_water_saturations(&self) -> Vec<f32> {
+        let pc = self.live.state.pc;
+        let r2 = if pc > 0.0 {
+            (self.setup.sigma / pc).powi(2)
+        } else {
+            0.0
+        };
+        (0..self.volume.len())
+            .into_par_iter()
+            .map(|e| {
+                let (water, oil) = match self.recorded_water(e, r2) {
+                    Some(w) => (self.clay[e] + w, self.volume[e] - w),
+                    None => {
+                        let ev = self.element_volumes(e);
+                        (ev.water, ev.oil)
+                    }
+                };
+                let pv = water + oil;
+                if pv > 0.0 {
+                    (water / pv).clamp(0.0, 1.0) as f32
+                } else {
+                    1.0
+                }
+            })
+            .collect()
     }
 
     /// Saturations of the current state recomputed element by element

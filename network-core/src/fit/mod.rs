@@ -1,5 +1,6 @@
 //! Closed-form saturation-function models and their least-squares fits:
-//! Corey, Brooks–Corey, modified Corey, LET, Land trapping and Archie.
+//! Corey, Brooks–Corey, modified Corey, LET, Land trapping and Archie; and
+//! power-law tails of size distributions by maximum likelihood.
 //!
 //! Pure mathematics: no I/O, no global state, deterministic. Every fit
 //! checks its input (empty, unequal lengths, NaN or infinite values, values
@@ -37,6 +38,7 @@ mod corey;
 mod land;
 mod let_model;
 mod lm;
+mod power_law;
 
 use serde::Serialize;
 use thiserror::Error;
@@ -52,6 +54,7 @@ pub use land::{
     fit_land_least_squares, land_residual,
 };
 pub use let_model::{LET_E_BOUNDS, LET_L_BOUNDS, LET_T_BOUNDS, LetFit, LetParams, fit_let};
+pub use power_law::{MIN_TAIL, PowerLawFit, fit_power_law};
 
 /// Why a fit could not be made.
 #[non_exhaustive]

@@ -117,6 +117,8 @@ use crate::network::validate::{self, Target, Violation, Warning};
 pub mod atomic;
 pub mod binary;
 pub mod csv;
+pub mod image;
+pub mod lab_curve;
 pub mod memory;
 pub mod result_set;
 mod sample;

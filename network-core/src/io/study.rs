@@ -133,17 +133,27 @@ pub fn network_origin(study_path: &Path, study: &Study) -> String {
 /// Reads a generator parameter file (TOML; unknown keys refused, errors
 /// with their line).
 pub fn read_lattice_spec(path: &Path) -> Result<LatticeSpec, StudyInputError> {
+    let text = std::fs::read_to_string(path).map_err(|e| StudyInputError::Spec {
+        path: path.to_path_buf(),
+        line: None,
+        message: format!("cannot read the file: {e}"),
+    })?;
+    parse_lattice_spec(&text, path)
+}
+
+/// Parses and validates generator parameters given as TOML text; `path`
+/// names the text in errors (a file, or a label such as `<generator>` for
+/// text that has none).
+pub fn parse_lattice_spec(text: &str, path: &Path) -> Result<LatticeSpec, StudyInputError> {
     let spec_err = |line, message: String| StudyInputError::Spec {
         path: path.to_path_buf(),
         line,
         message,
     };
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| spec_err(None, format!("cannot read the file: {e}")))?;
-    let spec: LatticeSpec = toml::from_str(&text).map_err(|e| {
-        let line = e.span().map(|s| crate::text::line_at(&text, s.start));
+    let spec: LatticeSpec = toml::from_str(text).map_err(|e| {
+        let line = e.span().map(|s| crate::text::line_at(text, s.start));
         let mut message = crate::text::plain_message(e.message(), LATTICE_FORMS);
-        if let Some(key) = line.and_then(|l| crate::text::key_on_line(&text, l)) {
+        if let Some(key) = line.and_then(|l| crate::text::key_on_line(text, l)) {
             message = format!("key `{key}`: {message}");
         }
         if message.contains("spacing_um") {

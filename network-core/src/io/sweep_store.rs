@@ -54,7 +54,10 @@ pub fn case_path(out: &Path, k: usize) -> PathBuf {
     out.join("cases").join(format!("case-{k:05}.json"))
 }
 
-/// Writes the case list (creating the folder and `cases/`).
+/// Writes the case list (creating the folder and `cases/`). A file that
+/// already holds the same text is left alone, so that many jobs starting
+/// at once on one folder do not rewrite it; otherwise it is replaced
+/// atomically.
 pub fn write_case_list<T: Serialize>(out: &Path, cases: &[T]) -> Result<(), StoreError> {
     let dir = out.join("cases");
     std::fs::create_dir_all(&dir).map_err(|source| {
@@ -67,6 +70,9 @@ pub fn write_case_list<T: Serialize>(out: &Path, cases: &[T]) -> Result<(), Stor
         what: "the case list",
         source,
     })? + "\n";
+    if std::fs::read(case_list_path(out)).is_ok_and(|old| old == text.as_bytes()) {
+        return Ok(());
+    }
     write_atomic(&case_list_path(out), text.as_bytes()).map_err(|source| {
         StoreError::Write(WriteError::Io {
             path: case_list_path(out),

@@ -6,10 +6,12 @@ use std::collections::BTreeSet;
 
 use serde::{Deserialize, Serialize};
 
+pub mod calibrate;
 pub mod end_points;
 pub mod fractional_flow;
 pub mod indices;
 pub mod input_checks;
+pub mod micp;
 pub mod model_limits;
 pub mod process;
 pub mod profiles;
@@ -135,6 +137,9 @@ pub struct EndState {
     pub ganglion: Vec<u32>,
     /// Water trapped here.
     pub water_trapped: Vec<bool>,
+    /// Water saturation of each element (its water, clay included, over its
+    /// pore volume), single precision.
+    pub water_saturation: Vec<f32>,
     /// Water pressure per pore at the end of the process, for a unit
     /// pressure drop between the faces (from the last flow solve; NaN where
     /// the water does not flow); `None` without relative permeability.
@@ -311,6 +316,7 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
             layers: s.layers.clone(),
             ganglion: s.ganglion.clone(),
             water_trapped: s.water_trapped.clone(),
+            water_saturation: engine.element_water_saturations(),
             water_pressure: relperm
                 .as_ref()
                 .and_then(|r| r.water_pressure().map(<[f64]>::to_vec)),

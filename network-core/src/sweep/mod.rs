@@ -38,9 +38,11 @@ use crate::params::Study;
 use crate::study::{StudyError, StudyErrors};
 
 mod runner;
+mod selection;
 mod summary;
 
 pub use runner::{Collected, SweepError, SweepRun, collect, run_case};
+pub use selection::{ArrayPlan, CaseList, SelectionError, Shard, compact_ranges};
 pub use summary::{
     CaseCurve, CaseResult, GroupSummary, LAND_RANGE_SLACK, Spread, SweepSummary, TrappingPoint,
     summarise, summarise_with,

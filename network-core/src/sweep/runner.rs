@@ -69,11 +69,46 @@ impl SweepRun {
         out: &Path,
     ) -> Result<SweepRun, SweepError> {
         let cases = sweep.cases();
+        let all: Vec<usize> = (0..cases.len()).collect();
+        Self::prepare_cases(study_path, cases, &all, out)
+    }
+
+    /// Prepares `out` like [`SweepRun::prepare`] for a job that runs only
+    /// the cases `selected` (ascending case numbers): only their result
+    /// files are looked at, and [`SweepRun::todo`] holds the unfinished
+    /// ones among them. A case number outside the sweep is refused before
+    /// anything is written.
+    ///
+    /// Many jobs may prepare the same folder at once: the case list they
+    /// write is the same text, written atomically (and not rewritten when
+    /// the file already holds it).
+    pub fn prepare_selection(
+        study_path: &Path,
+        sweep: &SweepStudy,
+        out: &Path,
+        selected: &[usize],
+    ) -> Result<SweepRun, SweepError> {
+        let cases = sweep.cases();
+        if let Some(&case) = selected.iter().find(|&&k| k >= cases.len()) {
+            return Err(SweepError::NoSuchCase {
+                case,
+                n_cases: cases.len(),
+            });
+        }
+        Self::prepare_cases(study_path, cases, selected, out)
+    }
+
+    fn prepare_cases(
+        study_path: &Path,
+        cases: Vec<Case>,
+        selected: &[usize],
+        out: &Path,
+    ) -> Result<SweepRun, SweepError> {
         sweep_store::write_case_list(out, &cases)?;
-        let todo = cases
+        let todo = selected
             .iter()
-            .filter(|c| finished(out, c).is_none())
-            .map(|c| c.index)
+            .copied()
+            .filter(|&k| finished(out, &cases[k]).is_none())
             .collect();
         Ok(SweepRun {
             study_path: study_path.to_path_buf(),
@@ -88,7 +123,8 @@ impl SweepRun {
         &self.cases
     }
 
-    /// Numbers of the cases not finished yet.
+    /// Numbers of the cases not finished yet (among the selected ones, for
+    /// [`SweepRun::prepare_selection`]).
     pub fn todo(&self) -> &[usize] {
         &self.todo
     }
@@ -106,10 +142,14 @@ impl SweepRun {
     /// `progress` per case. Failed cases are listed in the error; the
     /// others are kept.
     pub fn run_unfinished(&self, progress: &dyn Progress) -> Result<(), SweepError> {
-        progress.start("sweep", self.todo.len() as u64);
+        self.run_cases(&self.todo, progress)
+    }
+
+    fn run_cases(&self, todo: &[usize], progress: &dyn Progress) -> Result<(), SweepError> {
+        progress.start("sweep", todo.len() as u64);
         let threads = rayon::current_num_threads().max(1);
         let failures = Mutex::new(Vec::new());
-        for chunk in self.todo.chunks(threads) {
+        for chunk in todo.chunks(threads) {
             chunk.par_iter().for_each(|&k| {
                 if let Err(e) = run_case(&self.study_path, &self.out, &self.cases[k]) {
                     let mut chain = e.to_string();

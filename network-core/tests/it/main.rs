@@ -5,14 +5,18 @@
 #![allow(clippy::needless_range_loop)]
 
 mod accounting;
+mod calibrate;
 mod drainage;
 mod flow;
 mod flow_emt;
 mod fuzz;
 mod generate;
+mod image;
 mod imbibition;
 mod input_checks;
 mod io;
+mod irregular;
+mod micp;
 mod mixed_wet;
 mod networks;
 mod profiles;

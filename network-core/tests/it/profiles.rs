@@ -123,6 +123,57 @@ fn profile_matches_the_engine_full_sum_to_round_off() {
 }
 
 #[test]
+fn recorded_volumes_match_the_full_sum_after_imbibition_too() {
+    // region_volumes and element_water_saturations take the water of fast
+    // and frozen (trapped) elements from the running records; after an
+    // imbibition with trapping both must still agree with the element-by-
+    // element reference `saturation_full` (same volumes, other grouping;
+    // the per-element values are single precision, 2^-24 relative).
+    let net = sandstone_like(10, 5);
+    let s = study("until_sw = 0.3", "", "profile_slabs = 7", false);
+    let geom = Geometry::new(&net, s.seed);
+    let mut eng = Engine::for_study(&net, &geom, &s);
+    run_process(
+        &mut eng,
+        ProcessKind::Drainage,
+        StopAt::Sw(0.3),
+        20,
+        &Silent,
+    );
+    run_process(
+        &mut eng,
+        ProcessKind::Imbibition,
+        StopAt::Pc(-1.0e5),
+        20,
+        &Silent,
+    );
+    let full = eng.saturation_full();
+    assert!(
+        full.sn_trapped > 0.01,
+        "the test needs trapped oil: {full:?}"
+    );
+    let layout = ProfileLayout::new(&net, net.info().flow_axis, &s.output);
+    let (slabs, _) = layout.slab_volumes(&eng);
+    let water: f64 = slabs.iter().map(|s| s.water).sum();
+    let pore: f64 = slabs.iter().map(|s| s.pore).sum();
+    assert!(
+        (water / pore - full.sw).abs() < 1e-13,
+        "{} vs {}",
+        water / pore,
+        full.sw
+    );
+    let per = eng.element_water_saturations();
+    assert_eq!(per.len(), net.n_elements());
+    let (mut w, mut pv) = (0.0, 0.0);
+    for (e, &sw) in per.iter().enumerate() {
+        let v = eng.element_volumes(e);
+        w += f64::from(sw) * (v.water + v.oil);
+        pv += v.water + v.oil;
+    }
+    assert!((w / pv - full.sw).abs() < 1e-6, "{} vs {}", w / pv, full.sw);
+}
+
+#[test]
 fn interior_window_differs_from_whole_sample_under_an_inlet_end_effect() {
     // Common practice (the capillary end effect of core floods, Hassler &
     // Brunner 1945): a drainage from the inlet stopped at Sw = 0.8 is below
