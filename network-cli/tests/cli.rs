@@ -858,6 +858,43 @@ fn issue_18_run_refuses_a_folder_of_other_files_and_our_set_without_overwrite() 
 }
 
 #[test]
+fn issue_18_sweep_refuses_a_folder_of_other_files_and_a_run_result_set() {
+    let d = scratch("sweep-foreign");
+    let st = write_study(&d, SWEEP);
+    let foreign = d.join("thesis");
+    std::fs::create_dir_all(&foreign).unwrap();
+    std::fs::write(foreign.join("chapter1.tex"), "keep me").unwrap();
+    for extra in [&[][..], &["--case", "0"][..]] {
+        let mut args = vec!["-q", "sweep", s(&st), "-o", s(&foreign)];
+        args.extend_from_slice(extra);
+        let o = ganglion(&args);
+        assert_eq!(o.status.code(), Some(1));
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(err.contains("no sweep of ours"), "{err}");
+    }
+    assert_eq!(std::fs::read_dir(&foreign).unwrap().count(), 1);
+    // A run's result set is ours but not a sweep.
+    let rd = d.join("r");
+    std::fs::create_dir_all(&rd).unwrap();
+    let run_study = write_study(&rd, SMALL_STUDY);
+    let run_out = d.join("run-out");
+    ok(&[
+        "-q",
+        "run",
+        s(&run_study),
+        "-o",
+        s(&run_out),
+        "--no-png",
+        "--no-vtk",
+    ]);
+    let before = walk(&run_out);
+    let o = ganglion(&["-q", "sweep", s(&st), "-o", s(&run_out)]);
+    assert_eq!(o.status.code(), Some(1));
+    assert_eq!(walk(&run_out), before);
+    complete_manifest(&run_out);
+}
+
+#[test]
 fn issue_18_sweep_merged_outputs_are_sealed_last_and_an_interrupted_merge_shows() {
     let d = scratch("sweep-seal");
     let st = write_study(&d, SWEEP);
