@@ -455,6 +455,14 @@ pub fn check_target(target: &Path, overwrite: bool) -> Result<FolderState, SetEr
                 n_files: m.files.len(),
             });
         }
+        // A set written before manifests existed: ours, by its summary.
+        FolderState::Foreign { .. } if overwrite && is_unsealed_run_set(target) => {}
+        FolderState::Foreign { n_entries } if is_unsealed_run_set(target) => {
+            return Err(SetError::Exists {
+                path: target.to_path_buf(),
+                n_files: *n_entries,
+            });
+        }
         FolderState::Foreign { n_entries } => {
             return Err(SetError::NotOurs {
                 path: target.to_path_buf(),
@@ -463,6 +471,21 @@ pub fn check_target(target: &Path, overwrite: bool) -> Result<FolderState, SetEr
         }
     }
     Ok(state)
+}
+
+/// True when `dir` holds a run's result set written by a Ganglion version
+/// without manifests: a `summary.json` naming the program `ganglion`
+/// beside a `curves.csv`. Such a folder is replaced with `overwrite`, like
+/// a sealed set.
+fn is_unsealed_run_set(dir: &Path) -> bool {
+    if !dir.join("curves.csv").is_file() {
+        return false;
+    }
+    let Ok(text) = fs::read_to_string(dir.join("summary.json")) else {
+        return false;
+    };
+    serde_json::from_str::<serde_json::Value>(&text)
+        .is_ok_and(|v| v["program"]["name"] == "ganglion")
 }
 
 /// Swaps two folders. On Linux one atomic `renameat2(RENAME_EXCHANGE)`;
@@ -629,6 +652,31 @@ mod tests {
             .collect();
         v.sort();
         v
+    }
+
+    #[test]
+    fn a_set_of_an_earlier_version_without_manifest_is_replaced_only_with_overwrite() {
+        let root = scratch("unsealed");
+        let out = root.join("out");
+        fs::create_dir_all(&out).unwrap();
+        fs::write(
+            out.join("summary.json"),
+            r#"{"program": {"name": "ganglion", "version": "0.0.9"}}"#,
+        )
+        .unwrap();
+        fs::write(out.join("curves.csv"), "sw\n1\n").unwrap();
+        fs::write(out.join("table-imbibition.csv"), "old\n").unwrap();
+        let e = stage(&out, &[("a.csv", "new")], false).unwrap_err();
+        assert!(matches!(e, SetError::Exists { n_files: 3, .. }), "{e}");
+        stage(&out, &[("a.csv", "new")], true).unwrap();
+        assert_eq!(list_files(&out).unwrap(), ["a.csv", MANIFEST_NAME]);
+        // Another program's summary is not ours, with or without overwrite.
+        let other = root.join("other");
+        fs::create_dir_all(&other).unwrap();
+        fs::write(other.join("summary.json"), r#"{"program": {"name": "x"}}"#).unwrap();
+        fs::write(other.join("curves.csv"), "a\n").unwrap();
+        let e = stage(&other, &[("a.csv", "new")], true).unwrap_err();
+        assert!(matches!(e, SetError::NotOurs { .. }), "{e}");
     }
 
     #[test]
