@@ -7,6 +7,11 @@
 //! (binary vs ASCII, 15 writes each). `… -- vtp_large` instead writes one
 //! state of a 100³ lattice (10⁶ pores, a synthetic occupancy) in both
 //! encodings and prints size, time and the peak memory added by the write.
+//! `… -- set_large` measures the cost of writing a result set as one unit
+//! (staging folder, manifest with CRC-32 of every file, swap into place)
+//! against the plain write, on the two 3-D states of a 10⁶-pore run (its
+//! largest outputs); the divan benches `run_set_*` compare the same on the
+//! whole result set of the 8000-pore run.
 
 use std::sync::LazyLock;
 use std::time::Instant;
@@ -15,11 +20,16 @@ use divan::black_box;
 use ganglion_benches::{peak_rss_bytes, reset_peak_rss};
 use network_core::Network;
 use network_core::generate::{LatticeSpec, generate};
+use network_core::io::atomic::write_atomic;
+use network_core::io::result_set::StagedSet;
 use network_core::progress::Silent;
 use network_core::run::{EndState, RunResults, run_study};
 use network_core::study::Study;
 use network_report::vtk::{VtkEncoding, VtkOptions};
-use network_report::{run_figures, run_report, saturation_tables, write_vtp};
+use network_report::{
+    ArtifactOptions, run_figures, run_report, saturation_tables, write_run_artifacts,
+    write_run_results, write_run_set, write_vtp,
+};
 
 fn main() {
     let filters: Vec<String> = std::env::args()
@@ -28,6 +38,10 @@ fn main() {
         .collect();
     if filters.iter().any(|f| f == "vtp_large") {
         vtp_large();
+        return;
+    }
+    if filters.iter().any(|f| f == "set_large") {
+        set_large();
         return;
     }
     if filters.is_empty()
@@ -59,10 +73,8 @@ fn vtp(encoding: VtkEncoding) -> Vec<u8> {
     .unwrap()
 }
 
-/// One state of a 10⁶-pore lattice in both encodings: size, time and
-/// the peak resident memory the write adds (the file's own buffer
-/// included).
-fn vtp_large() {
+/// A 100³ lattice (10⁶ pores) and a synthetic end state of it.
+fn large_state() -> (Network, EndState) {
     let spec = LatticeSpec {
         nx: 100,
         ny: 100,
@@ -103,6 +115,14 @@ fn vtp_large() {
                 .collect(),
         ),
     };
+    (n, state)
+}
+
+/// One state of a 10⁶-pore lattice in both encodings: size, time and
+/// the peak resident memory the write adds (the file's own buffer
+/// included).
+fn vtp_large() {
+    let (n, state) = large_state();
     for encoding in [VtkEncoding::Binary, VtkEncoding::Ascii] {
         reset_peak_rss();
         let base = peak_rss_bytes();
@@ -219,4 +239,99 @@ fn vtp_binary_8000_pores(bencher: divan::Bencher) {
 fn vtp_ascii_8000_pores(bencher: divan::Bencher) {
     LazyLock::force(&RUN);
     bencher.bench(|| vtp(VtkEncoding::Ascii));
+}
+
+/// The cost of writing as one unit on a 10⁶-pore run's largest outputs:
+/// the two `.vtp` states (binary), written each atomically into a folder
+/// (the plain write), against the same files written into a staging
+/// folder and committed (manifest with CRC-32 of every file, swap over the
+/// previous set, removal of that set). Median of 5 of each; the encoding of
+/// the files is done once, outside the timing.
+fn set_large() {
+    let (n, state) = large_state();
+    let bytes = write_vtp(
+        &n,
+        &state,
+        None,
+        state.water_pressure.as_deref(),
+        &VtkOptions::default(),
+    )
+    .unwrap();
+    let root = std::env::temp_dir().join(format!("ganglion-bench-set-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&root);
+    std::fs::create_dir_all(&root).unwrap();
+    let names = ["state-1-drainage.vtp", "state-2-imbibition.vtp"];
+    let plain_dir = root.join("plain");
+    std::fs::create_dir_all(&plain_dir).unwrap();
+    let staged_dir = root.join("staged");
+    let median = |mut t: Vec<f64>| {
+        t.sort_by(f64::total_cmp);
+        t[t.len() / 2]
+    };
+    let mut plain = Vec::new();
+    let mut write_part = Vec::new();
+    let mut commit_part = Vec::new();
+    for _ in 0..5 {
+        let start = Instant::now();
+        for name in names {
+            write_atomic(&plain_dir.join(name), &bytes).unwrap();
+        }
+        plain.push(start.elapsed().as_secs_f64());
+        let start = Instant::now();
+        let set = StagedSet::begin(&staged_dir, "run", true).unwrap();
+        for name in names {
+            write_atomic(&set.dir().join(name), &bytes).unwrap();
+        }
+        let written = Instant::now();
+        set.commit().unwrap();
+        write_part.push((written - start).as_secs_f64());
+        commit_part.push(written.elapsed().as_secs_f64());
+    }
+    let (tp, tw, tc) = (median(plain), median(write_part), median(commit_part));
+    println!(
+        "result set of a {}-pore run's 3-D states ({} files, {:.1} MB): plain write {:.3} s; staged write {:.3} s + manifest and swap {:.3} s; (staged total)/(plain) {:.2}, (manifest and swap)/(plain) {:.2}",
+        n.n_pores(),
+        names.len(),
+        2.0 * bytes.len() as f64 / 1e6,
+        tp,
+        tw,
+        tc,
+        (tw + tc) / tp,
+        tc / tp
+    );
+    let _ = std::fs::remove_dir_all(&root);
+}
+
+fn bench_root(name: &str) -> std::path::PathBuf {
+    let d = std::env::temp_dir().join(format!("ganglion-bench-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+/// Every file of the 8000-pore run written into one folder, each file
+/// atomically, no staging or manifest (the write itself).
+#[divan::bench(sample_count = 10)]
+fn run_set_plain_write_8000_pores(bencher: divan::Bencher) {
+    let (n, r) = &*RUN;
+    let dir = bench_root("plain");
+    bencher.bench(|| {
+        write_run_results(r, &dir).unwrap();
+        write_run_artifacts(r, n, &dir, &ArtifactOptions::default()).unwrap()
+    });
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// The same files written as one unit: staged, sealed with the manifest,
+/// swapped over the previous set, which is then removed.
+#[divan::bench(sample_count = 10)]
+fn run_set_staged_8000_pores(bencher: divan::Bencher) {
+    let (n, r) = &*RUN;
+    let root = bench_root("staged");
+    let out = root.join("out");
+    bencher.bench(|| {
+        let set = StagedSet::begin(&out, "run", true).unwrap();
+        write_run_set(r, n, set, &ArtifactOptions::default()).unwrap()
+    });
+    let _ = std::fs::remove_dir_all(&root);
 }

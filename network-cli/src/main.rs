@@ -46,14 +46,32 @@ enum Command {
     Collect(commands::sweep::CollectArgs),
     BatchScript(commands::batch::Args),
     Template(commands::template::Args),
+    Verify(commands::verify::Args),
     Extract(commands::extract::Args),
     SynthImage(commands::synth_image::Args),
     GangliaImage(commands::ganglia_image::Args),
 }
 
+/// Most worker threads per core `--threads` may ask for: more only adds
+/// start-up time and memory (each thread has its own stack), never speed.
+const MAX_THREADS_PER_CORE: usize = 4;
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
-    if let Some(n) = cli.threads
+    let progress = progress::Bars::new(cli.quiet);
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let threads = cli.threads.map(|n| {
+        let cap = MAX_THREADS_PER_CORE * cores;
+        if n > cap {
+            progress.warn(&format!(
+                "--threads {n}: capped at {cap} ({MAX_THREADS_PER_CORE} per core on {cores} cores)"
+            ));
+            cap
+        } else {
+            n
+        }
+    });
+    if let Some(n) = threads
         && let Err(e) = rayon::ThreadPoolBuilder::new()
             .num_threads(n.max(1))
             .build_global()
@@ -61,7 +79,6 @@ fn main() -> ExitCode {
         eprintln!("error: could not start {n} threads: {e}");
         return ExitCode::from(1);
     }
-    let progress = progress::Bars::new(cli.quiet);
     let result = match &cli.command {
         Command::Generate(a) => commands::generate::run(a, &progress),
         Command::Inspect(a) => commands::inspect::run(a, &progress),
@@ -74,10 +91,17 @@ fn main() -> ExitCode {
         Command::Collect(a) => commands::sweep::collect(a, &progress),
         Command::BatchScript(a) => commands::batch::run(a, &progress),
         Command::Template(a) => commands::template::run(a),
+        Command::Verify(a) => commands::verify::run(a),
         Command::Extract(a) => commands::extract::run(a, &progress),
         Command::SynthImage(a) => commands::synth_image::run(a, &progress),
         Command::GangliaImage(a) => commands::ganglia_image::run(a, &progress),
     };
+    // For measuring the memory estimates against the real peak (tests).
+    if std::env::var_os("GANGLION_PRINT_PEAK_MEMORY").is_some()
+        && let Some(peak) = network_core::io::memory::peak_resident_bytes()
+    {
+        eprintln!("peak resident memory: {peak} bytes");
+    }
     match result {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {

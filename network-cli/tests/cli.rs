@@ -708,6 +708,400 @@ fn table_units_convert_the_keyword_tables_and_refuse_unknown_units() {
     );
 }
 
+/// The manifest of a result folder, parsed, with `ganglion verify` passing.
+fn complete_manifest(out: &Path) -> serde_json::Value {
+    let v = ganglion(&["verify", s(out)]);
+    assert!(
+        v.status.success(),
+        "{} is not a complete set:\n{}",
+        out.display(),
+        String::from_utf8_lossy(&v.stderr)
+    );
+    serde_json::from_str(&std::fs::read_to_string(out.join("ganglion-manifest.json")).unwrap())
+        .unwrap()
+}
+
+#[test]
+fn issue_18_run_killed_during_its_write_phase_leaves_the_previous_or_the_new_complete_set() {
+    let d = scratch("kill");
+    let st = write_study(&d, SMALL_STUDY);
+    // Two different complete sets (the tables differ in length), recorded
+    // in folders of their own.
+    let variant = |k: usize| if k.is_multiple_of(2) { "21" } else { "31" };
+    let mut reference = Vec::new();
+    let mut elapsed = Vec::new();
+    for k in 0..2 {
+        let out = d.join(format!("ref{k}"));
+        let t0 = std::time::Instant::now();
+        ok(&[
+            "-q",
+            "run",
+            s(&st),
+            "-o",
+            s(&out),
+            "--table-points",
+            variant(k),
+        ]);
+        elapsed.push(t0.elapsed());
+        reference.push(complete_manifest(&out)["files"].clone());
+    }
+    assert_ne!(reference[0], reference[1]);
+    let t_run = elapsed.iter().max().unwrap().as_secs_f64();
+    let out = d.join("out");
+    ok(&[
+        "-q",
+        "run",
+        s(&st),
+        "-o",
+        s(&out),
+        "--table-points",
+        variant(0),
+    ]);
+    let mut current = 0;
+    // Kill times spread over the whole run (the write phase is its tail),
+    // from a fixed-seed linear congruential sequence.
+    let mut state: u64 = 18;
+    let mut outcomes = [0usize; 2];
+    for it in 1..=8 {
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        let frac = (state >> 11) as f64 / (1u64 << 53) as f64;
+        let next = it % 2;
+        let mut child = Command::new(env!("CARGO_BIN_EXE_ganglion"))
+            .args([
+                "-q",
+                "run",
+                s(&st),
+                "-o",
+                s(&out),
+                "--overwrite",
+                "--table-points",
+                variant(next),
+            ])
+            .current_dir(root())
+            .stdout(std::process::Stdio::null())
+            .stderr(std::process::Stdio::null())
+            .spawn()
+            .unwrap();
+        std::thread::sleep(std::time::Duration::from_secs_f64(
+            0.3 * t_run + frac * t_run,
+        ));
+        let _ = child.kill(); // SIGKILL on Unix
+        let _ = child.wait();
+        let files = complete_manifest(&out)["files"].clone();
+        if files == reference[current] {
+            outcomes[0] += 1;
+        } else {
+            assert_eq!(
+                files, reference[next],
+                "iteration {it}: the folder holds neither the previous nor the new set"
+            );
+            outcomes[1] += 1;
+            current = next;
+        }
+    }
+    // A killed run leaves at most its staging folder beside the target;
+    // the next run removes it.
+    ok(&["-q", "run", s(&st), "-o", s(&out), "--overwrite"]);
+    let mut names: Vec<String> = std::fs::read_dir(&d)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    assert_eq!(names, ["out", "ref0", "ref1", "study.toml"], "{outcomes:?}");
+    no_temp_files(&out);
+}
+
+#[test]
+fn issue_18_run_refuses_a_folder_of_other_files_and_our_set_without_overwrite() {
+    let d = scratch("refuse");
+    let st = write_study(&d, SMALL_STUDY);
+    let foreign = d.join("thesis");
+    std::fs::create_dir_all(&foreign).unwrap();
+    std::fs::write(foreign.join("chapter1.tex"), "keep me").unwrap();
+    for extra in [&[][..], &["--overwrite"][..]] {
+        let mut args = vec!["-q", "run", s(&st), "-o", s(&foreign)];
+        args.extend_from_slice(extra);
+        let o = ganglion(&args);
+        assert_eq!(o.status.code(), Some(1));
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(err.contains("not ours"), "{err}");
+    }
+    assert_eq!(std::fs::read_dir(&foreign).unwrap().count(), 1);
+    let out = d.join("out");
+    ok(&["-q", "run", s(&st), "-o", s(&out), "--table-points", "31"]);
+    let o = ganglion(&["-q", "run", s(&st), "-o", s(&out)]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--overwrite"));
+    // A rerun with fewer files replaces the whole set: no file of the
+    // earlier run (here the PNG copies) stays beside the new ones.
+    ok(&[
+        "-q",
+        "run",
+        s(&st),
+        "-o",
+        s(&out),
+        "--overwrite",
+        "--no-png",
+    ]);
+    assert!(
+        walk(&out)
+            .iter()
+            .all(|p| p.extension().is_none_or(|e| e != "png"))
+    );
+    complete_manifest(&out);
+    std::fs::write(out.join("curves.csv"), "edited").unwrap();
+    let v = ganglion(&["verify", s(&out)]);
+    assert_eq!(v.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&v.stderr).contains("curves.csv"));
+}
+
+#[test]
+fn issue_18_sweep_refuses_a_folder_of_other_files_and_a_run_result_set() {
+    let d = scratch("sweep-foreign");
+    let st = write_study(&d, SWEEP);
+    let foreign = d.join("thesis");
+    std::fs::create_dir_all(&foreign).unwrap();
+    std::fs::write(foreign.join("chapter1.tex"), "keep me").unwrap();
+    for extra in [&[][..], &["--case", "0"][..]] {
+        let mut args = vec!["-q", "sweep", s(&st), "-o", s(&foreign)];
+        args.extend_from_slice(extra);
+        let o = ganglion(&args);
+        assert_eq!(o.status.code(), Some(1));
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(err.contains("no sweep of ours"), "{err}");
+    }
+    assert_eq!(std::fs::read_dir(&foreign).unwrap().count(), 1);
+    // A run's result set is ours but not a sweep.
+    let rd = d.join("r");
+    std::fs::create_dir_all(&rd).unwrap();
+    let run_study = write_study(&rd, SMALL_STUDY);
+    let run_out = d.join("run-out");
+    ok(&[
+        "-q",
+        "run",
+        s(&run_study),
+        "-o",
+        s(&run_out),
+        "--no-png",
+        "--no-vtk",
+    ]);
+    let before = walk(&run_out);
+    let o = ganglion(&["-q", "sweep", s(&st), "-o", s(&run_out)]);
+    assert_eq!(o.status.code(), Some(1));
+    assert_eq!(walk(&run_out), before);
+    complete_manifest(&run_out);
+}
+
+#[test]
+fn issue_18_sweep_merged_outputs_are_sealed_last_and_an_interrupted_merge_shows() {
+    let d = scratch("sweep-seal");
+    let st = write_study(&d, SWEEP);
+    let out = d.join("out");
+    ok(&["-q", "sweep", s(&st), "-o", s(&out)]);
+    let m = complete_manifest(&out);
+    assert_eq!(m["kind"], "sweep");
+    let sources = m["sources"].as_array().unwrap();
+    assert!(sources.iter().any(|e| e["path"] == "sweep-cases.json"));
+    assert!(sources.iter().any(|e| e["path"] == "cases/case-00000.json"));
+    // A merge killed after removing the manifest, with a stale temporary
+    // of a dead writer (pid 0) left in cases/.
+    std::fs::remove_file(out.join("ganglion-manifest.json")).unwrap();
+    std::fs::write(out.join("cases/.case-00000.json.0-1.tmp"), "{").unwrap();
+    assert_eq!(ganglion(&["verify", s(&out)]).status.code(), Some(1));
+    ok(&["-q", "collect", s(&out)]);
+    complete_manifest(&out);
+    no_temp_files(&out);
+}
+
+#[test]
+fn issue_18_negative_generate_values_reach_our_range_check_which_names_the_flag() {
+    let d = scratch("negative-flags");
+    let out = d.join("net");
+    for (flag, value, code) in [
+        ("--seed", "-1", 2),
+        ("--spacing-m", "-85e-6", 1),
+        ("--target-coordination", "-2", 1),
+        ("--clay-fraction", "-0.1", 1),
+        ("--size", "-3x3x3", 1),
+    ] {
+        let mut args = vec!["generate", "-o", s(&out), flag, value];
+        if flag != "--size" {
+            args.extend(["--size", "4x4x4"]);
+        }
+        let o = ganglion(&args);
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(code), "{flag} {value}: {err}");
+        assert!(err.contains(flag), "{flag} {value}: {err}");
+        assert!(
+            !err.contains("unexpected argument"),
+            "{flag} {value}: {err}"
+        );
+        assert!(!out.exists(), "{flag} {value}: wrote before refusing");
+    }
+}
+
+/// Runs `ganglion args` reporting its peak resident memory (`VmHWM`).
+fn peak_of(args: &[&str]) -> u64 {
+    let o = Command::new(env!("CARGO_BIN_EXE_ganglion"))
+        .args(args)
+        .current_dir(root())
+        .env("GANGLION_PRINT_PEAK_MEMORY", "1")
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(o.status.success(), "{args:?}: {err}");
+    err.lines()
+        .find_map(|l| l.strip_prefix("peak resident memory: "))
+        .and_then(|l| l.strip_suffix(" bytes"))
+        .and_then(|n| n.parse().ok())
+        .unwrap_or_else(|| panic!("{args:?}: no peak in {err}"))
+}
+
+#[test]
+fn issue_18_memory_estimate_is_within_a_factor_two_of_the_measured_peak() {
+    use network_core::memory;
+    let d = scratch("memory");
+    // 10^4 pores (run, perm, generate) and 10^5 pores (generate, perm).
+    for n in [22usize, 46] {
+        let net = d.join(format!("net{n}.gnet"));
+        let size = format!("{n}x{n}x{n}");
+        let gen_peak = peak_of(&[
+            "-q",
+            "generate",
+            "-o",
+            s(&net),
+            "--size",
+            &size,
+            "--seed",
+            "3",
+        ]);
+        let loaded = network_core::io::read_network(&net).unwrap().network;
+        let (np, nt) = (loaded.n_pores() as u64, loaded.n_throats() as u64);
+        let bonds = 3 * (n as u64 - 1) * (n as u64) * (n as u64);
+        let mut checks = vec![
+            (
+                "generate",
+                memory::for_generate(np, bonds, nt).total(),
+                gen_peak,
+            ),
+            (
+                "perm",
+                memory::for_perm(np, nt).total(),
+                peak_of(&["-q", "perm", s(&net)]),
+            ),
+        ];
+        if n == 22 {
+            let st = d.join("study.toml");
+            std::fs::write(
+                &st,
+                format!(
+                    "network = {:?}\n{}",
+                    s(&net),
+                    SMALL_STUDY.replace("kr_points = 6", "kr_points = 10")
+                ),
+            )
+            .unwrap();
+            let out = d.join("out");
+            let peak = peak_of(&["-q", "run", s(&st), "-o", s(&out), "--no-png"]);
+            checks.push(("run", memory::for_run(np, nt).total(), peak));
+        }
+        for (what, estimate, peak) in checks {
+            let ratio = estimate as f64 / peak as f64;
+            assert!(
+                (0.5..=2.0).contains(&ratio),
+                "{what} on {np} pores: estimate {estimate} B, measured peak {peak} B (ratio {ratio:.2})"
+            );
+        }
+    }
+}
+
+#[test]
+fn issue_18_generate_beyond_the_available_memory_is_refused_with_both_figures_before_writing() {
+    let d = scratch("memory-refusal");
+    let out = d.join("big.gnet");
+    let o = Command::new(env!("CARGO_BIN_EXE_ganglion"))
+        .args(["generate", "-o", s(&out), "--size", "400x400x400"])
+        .env("GANGLION_MEMORY_LIMIT", "8G")
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(1), "{err}");
+    assert!(
+        err.contains("needs about") && err.contains("is available"),
+        "{err}"
+    );
+    assert!(
+        err.contains("GANGLION_MEMORY_LIMIT=8G")
+            || err.contains("MemAvailable")
+            || err.contains("cgroup"),
+        "{err}"
+    );
+    assert!(!out.exists());
+}
+
+#[test]
+fn issue_18_pore_volume_of_1e308_is_refused_at_load_and_writes_nothing() {
+    let d = scratch("huge-volume");
+    let net = d.join("net");
+    std::fs::create_dir_all(&net).unwrap();
+    let src = root().join("sample-networks/tiny-lattice");
+    for f in ["network.toml", "throats.csv"] {
+        std::fs::copy(src.join(f), net.join(f)).unwrap();
+    }
+    // Pore 0 (line 2) gets a volume of 1e308 m³.
+    let pores = std::fs::read_to_string(src.join("pores.csv")).unwrap();
+    let header: Vec<&str> = pores.lines().next().unwrap().split(',').collect();
+    let col = header.iter().position(|h| *h == "volume_m3").unwrap();
+    let mut lines: Vec<String> = pores.lines().map(str::to_owned).collect();
+    let mut row: Vec<String> = lines[1].split(',').map(str::to_owned).collect();
+    row[col] = "1e308".into();
+    lines[1] = row.join(",");
+    std::fs::write(net.join("pores.csv"), lines.join("\n") + "\n").unwrap();
+    let st = d.join("study.toml");
+    std::fs::write(&st, format!("network = {:?}\n{SMALL_STUDY}", s(&net))).unwrap();
+    let out = d.join("results").join("out");
+    let started = std::time::Instant::now();
+    let o = ganglion(&["-q", "run", s(&st), "-o", s(&out)]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(1), "{err}");
+    assert!(
+        err.contains("porosity") && err.contains("volume_m3"),
+        "{err}"
+    );
+    assert!(
+        started.elapsed().as_secs() < 60,
+        "took {:?}",
+        started.elapsed()
+    );
+    assert!(
+        !d.join("results").exists(),
+        "nothing may be written before a refusal"
+    );
+    let o = ganglion(&["inspect", s(&net)]);
+    assert_eq!(o.status.code(), Some(1));
+}
+
+#[test]
+fn issue_18_huge_thread_counts_are_capped_and_table_points_bounded() {
+    let o = ok(&[
+        "--threads",
+        "100000",
+        "inspect",
+        "sample-networks/tiny-lattice",
+    ]);
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(err.contains("--threads 100000: capped at"), "{err}");
+    let d = scratch("table-points");
+    let st = write_study(&d, SMALL_STUDY);
+    let out = d.join("out");
+    let o = ganglion(&["run", s(&st), "-o", s(&out), "--table-points", "1000000000"]);
+    assert_eq!(o.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--table-points 1000000000"));
+    assert!(!out.exists());
+}
+
 #[test]
 fn synthetic_image_extracts_to_a_network_that_loads_and_matches_the_image() {
     let d = scratch("extract");

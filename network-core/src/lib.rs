@@ -85,6 +85,7 @@ pub mod generate;
 pub mod geometry;
 pub mod image;
 pub mod io;
+pub mod memory;
 pub mod network;
 pub mod numeric;
 pub mod params;

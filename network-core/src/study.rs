@@ -352,6 +352,9 @@ impl Checker<'_> {
         match raw {
             None => d,
             Some(w) => {
+                let span_of = |v: &Option<Spanned<Vec<f64>>>| v.as_ref().map(Spanned::span);
+                let adv_span = span_of(&w.advancing_contact_angle_deg);
+                let ow_rec_span = span_of(&w.oil_wet_receding_contact_angle_deg);
                 let rec = self.angle_range(
                     "wettability.receding_contact_angle_deg",
                     w.receding_contact_angle_deg,
@@ -372,6 +375,34 @@ impl Checker<'_> {
                     w.oil_wet_receding_contact_angle_deg,
                     ow_adv,
                 );
+                // Hysteresis runs one way: the advancing angle is at least
+                // the receding one (common practice). The engine raises a
+                // draw below it to it, so a range entirely on the wrong side
+                // would silently mean "no hysteresis" everywhere.
+                if adv_span.is_some() && adv[1] < rec[0] {
+                    self.fail(
+                        "wettability.advancing_contact_angle_deg",
+                        adv_span,
+                        format!(
+                            "advancing range [{}, {}] lies entirely below the receding range \
+                             [{}, {}]: advancing angles are at least the receding ones \
+                             (were the two keys swapped?)",
+                            adv[0], adv[1], rec[0], rec[1]
+                        ),
+                    );
+                }
+                if ow_rec_span.is_some() && ow_rec[0] > ow_adv[1] {
+                    self.fail(
+                        "wettability.oil_wet_receding_contact_angle_deg",
+                        ow_rec_span,
+                        format!(
+                            "oil-wet receding range [{}, {}] lies entirely above the oil-wet \
+                             advancing range [{}, {}]: receding angles are at most the \
+                             advancing ones (were the two keys swapped?)",
+                            ow_rec[0], ow_rec[1], ow_adv[0], ow_adv[1]
+                        ),
+                    );
+                }
                 WettabilitySpec {
                     receding_contact_angle_deg: rec,
                     advancing_contact_angle_deg: adv,
@@ -797,6 +828,28 @@ until_sw = 0.9
         assert_eq!(e.key, "wettability.advancing_contact_angle_deg");
         assert_eq!(e.line, Some(11));
         assert!(e.message.contains("[0, 180]"), "{e}");
+    }
+
+    #[test]
+    fn issue_18_advancing_range_below_receding_range_is_refused_for_both_wettabilities() {
+        let e = first_error(&GOOD.replace(
+            "receding_contact_angle_deg = [0.0, 20.0]\nadvancing_contact_angle_deg = [30.0, 50.0]",
+            "receding_contact_angle_deg = [60.0, 80.0]\nadvancing_contact_angle_deg = [0.0, 5.0]",
+        ));
+        assert_eq!(e.key, "wettability.advancing_contact_angle_deg");
+        assert_eq!(e.line, Some(11));
+        assert!(e.message.contains("entirely below"), "{e}");
+        let ow = GOOD.replace(
+            "advancing_contact_angle_deg = [30.0, 50.0]",
+            "advancing_contact_angle_deg = [30.0, 50.0]\noil_wet_advancing_contact_angle_deg = [100.0, 110.0]\noil_wet_receding_contact_angle_deg = [150.0, 170.0]",
+        );
+        let e = first_error(&ow);
+        assert_eq!(e.key, "wettability.oil_wet_receding_contact_angle_deg");
+        assert_eq!(e.line, Some(13));
+        // Overlapping ranges stay accepted: the engine raises the draws
+        // that fall on the wrong side.
+        let overlap = GOOD.replace("[30.0, 50.0]", "[10.0, 50.0]");
+        assert!(Study::parse(&overlap).is_ok());
     }
 
     #[test]

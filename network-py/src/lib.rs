@@ -17,6 +17,7 @@
 
 use std::path::{Path, PathBuf};
 
+use network_core::io::result_set::{self, StagedSet};
 use network_core::io::study::StudyInputError;
 use network_core::io::{self};
 use network_core::run::RunResults;
@@ -474,6 +475,7 @@ struct FileOptions {
     vtk_ascii: bool,
     table_points: usize,
     table_units: String,
+    overwrite: bool,
 }
 
 /// Runs a study. `kind` is "path" (value is a study file) or "text" (value
@@ -481,7 +483,7 @@ struct FileOptions {
 /// resolved against `base_dir`). With `output`, writes the files of
 /// `ganglion run` there. Returns the pieces the Python side assembles.
 #[pyfunction]
-#[pyo3(signature = (kind, value, label, base_dir, network=None, progress=None, output=None, png=true, vtk=true, vtk_ascii=false, table_points=21, table_units="bar".to_string(), threads=None))]
+#[pyo3(signature = (kind, value, label, base_dir, network=None, progress=None, output=None, png=true, vtk=true, vtk_ascii=false, table_points=21, table_units="bar".to_string(), threads=None, overwrite=false))]
 #[allow(clippy::too_many_arguments)] // one per Python keyword argument
 fn run_study_raw<'py>(
     py: Python<'py>,
@@ -498,6 +500,7 @@ fn run_study_raw<'py>(
     table_points: usize,
     table_units: String,
     threads: Option<usize>,
+    overwrite: bool,
 ) -> PyResult<Bound<'py, PyDict>> {
     let files = match output {
         Some(output) => {
@@ -513,6 +516,7 @@ fn run_study_raw<'py>(
                 vtk_ascii,
                 table_points,
                 table_units,
+                overwrite,
             })
         }
         None => None,
@@ -534,6 +538,16 @@ fn run_study_raw<'py>(
     let study = py
         .detach(|| source.read_study())
         .map_err(|e| ganglion_err(&e))?;
+    // The output folder is refused before the run is spent on it, as by
+    // the binary (a folder of other files; our set without `overwrite`).
+    if let Some(f) = &files {
+        result_set::check_target(&f.output, f.overwrite).map_err(|e| {
+            ganglion_err_ctx(
+                format!("cannot write results to {}", f.output.display()),
+                &e,
+            )
+        })?;
+    }
     // A network given from Python is borrowed, not copied.
     let loaded;
     let (net, hash, net_warnings): (&Network, String, Vec<String>) = match network.as_deref() {
@@ -554,12 +568,6 @@ fn run_study_raw<'py>(
     reporter.take_error()?;
     if let (Some(f), Some(units)) = (&files, units) {
         py.detach(|| -> PyResult<()> {
-            network_report::write_run_results(&results, &f.output).map_err(|e| {
-                ganglion_err_ctx(
-                    format!("cannot write results to {}", f.output.display()),
-                    &e,
-                )
-            })?;
             let opts = network_report::ArtifactOptions {
                 png: f.png,
                 vtk: f.vtk,
@@ -571,9 +579,15 @@ fn run_study_raw<'py>(
                 table_points: f.table_points,
                 table_units: units,
             };
-            network_report::write_run_artifacts(&results, net, &f.output, &opts).map_err(|e| {
+            let set = StagedSet::begin(&f.output, "run", f.overwrite).map_err(|e| {
                 ganglion_err_ctx(
-                    format!("cannot write the report files to {}", f.output.display()),
+                    format!("cannot write results to {}", f.output.display()),
+                    &e,
+                )
+            })?;
+            network_report::write_run_set(&results, net, set, &opts).map_err(|e| {
+                ganglion_err_ctx(
+                    format!("cannot write results to {}", f.output.display()),
                     &e,
                 )
             })?;
@@ -741,20 +755,15 @@ fn run_sweep_raw<'py>(
         on_threads(threads, || prepared.run_unfinished(&reporter))?
             .map_err(|e| ganglion_err(&e))?;
         let c = network_core::sweep::collect(&output).map_err(|e| ganglion_err(&e))?;
-        network_report::write_sweep_results(&c.summary, &c.results, &output).map_err(|e| {
-            ganglion_err_ctx(
-                format!("cannot write the sweep results to {}", output.display()),
-                &e,
-            )
-        })?;
         let title = network_report::sweep_title(&c.results);
-        network_report::write_sweep_artifacts(&title, &c.summary, &c.results, &output, true)
-            .map_err(|e| {
+        network_report::write_sweep_set(&title, &c.summary, &c.results, &output, true).map_err(
+            |e| {
                 ganglion_err_ctx(
-                    format!("cannot write the sweep report to {}", output.display()),
+                    format!("cannot write the sweep results to {}", output.display()),
                     &e,
                 )
-            })?;
+            },
+        )?;
         Ok(c)
     })?;
     reporter.take_error()?;

@@ -222,3 +222,30 @@ def test_one_and_two_threads_give_the_same_bits(tiny_study_file: Path) -> None:
     assert_same_results(one, two)
     with pytest.raises(ganglion.GanglionError, match="at least 1"):
         ganglion.run_study(tiny_study_file, threads=0)
+
+
+def test_a_second_run_into_the_same_folder_needs_overwrite(
+    tiny_study_file: Path, tmp_path: Path
+) -> None:
+    out = tmp_path / "o"
+    ganglion.run_study(tiny_study_file, output=out, png=False, vtk=False)
+    assert (out / "ganglion-manifest.json").is_file()
+    with pytest.raises(ganglion.GanglionError, match="overwrite"):
+        ganglion.run_study(tiny_study_file, output=out, png=False, vtk=False)
+    # Replacing the set leaves no file of the earlier one: this run writes
+    # the VTK end states, then one without them removes them all.
+    ganglion.run_study(tiny_study_file, output=out, png=False, overwrite=True)
+    assert any(p.suffix == ".vtp" for p in out.rglob("*"))
+    ganglion.run_study(tiny_study_file, output=out, png=False, vtk=False, overwrite=True)
+    assert not any(p.suffix == ".vtp" for p in out.rglob("*"))
+
+
+def test_a_folder_of_other_files_is_refused_before_the_run(
+    tiny_study_file: Path, tmp_path: Path
+) -> None:
+    out = tmp_path / "thesis"
+    out.mkdir()
+    (out / "chapter1.tex").write_text("keep me")
+    with pytest.raises(ganglion.GanglionError, match="not ours"):
+        ganglion.run_study(tiny_study_file, output=out, overwrite=True)
+    assert [p.name for p in out.iterdir()] == ["chapter1.tex"]

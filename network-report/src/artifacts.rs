@@ -6,6 +6,7 @@ use std::path::{Path, PathBuf};
 
 use network_core::Network;
 use network_core::io::atomic::write_atomic;
+use network_core::io::result_set::{Manifest, StagedSet};
 use network_core::run::RunResults;
 
 pub use crate::error::ReportError;
@@ -110,6 +111,23 @@ pub fn write_run_artifacts(
         }
     }
     Ok(out.written)
+}
+
+/// Writes a run's whole result set as one unit: the data files
+/// ([`crate::write_run_results`]) and the files of [`write_run_artifacts`]
+/// go into the staging folder of `set`, which [`StagedSet::commit`] then
+/// seals with its manifest and moves into place. On error the staging
+/// folder is removed and the target keeps what it held. Returns the
+/// manifest.
+pub fn write_run_set(
+    results: &RunResults,
+    network: &Network,
+    set: StagedSet,
+    opts: &ArtifactOptions,
+) -> Result<Manifest, ReportError> {
+    crate::write_run_results(results, set.dir())?;
+    write_run_artifacts(results, network, set.dir(), opts)?;
+    Ok(set.commit()?)
 }
 
 /// Writes files into one folder atomically and lists what it wrote.

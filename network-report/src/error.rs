@@ -49,6 +49,10 @@ pub enum ReportError {
         /// The cause.
         source: VtkError,
     },
+    /// The result folder could not be staged, sealed or moved into place
+    /// (including a refused target folder).
+    #[error(transparent)]
+    Set(#[from] network_core::io::result_set::SetError),
 }
 
 /// Why a plot could not be rendered.

@@ -34,7 +34,9 @@
 //! - [`html`]: the page builder, and the self-contained HTML report of a
 //!   run made with it.
 //! - [`artifacts`]: all of the above for one run, written into a folder,
-//!   each file atomically.
+//!   each file atomically; [`write_run_set`] writes the whole set as one
+//!   unit (staged, sealed with a manifest, moved into place; see
+//!   `network_core::io::result_set`).
 //! - [`sweep_report`](mod@sweep_report): the figures and the HTML report of a sweep, written
 //!   the same way.
 //! - [`micp_files`]: the files of a simulated mercury injection
@@ -80,12 +82,12 @@ pub mod sweep_report;
 pub mod vti;
 pub mod vtk;
 
-pub use artifacts::{ArtifactOptions, write_run_artifacts};
+pub use artifacts::{ArtifactOptions, write_run_artifacts, write_run_set};
 pub use error::ReportError;
 pub use figures::{Figure, run_figures};
 pub use html::run_report;
 pub use run_files::write_run_results;
 pub use saturation_tables::from_run::saturation_tables;
-pub use sweep_files::write_sweep_results;
+pub use sweep_files::{write_sweep_results, write_sweep_set};
 pub use sweep_report::{sweep_figures, sweep_report, sweep_title, write_sweep_artifacts};
 pub use vtk::write_vtp;

@@ -4,7 +4,8 @@
 
 use std::path::Path;
 
-use network_core::io::atomic::write_atomic;
+use network_core::io::atomic::{remove_stale_temporaries, write_atomic};
+use network_core::io::result_set::{self, Manifest};
 use network_core::sweep::{CaseResult, SweepSummary};
 
 use crate::ReportError;
@@ -84,4 +85,51 @@ pub fn write_sweep_results(
         write_atomic(&path, body.as_bytes()).map_err(|source| ReportError::Io { path, source })?;
     }
     Ok(())
+}
+
+/// Writes a sweep's merged outputs ([`write_sweep_results`] and
+/// [`crate::write_sweep_artifacts`]) into its folder `out` as one unit, in
+/// place (the folder keeps its case list and case files for resume): the
+/// old manifest is removed first ([`result_set::unseal`]), the outputs are
+/// written, outputs of an earlier merge that this one does not write are
+/// removed, and the manifest, listing the outputs and the case list and
+/// case files they were merged from, is written last
+/// ([`result_set::seal`]). Temporary files of killed writers in `out` and
+/// `out/cases` are removed first. A folder whose manifest is missing or
+/// does not verify holds an interrupted merge.
+pub fn write_sweep_set(
+    title: &str,
+    summary: &SweepSummary,
+    results: &[CaseResult],
+    out: &Path,
+    png: bool,
+) -> Result<Manifest, ReportError> {
+    remove_stale_temporaries(out);
+    remove_stale_temporaries(&out.join("cases"));
+    let old = result_set::unseal(out)?;
+    write_sweep_results(summary, results, out)?;
+    let figures = crate::write_sweep_artifacts(title, summary, results, out, png)?;
+    let mut written: Vec<String> = ["summary.json", "trapping-curve.csv", "cases.csv"]
+        .map(String::from)
+        .to_vec();
+    for p in &figures {
+        if let Some(n) = p.file_name() {
+            written.push(n.to_string_lossy().into_owned());
+        }
+    }
+    let sources: Vec<String> = result_set::list_files(out)?
+        .into_iter()
+        .filter(|f| {
+            f == "sweep-cases.json"
+                || f.strip_prefix("cases/case-")
+                    .is_some_and(|r| r.ends_with(".json") && !r.contains('/'))
+        })
+        .collect();
+    Ok(result_set::seal(
+        out,
+        "sweep",
+        &written,
+        &sources,
+        old.as_ref(),
+    )?)
 }

@@ -3,7 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use anyhow::{Context, Result, bail};
-use network_core::generate::{IrregularSpec, LatticeSpec, generate};
+use network_core::generate::{GenerateError, IrregularSpec, LatticeSpec, generate};
 use network_core::{Axis, io};
 
 use crate::progress::Bars;
@@ -23,7 +23,7 @@ use crate::progress::Bars;
 ///   ganglion generate -o big.gnet --size 100x100x100 --target-coordination 5
 ///   ganglion generate -o net/ --spec lattice.toml
 #[derive(clap::Args, Debug)]
-#[command(verbatim_doc_comment)]
+#[command(verbatim_doc_comment, allow_negative_numbers = true)]
 pub struct Args {
     /// Output: a folder (CSV) or a `.gnet` file (binary).
     #[arg(short, long, value_name = "OUT")]
@@ -31,18 +31,18 @@ pub struct Args {
     /// Generator file (TOML) with any keys of the lattice specification.
     #[arg(long, value_name = "FILE")]
     pub spec: Option<PathBuf>,
-    #[arg(long, value_name = "NXxNYxNZ", help = help_default(
+    #[arg(long, allow_hyphen_values = true, value_name = "NXxNYxNZ", help = help_default(
         "Lattice size as NXxNYxNZ (keys nx, ny, nz), e.g. 30x30x30.",
         { let d = LatticeSpec::default(); format!("{}x{}x{}", d.nx, d.ny, d.nz) }))]
     pub size: Option<String>,
-    #[arg(long, value_name = "M", help = help_default(
+    #[arg(long, allow_hyphen_values = true, value_name = "M", help = help_default(
         "Pore spacing (centre to centre), m; 85 µm is 85e-6.",
         LatticeSpec::default().spacing_m))]
     pub spacing_m: Option<f64>,
     /// Renamed: use --spacing-m (metres, like the generator file's key).
     #[arg(long, value_name = "UM", hide = true)]
     pub spacing_um: Option<f64>,
-    #[arg(long, value_name = "Z", visible_alias = "coordination", help = help_default(
+    #[arg(long, allow_hyphen_values = true, value_name = "Z", visible_alias = "coordination", help = help_default(
         "Target mean coordination number.",
         LatticeSpec::default().target_coordination))]
     pub target_coordination: Option<f64>,
@@ -50,11 +50,11 @@ pub struct Args {
         "Flow axis (x, y or z): the inlet and outlet faces are normal to it.",
         LatticeSpec::default().flow_axis.as_str()))]
     pub flow_axis: Option<String>,
-    #[arg(long, value_name = "F", help = help_default(
+    #[arg(long, allow_hyphen_values = true, value_name = "F", help = help_default(
         "Fraction of each element's volume that is clay (microporosity), in [0, 1).",
         LatticeSpec::default().clay_fraction))]
     pub clay_fraction: Option<f64>,
-    #[arg(long, help = help_default("Seed of the random draws.", LatticeSpec::default().seed))]
+    #[arg(long, allow_hyphen_values = true, value_parser = parse_seed, help = help_default("Seed of the random draws.", LatticeSpec::default().seed))]
     pub seed: Option<u64>,
     /// Name written into network.toml.
     #[arg(long)]
@@ -89,6 +89,31 @@ pub struct Args {
 /// A flag's help with the library's default, so the two cannot drift.
 fn help_default(text: &str, default: impl std::fmt::Display) -> String {
     format!("{text} [default: {default}, or the --spec file's value]")
+}
+
+/// Throats the generator keeps: every lattice bond for a regular lattice,
+/// else about `z n / 2` for the target coordination `z`.
+fn expected_throats(spec: &LatticeSpec) -> u64 {
+    let bonds = spec.n_lattice_bonds();
+    if spec.regular.is_some() || !spec.target_coordination.is_finite() {
+        return bonds;
+    }
+    let kept = (spec.target_coordination.max(0.0) * spec.n_pores() as f64 / 2.0).ceil();
+    if kept < bonds as f64 {
+        kept as u64
+    } else {
+        bonds
+    }
+}
+
+/// A seed: any whole number, judged here (not by the flag parser) so a
+/// negative one is named with its range.
+fn parse_seed(s: &str) -> Result<u64, String> {
+    let n: i128 = s
+        .trim()
+        .parse()
+        .map_err(|_| format!("`{s}` is not a whole number"))?;
+    u64::try_from(n).map_err(|_| format!("{n} is outside the seed range 0 to {}", u64::MAX))
 }
 
 fn parse_size(s: &str) -> Result<(usize, usize, usize)> {
@@ -167,7 +192,42 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
             irr.correlation_length_m = l;
         }
     }
-    let network = generate(&spec, progress).context("cannot generate the network")?;
+    super::check_memory(
+        &format!("a lattice of {}x{}x{} pores", spec.nx, spec.ny, spec.nz),
+        network_core::memory::for_generate(
+            spec.n_pores(),
+            spec.n_lattice_bonds(),
+            expected_throats(&spec),
+        ),
+        "choose a smaller --size, or generate on a machine with more memory",
+    )?;
+    let network = generate(&spec, progress).map_err(|e| {
+        // A value given by a flag is refused under the flag's name.
+        let key = match &e {
+            GenerateError::InvalidParameter { name, .. } => Some(name.as_str()),
+            GenerateError::CoordinationOutOfRange { .. } => Some("target_coordination"),
+            GenerateError::SpacingTooSmall { .. } => Some("spacing_m"),
+            _ => None,
+        };
+        let by_flag = match key {
+            Some("spacing_m") => args.spacing_m.is_some(),
+            Some("target_coordination") => args.target_coordination.is_some(),
+            Some("clay_fraction") => args.clay_fraction.is_some(),
+            Some("nx" | "ny" | "nz") => args.size.is_some(),
+            _ => false,
+        };
+        match key {
+            Some(k) if by_flag => {
+                let flag = if matches!(k, "nx" | "ny" | "nz") {
+                    "size".to_owned()
+                } else {
+                    k.replace('_', "-")
+                };
+                anyhow::anyhow!("--{flag}: {e}")
+            }
+            _ => anyhow::Error::new(e).context("cannot generate the network"),
+        }
+    })?;
     let network = rename(network, args, &spec);
     write_network(&network, &args.output)?;
     progress.note(&format!(

@@ -14,6 +14,7 @@ pub mod run;
 pub mod sweep;
 pub mod synth_image;
 pub mod template;
+pub mod verify;
 
 use std::path::Path;
 
@@ -45,4 +46,20 @@ pub fn study_network(
         progress.warn(&w.to_string());
     }
     Ok((net.network, net.hash))
+}
+
+/// Refuses a command whose memory estimate exceeds what the machine has
+/// (see `network_core::memory`), before it allocates.
+pub fn check_memory(
+    what: &str,
+    estimate: network_core::memory::Estimate,
+    hint: &str,
+) -> Result<()> {
+    network_core::memory::check(
+        what,
+        estimate,
+        network_core::io::memory::available_bytes(),
+        hint,
+    )?;
+    Ok(())
 }

@@ -35,6 +35,11 @@ pub struct Args {
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     let loaded = super::load(&args.network, progress)?;
     let net = &loaded.network;
+    super::check_memory(
+        &format!("the pressure solve of {} pores", net.n_pores()),
+        network_core::memory::for_perm(net.n_pores() as u64, net.n_throats() as u64),
+        "use a machine with more memory or a smaller sub-volume of the network",
+    )?;
     let axis = match &args.axis {
         Some(a) => Axis::parse(a).with_context(|| format!("--axis `{a}`: expected x, y or z"))?,
         None => net.info().flow_axis,

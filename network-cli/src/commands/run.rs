@@ -4,6 +4,7 @@ use std::path::PathBuf;
 
 use anyhow::{Context, Result};
 use network_core::io;
+use network_core::io::result_set::{self, StagedSet};
 use network_core::run::run_study;
 use network_report::key_results::fixed;
 
@@ -21,8 +22,14 @@ use crate::progress::Bars;
 /// saturation-function tables for drainage and imbibition (CSV and a
 /// simulator include file), report.html (one self-contained file) and the
 /// end state of every process as VTK PolyData (state-K-KIND.vtp; binary
-/// appended data, or text with --vtk-ascii). Every
-/// file is written atomically.
+/// appended data, or text with --vtk-ascii), and last
+/// ganglion-manifest.json (every file with its size and CRC-32). The set
+/// is written as one unit: into a hidden staging folder beside OUT that
+/// takes OUT's place only when complete, so OUT holds either the previous
+/// complete set or the new one, never a mix. OUT must be missing, empty,
+/// or hold an earlier Ganglion result set (replaced only with
+/// --overwrite); a non-empty folder of other files is refused. Check a
+/// folder with `ganglion verify OUT`.
 ///
 /// Examples:
 ///   ganglion run studies/kestrel-waterflood.toml -o out/
@@ -32,9 +39,15 @@ use crate::progress::Bars;
 pub struct Args {
     /// Study file (TOML).
     pub study: PathBuf,
-    /// Output folder (created if missing).
+    /// Output folder (created if missing; must be empty or hold an earlier
+    /// Ganglion result set).
     #[arg(short, long, value_name = "OUT")]
     pub output: PathBuf,
+    /// Replace the result set already in OUT (as a whole, only when the
+    /// new set is complete). Without it a folder holding results is
+    /// refused.
+    #[arg(long)]
+    pub overwrite: bool,
     /// Skip the PNG copies of the figures.
     #[arg(long)]
     pub no_png: bool,
@@ -45,7 +58,7 @@ pub struct Args {
     /// times larger) instead of binary appended data.
     #[arg(long, conflicts_with = "no_vtk")]
     pub vtk_ascii: bool,
-    /// Rows of each saturation-function table.
+    /// Rows of each saturation-function table (2 to 10000).
     #[arg(long, default_value_t = 21, value_name = "N")]
     pub table_points: usize,
     /// Unit of capillary pressure in the keyword tables (.inc): bar (the
@@ -60,16 +73,34 @@ fn parse_table_units(s: &str) -> Result<network_report::saturation_tables::Table
         .ok_or_else(|| format!("{s:?} is not a table unit: use bar, kpa or psi"))
 }
 
+/// Largest `--table-points`: a table of more rows than this resolves
+/// nothing a simulator can use and only costs memory and disk.
+pub const MAX_TABLE_POINTS: usize = 10_000;
+
 pub fn run(args: &Args, progress: &Bars) -> Result<()> {
-    if args.table_points < 2 {
-        anyhow::bail!("--table-points {}: must be at least 2", args.table_points);
+    if !(2..=MAX_TABLE_POINTS).contains(&args.table_points) {
+        anyhow::bail!(
+            "--table-points {}: must be from 2 to {MAX_TABLE_POINTS} (rows of each saturation-function table)",
+            args.table_points
+        );
     }
     let study = io::study::read_study(&args.study)?;
+    // Refuse the folder before spending the run on it (no side effects).
+    result_set::check_target(&args.output, args.overwrite)?;
     let (network, hash) = super::study_network(&args.study, &study, 0, progress)?;
+    super::check_memory(
+        &format!(
+            "a run on {} pores and {} throats",
+            network.n_pores(),
+            network.n_throats()
+        ),
+        network_core::memory::for_run(network.n_pores() as u64, network.n_throats() as u64),
+        "use a machine with more memory or a smaller network",
+    )?;
+    // Every input accepted: only now does anything appear on disk.
+    let set = StagedSet::begin(&args.output, "run", args.overwrite)?;
     let mut results = run_study(&network, &study, progress);
     results.network.hash = hash;
-    network_report::write_run_results(&results, &args.output)
-        .with_context(|| format!("cannot write results to {}", args.output.display()))?;
     let opts = network_report::ArtifactOptions {
         png: !args.no_png,
         vtk: !args.no_vtk,
@@ -81,8 +112,8 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
         table_points: args.table_points,
         table_units: args.table_units,
     };
-    network_report::write_run_artifacts(&results, &network, &args.output, &opts)
-        .with_context(|| format!("cannot write the report files to {}", args.output.display()))?;
+    network_report::write_run_set(&results, &network, set, &opts)
+        .with_context(|| format!("cannot write results to {}", args.output.display()))?;
     for (i, p) in results.processes.iter().enumerate() {
         progress.note(&format!(
             "process {} {:<11} final Pc {:>12} Pa   Sw {}   trapped Sn {}",

@@ -185,11 +185,9 @@ fn collect_into(out: &Path, allow_missing: bool, progress: &Bars) -> Result<()> 
             compact_ranges(&missing),
         );
     }
-    network_report::write_sweep_results(&summary, &results, out)
-        .with_context(|| format!("cannot write the sweep results to {}", out.display()))?;
     let title = network_report::sweep_title(&results);
-    network_report::write_sweep_artifacts(&title, &summary, &results, out, true)
-        .with_context(|| format!("cannot write the sweep report to {}", out.display()))?;
+    network_report::write_sweep_set(&title, &summary, &results, out, true)
+        .with_context(|| format!("cannot write the sweep results to {}", out.display()))?;
     if !missing.is_empty() {
         progress.warn(&format!(
             "{} of {} cases missing, merged without them: {}",

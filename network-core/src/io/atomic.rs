@@ -158,6 +158,43 @@ pub(crate) fn temp_sibling(path: &Path) -> PathBuf {
     parent_dir(path).join(format!(".{name}.{}-{n}.tmp", std::process::id()))
 }
 
+/// Removes the temporary files of [`AtomicFile`]s (`.<name>.<pid>-<n>.tmp`)
+/// in `dir` whose process no longer runs: a process killed mid-write
+/// cannot remove its own. Temporaries of running processes are kept.
+/// Returns how many were removed.
+pub fn remove_stale_temporaries(dir: &Path) -> usize {
+    let Ok(rd) = fs::read_dir(dir) else {
+        return 0;
+    };
+    let mut removed = 0;
+    for e in rd.flatten() {
+        let name = e.file_name().to_string_lossy().into_owned();
+        let Some(pid) = temp_owner(&name) else {
+            continue;
+        };
+        let is_file = e.file_type().is_ok_and(|t| t.is_file());
+        if is_file && !process_alive(pid) && fs::remove_file(e.path()).is_ok() {
+            removed += 1;
+        }
+    }
+    removed
+}
+
+/// `true` when process `pid` is running (Linux: `/proc/<pid>` exists).
+/// Without `/proc` every other process is taken as gone.
+pub(crate) fn process_alive(pid: u32) -> bool {
+    pid == std::process::id() || Path::new("/proc").join(pid.to_string()).exists()
+}
+
+/// The pid in a temporary name of ours, `.<name>.<pid>-<n>.tmp`.
+fn temp_owner(file_name: &str) -> Option<u32> {
+    let inner = file_name.strip_prefix('.')?.strip_suffix(".tmp")?;
+    let (_, tag) = inner.rsplit_once('.')?;
+    let (pid, n) = tag.split_once('-')?;
+    n.parse::<u64>().ok()?;
+    pid.parse().ok()
+}
+
 fn create_temp_file(path: &Path) -> io::Result<(PathBuf, File)> {
     loop {
         let temp = temp_sibling(path);
@@ -216,6 +253,27 @@ mod tests {
         }
         assert_eq!(fs::read_to_string(&path).unwrap(), "old");
         assert_eq!(entries(&dir), vec!["b.txt".to_owned()]);
+        fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn stale_temporaries_of_dead_processes_are_removed_and_others_kept() {
+        let dir = scratch("stale");
+        // pid 0 is never a user process: its temporary is stale.
+        fs::write(dir.join(".summary.json.0-3.tmp"), "half").unwrap();
+        let live = temp_sibling(&dir.join("curves.csv"));
+        fs::write(&live, "being written").unwrap();
+        fs::write(dir.join(".notes.tmp"), "not ours").unwrap();
+        fs::write(dir.join("summary.json"), "{}").unwrap();
+        assert_eq!(remove_stale_temporaries(&dir), 1);
+        let live_name = live.file_name().unwrap().to_string_lossy().into_owned();
+        let mut want = vec![
+            ".notes.tmp".to_owned(),
+            live_name,
+            "summary.json".to_owned(),
+        ];
+        want.sort();
+        assert_eq!(entries(&dir), want);
         fs::remove_dir_all(&dir).unwrap();
     }
 

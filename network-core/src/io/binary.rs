@@ -210,13 +210,17 @@ impl Columns {
 /// The encoded file: header, payload and checksum.
 pub(crate) fn encode(network: &Network) -> Vec<u8> {
     let cols = Columns::of(network);
-    let payload = cols.payload(network.info(), network.n_pores(), network.n_throats());
+    frame(&cols.payload(network.info(), network.n_pores(), network.n_throats()))
+}
+
+/// Header, the encoded `payload` and its checksum.
+fn frame(payload: &PayloadV1<'_>) -> Vec<u8> {
     let mut out = Vec::new();
     out.extend_from_slice(&MAGIC);
     out.extend_from_slice(&FORMAT_VERSION.to_le_bytes());
     out.extend_from_slice(&0u64.to_le_bytes());
     let mut out =
-        postcard::to_extend(&payload, out).expect("postcard encodes into a Vec without size limit");
+        postcard::to_extend(payload, out).expect("postcard encodes into a Vec without size limit");
     let n = (out.len() - HEADER_LEN) as u64;
     out[12..20].copy_from_slice(&n.to_le_bytes());
     let crc = crc32fast::hash(&out[HEADER_LEN..]);
@@ -251,12 +255,20 @@ pub(crate) fn has_magic(bytes: &[u8]) -> bool {
     bytes.len() >= MAGIC.len() && bytes[..MAGIC.len()] == MAGIC
 }
 
+/// Bytes of a column of `n` elements of `width` bytes, refused when the
+/// product overflows (a crafted count must not wrap to a small size).
+fn column_bytes(n: usize, width: u64, what: &str) -> Result<u64, String> {
+    (n as u64).checked_mul(width).ok_or_else(|| {
+        format!("declared {what} count {n} overflows when multiplied by {width} bytes per element")
+    })
+}
+
 fn f64_column(raw: Raw<'_>, n: usize, what: &str) -> Result<Vec<f64>, String> {
-    if raw.0.len() as u64 != 8 * n as u64 {
+    let expected = column_bytes(n, 8, what)?;
+    if raw.0.len() as u64 != expected {
         return Err(format!(
-            "column {what} holds {} bytes, expected {} (8 per element)",
+            "column {what} holds {} bytes, expected {expected} (8 per element)",
             raw.0.len(),
-            8 * n as u64
         ));
     }
     Ok(raw
@@ -357,8 +369,17 @@ fn decode_payload(payload: &[u8]) -> Result<Decoded, String> {
     if !rest.is_empty() {
         return Err(format!("{} unused bytes at the end", rest.len()));
     }
-    let n_p = usize::try_from(p.n_pores).map_err(|_| "pore count too large".to_owned())?;
-    let n_t = usize::try_from(p.n_throats).map_err(|_| "throat count too large".to_owned())?;
+    // Ids are u32: a larger declared count cannot be a network of ours.
+    let count = |n: u64, what: &str| {
+        u32::try_from(n).map(|n| n as usize).map_err(|_| {
+            format!(
+                "declared {what} count {n} exceeds the largest id {}",
+                u32::MAX
+            )
+        })
+    };
+    let n_p = count(p.n_pores, "pore")?;
+    let n_t = count(p.n_throats, "throat")?;
     let flow_axis = match p.flow_axis {
         0 => Axis::X,
         1 => Axis::Y,
@@ -382,11 +403,11 @@ fn decode_payload(payload: &[u8]) -> Result<Decoded, String> {
             _ => Err(format!("boundary code {b} is not 0, 1 or 2")),
         })
         .collect::<Result<Vec<Boundary>, String>>()?;
-    if p.throat_pores.0.len() as u64 != 8 * n_t as u64 {
+    let ends_bytes = column_bytes(n_t, 8, "throat")?;
+    if p.throat_pores.0.len() as u64 != ends_bytes {
         return Err(format!(
-            "throat end column holds {} bytes, expected {}",
+            "throat end column holds {} bytes, expected {ends_bytes}",
             p.throat_pores.0.len(),
-            8 * n_t as u64
         ));
     }
     let ends: Vec<[u32; 2]> = p
@@ -542,6 +563,61 @@ pub(crate) fn payload_digest(network: &Network) -> u64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A file with one valid pore, a valid checksum and `n_throats`
+    /// declared over empty throat columns.
+    fn crafted(n_pores: u64, n_throats: u64) -> Vec<u8> {
+        let one = 1e-5f64.to_le_bytes();
+        let g = 0.04f64.to_le_bytes();
+        let zero = 0f64.to_le_bytes();
+        let empty: &[u8] = &[];
+        frame(&PayloadV1 {
+            name: "crafted",
+            description: None,
+            flow_axis: 0,
+            length_m: 1e-4,
+            area_m2: 1e-8,
+            bulk_volume_m3: 1e-12,
+            extent_m: None,
+            n_pores,
+            n_throats,
+            pore_x: Raw(&zero),
+            pore_y: Raw(&zero),
+            pore_z: Raw(&zero),
+            pore_radius: Raw(&one),
+            pore_shape_factor: Raw(&g),
+            pore_volume: Raw(&one),
+            pore_clay_volume: Raw(&zero),
+            pore_boundary: Raw(&[1]),
+            throat_pores: Raw(empty),
+            throat_radius: Raw(empty),
+            throat_shape_factor: Raw(empty),
+            throat_volume: Raw(empty),
+            throat_clay_volume: Raw(empty),
+            throat_length: Raw(empty),
+            throat_conduit_a: Raw(empty),
+            throat_conduit_b: Raw(empty),
+        })
+    }
+
+    #[test]
+    fn issue_18_declared_counts_that_overflow_are_refused_before_any_allocation() {
+        let path = Path::new("crafted.gnet");
+        // 2^61 throats × 8 bytes wraps to 0 in 64 bits, matching the empty
+        // columns; 2^32 exceeds every u32 id.
+        for (n_p, n_t) in [
+            (1, 1u64 << 61),
+            (1, u64::MAX),
+            (1, 1u64 << 32),
+            (1u64 << 61, 0),
+        ] {
+            let err = decode(&crafted(n_p, n_t), path).unwrap_err().to_string();
+            assert!(
+                err.contains("declared") && err.contains("count"),
+                "{n_p} pores, {n_t} throats: {err}"
+            );
+        }
+    }
 
     #[test]
     fn digest_does_not_depend_on_how_bytes_are_split() {

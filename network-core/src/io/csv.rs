@@ -247,12 +247,71 @@ pub(crate) fn read_folder(dir: &Path) -> Result<Loaded, ReadError> {
                 }
             }
             sort_violations(&mut violations, &files);
+            cut_missing_pore_cascade(&mut violations, &pores_name);
             Err(ReadError::Invalid {
                 path: dir.to_path_buf(),
                 violations,
             })
         }
     }
+}
+
+/// Most "missing pore" problems listed one by one when the pore table
+/// itself read cleanly; the rest are summarised in one line.
+pub const MISSING_PORE_LISTED: usize = 5;
+
+/// Cuts a cascade to its first cause. When `pores.csv` has problems of its
+/// own (a malformed row swallows the rows after it), every throat end that
+/// names a pore lost that way follows from them: the "missing pore" problems
+/// become one summary line. Otherwise the first [`MISSING_PORE_LISTED`] are
+/// kept and the rest summarised. `violations` must be sorted.
+fn cut_missing_pore_cascade(violations: &mut Vec<Violation>, pores_name: &str) {
+    let pores_broken = violations
+        .iter()
+        .any(|v| v.file.as_deref() == Some(pores_name));
+    let missing: Vec<usize> = (0..violations.len())
+        .filter(|&i| violations[i].rule == Rule::MissingPore)
+        .collect();
+    if pores_broken {
+        for v in violations.iter_mut() {
+            if matches!(v.rule, Rule::NoInlet | Rule::NoOutlet) {
+                v.detail += " among the rows read before the problems of this file";
+            }
+        }
+    }
+    let keep = if pores_broken { 0 } else { MISSING_PORE_LISTED };
+    if missing.len() <= keep.max(1) {
+        return;
+    }
+    let first = violations[missing[keep]].clone();
+    let n_cut = missing.len() - keep;
+    let mut summary = first.clone();
+    summary.detail = if pores_broken {
+        format!(
+            "{n_cut} throat ends name pores that are not in the pore table, from line {} on \
+             (first: {}); they follow from the problems in {pores_name} above: fix those first",
+            first.line.map_or("?".to_owned(), |l| l.to_string()),
+            first.detail
+        )
+    } else {
+        format!(
+            "{n_cut} more throat ends name pores that do not exist, from line {} on (first: {})",
+            first.line.map_or("?".to_owned(), |l| l.to_string()),
+            first.detail
+        )
+    };
+    let cut: std::collections::HashSet<usize> = missing[keep..].iter().copied().collect();
+    let mut k = 0;
+    violations.retain(|_| {
+        let drop = cut.contains(&k);
+        k += 1;
+        !drop
+    });
+    let at = violations
+        .iter()
+        .position(|v| v.line > summary.line && v.file == summary.file)
+        .unwrap_or(violations.len());
+    violations.insert(at, summary);
 }
 
 /// The optional `oil_wet` column as marks: `None` when absent; blank cells

@@ -119,6 +119,8 @@ pub mod binary;
 pub mod csv;
 pub mod image;
 pub mod lab_curve;
+pub mod memory;
+pub mod result_set;
 mod sample;
 pub mod study;
 pub mod sweep_store;

@@ -53,6 +53,41 @@ pub enum Rule {
     Empty,
     /// A column name appears twice in a CSV header.
     DuplicateColumn,
+    /// A value is finite but outside what a rock can hold: a radius outside
+    /// [`RADIUS_RANGE_M`], pore volumes summing to more than the bulk
+    /// volume (porosity above 1) or to no finite number, a sample length
+    /// inconsistent with the pore positions beyond [`LENGTH_RATIO_REFUSED`].
+    Unphysical,
+}
+
+/// Inscribed radii outside this range, m, are refused: below a tenth of a
+/// nanometre is smaller than a water molecule, above a metre is no pore
+/// (common practice).
+pub const RADIUS_RANGE_M: [f64; 2] = [1.0e-10, 1.0];
+
+/// Ratio between `length_m` and the extent of the pore centres along the
+/// flow axis beyond which the network is refused (either way): a factor of
+/// 1000 or more is a unit mistake (µm or mm given as m), not a sample
+/// margin, which is a few pore spacings. Smaller mismatches beyond
+/// `run::input_checks::LENGTH_RATIO_LIMIT` are warned about.
+pub const LENGTH_RATIO_REFUSED: f64 = 1.0e3;
+
+/// `length_m` over the extent of the pore centres along the flow axis,
+/// and that extent (m); `None` when the centres do not span a positive
+/// finite distance (one layer of pores).
+pub fn length_extent_ratio(info: &NetworkInfo, pores: &Pores) -> Option<(f64, f64)> {
+    let col = match info.flow_axis.index() {
+        0 => &pores.x,
+        1 => &pores.y,
+        _ => &pores.z,
+    };
+    let (lo, hi) = col
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
+            (a.min(v), b.max(v))
+        });
+    let extent = hi - lo;
+    (extent > 0.0 && extent.is_finite()).then(|| (info.length_m / extent, extent))
 }
 
 impl Rule {
@@ -77,6 +112,7 @@ impl Rule {
             Rule::BadBinary => "bad-binary",
             Rule::Empty => "empty",
             Rule::DuplicateColumn => "duplicate-column",
+            Rule::Unphysical => "unphysical",
         }
     }
 }
@@ -207,6 +243,30 @@ fn check_value(
     }
 }
 
+/// A radius: positive ([`Rule::RadiusNotPositive`]) and within
+/// [`RADIUS_RANGE_M`] ([`Rule::Unphysical`]).
+fn check_radius(out: &mut Vec<Violation>, t: Target, r: f64) {
+    if r.is_finite() && r > 0.0 && !(RADIUS_RANGE_M[0]..=RADIUS_RANGE_M[1]).contains(&r) {
+        out.push(Violation::new(
+            Rule::Unphysical,
+            t,
+            Some("radius_m"),
+            format!(
+                "value {r:e} m is outside the physical range [{:e}, {:e}] m of a pore radius",
+                RADIUS_RANGE_M[0], RADIUS_RANGE_M[1]
+            ),
+        ));
+        return;
+    }
+    check_value(
+        out,
+        t,
+        "radius_m",
+        r,
+        Some((Rule::RadiusNotPositive, r <= 0.0, "> 0")),
+    );
+}
+
 /// Checks every column rule and returns all violations found, pores first,
 /// then throats, then network-level rules.
 pub fn check_columns(info: &NetworkInfo, pores: &Pores, throats: &Throats) -> Vec<Violation> {
@@ -286,13 +346,7 @@ pub fn check_columns(info: &NetworkInfo, pores: &Pores, throats: &Throats) -> Ve
         check_value(&mut out, t, "y_m", pores.y[i], None);
         check_value(&mut out, t, "z_m", pores.z[i], None);
         let r = pores.radius[i];
-        check_value(
-            &mut out,
-            t,
-            "radius_m",
-            r,
-            Some((Rule::RadiusNotPositive, r <= 0.0, "> 0")),
-        );
+        check_radius(&mut out, t, r);
         let v = pores.volume[i];
         check_value(
             &mut out,
@@ -341,13 +395,7 @@ pub fn check_columns(info: &NetworkInfo, pores: &Pores, throats: &Throats) -> Ve
             ));
         }
         let r = throats.radius[i];
-        check_value(
-            &mut out,
-            t,
-            "radius_m",
-            r,
-            Some((Rule::RadiusNotPositive, r <= 0.0, "> 0")),
-        );
+        check_radius(&mut out, t, r);
         let g = throats.shape_factor[i];
         let bad_g = !(g > 0.0 && g <= G_CIRCLE * (1.0 + 1e-12));
         check_value(
@@ -406,6 +454,7 @@ pub fn check_columns(info: &NetworkInfo, pores: &Pores, throats: &Throats) -> Ve
             ));
         }
     }
+    sample_bounds(&mut out, info, pores, throats);
     if !pores.boundary.contains(&Boundary::Inlet) {
         out.push(Violation::new(
             Rule::NoInlet,
@@ -423,6 +472,65 @@ pub fn check_columns(info: &NetworkInfo, pores: &Pores, throats: &Throats) -> Ve
         ));
     }
     out
+}
+
+/// The network-level bounds: the pore volumes sum to a finite number no
+/// larger than the bulk volume (porosity at most 1), and `length_m` agrees
+/// with the pore positions within [`LENGTH_RATIO_REFUSED`]. Skipped where
+/// the element values are already refused (not finite or negative).
+fn sample_bounds(out: &mut Vec<Violation>, info: &NetworkInfo, pores: &Pores, throats: &Throats) {
+    let element_problem = out.iter().any(|v| {
+        matches!(v.rule, Rule::NotFinite | Rule::NegativeVolume) && v.target != Target::Network
+    });
+    let mut length_refused = false;
+    let length = info.length_m;
+    if length.is_finite()
+        && length > 0.0
+        && let Some((ratio, extent)) = length_extent_ratio(info, pores)
+        && !(1.0 / LENGTH_RATIO_REFUSED..=LENGTH_RATIO_REFUSED).contains(&ratio)
+    {
+        length_refused = true;
+        out.push(Violation::new(
+            Rule::Unphysical,
+            Target::Network,
+            Some("length_m"),
+            format!(
+                "value {length:e} m is {ratio:.3e} times the {extent:.3e} m spanned by the pore \
+                 centres along the flow axis (refused beyond a factor {LENGTH_RATIO_REFUSED:e} \
+                 either way: a length in µm or mm given in m?)"
+            ),
+        ));
+    }
+    // A bulk volume derived from a refused length would only repeat it.
+    let bulk = info.bulk_volume_m3;
+    if !element_problem && !length_refused && bulk.is_finite() && bulk > 0.0 {
+        let total = crate::numeric::ordered_sum(&pores.volume)
+            + crate::numeric::ordered_sum(&throats.volume)
+            + crate::numeric::ordered_sum(&pores.clay_volume)
+            + crate::numeric::ordered_sum(&throats.clay_volume);
+        if !total.is_finite() {
+            out.push(Violation::new(
+                Rule::Unphysical,
+                Target::Network,
+                Some("volume_m3"),
+                format!(
+                    "the pore and throat volumes sum to {total} m³, not a finite number \
+                     (a volume near the largest double?); porosity cannot be computed"
+                ),
+            ));
+        } else if total > bulk * (1.0 + 1e-9) {
+            out.push(Violation::new(
+                Rule::Unphysical,
+                Target::Network,
+                Some("volume_m3"),
+                format!(
+                    "porosity {:.6} is above 1: the pore and throat volumes (clay included) \
+                     sum to {total:e} m³ but the bulk volume is {bulk:e} m³",
+                    total / bulk
+                ),
+            ));
+        }
+    }
 }
 
 /// Volume warnings of a valid network: elements whose volume is smaller than

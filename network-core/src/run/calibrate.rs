@@ -49,7 +49,7 @@
 use serde::{Deserialize, Serialize};
 
 use crate::flow::{PermOptions, permeability};
-use crate::network::{InvalidNetwork, Network};
+use crate::network::{InvalidNetwork, Network, NetworkInfo, Pores, Throats};
 use crate::run::micp::{MeasuredMicp, MicpCurve, MicpError, MicpSpec, simulate_micp};
 
 /// Largest accepted RMS difference of mercury saturation after the fit.
@@ -146,6 +146,29 @@ pub fn scale_network(
     radius_factor: f64,
     length_factor: f64,
 ) -> Result<Network, CalibrationError> {
+    let (info, pores, throats) = scale_columns(net, radius_factor, length_factor)?;
+    Ok(Network::new(info, pores, throats)?)
+}
+
+/// Porosity of the network scaled by `radius_factor` (lengths unchanged),
+/// without validating it: the bisection of [`calibrate`] passes through
+/// factors whose porosity exceeds 1, which a network may not have.
+fn scaled_porosity(net: &Network, radius_factor: f64) -> Result<f64, CalibrationError> {
+    use crate::numeric::ordered_sum;
+    let (info, p, t) = scale_columns(net, radius_factor, 1.0)?;
+    let pv = ordered_sum(&p.volume)
+        + ordered_sum(&t.volume)
+        + ordered_sum(&p.clay_volume)
+        + ordered_sum(&t.clay_volume);
+    Ok(pv / info.bulk_volume_m3)
+}
+
+/// The scaled columns of [`scale_network`], not yet validated.
+fn scale_columns(
+    net: &Network,
+    radius_factor: f64,
+    length_factor: f64,
+) -> Result<(NetworkInfo, Pores, Throats), CalibrationError> {
     for (name, v) in [
         ("radius_factor", radius_factor),
         ("length_factor", length_factor),
@@ -189,7 +212,7 @@ pub fn scale_network(
         throats.conduit_a[t] = ca * l;
         throats.conduit_b[t] = cb * l;
     }
-    Ok(Network::new(info, pores, throats)?)
+    Ok((info, pores, throats))
 }
 
 fn perm_md(net: &Network) -> Result<f64, CalibrationError> {
@@ -243,7 +266,7 @@ pub fn calibrate(
     }
     let mut refusals = Vec::new();
     // 1. Radius factor from porosity.
-    let phi = |a: f64| scale_network(base, a, 1.0).map(|n| n.porosity());
+    let phi = |a: f64| scaled_porosity(base, a);
     let (mut lo, mut hi) = (0.1f64.ln(), 10.0f64.ln());
     let (phi_lo, phi_hi) = (phi(lo.exp()), phi(hi.exp()));
     let alpha = match (phi_lo, phi_hi) {

@@ -85,28 +85,16 @@ pub fn fluids(f: &Fluids) -> Vec<String> {
 pub fn network(network: &Network) -> Vec<String> {
     let mut out = Vec::new();
     let info = network.info();
-    let pores = network.pores();
-    let col = match info.flow_axis.index() {
-        0 => &pores.x,
-        1 => &pores.y,
-        _ => &pores.z,
-    };
-    let (lo, hi) = col
-        .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
-            (a.min(v), b.max(v))
-        });
-    let extent = hi - lo;
-    if extent > 0.0 && extent.is_finite() {
-        let ratio = info.length_m / extent;
-        if !(1.0 / LENGTH_RATIO_LIMIT..=LENGTH_RATIO_LIMIT).contains(&ratio) {
-            out.push(format!(
-                "network length_m = {} m but the pore centres span {extent:.3e} m along the flow \
-                 axis (ratio {ratio:.3e}); a length in µm given in m? permeability and formation \
-                 factor use length_m",
-                info.length_m
-            ));
-        }
+    if let Some((ratio, extent)) =
+        crate::network::validate::length_extent_ratio(info, network.pores())
+        && !(1.0 / LENGTH_RATIO_LIMIT..=LENGTH_RATIO_LIMIT).contains(&ratio)
+    {
+        out.push(format!(
+            "network length_m = {} m but the pore centres span {extent:.3e} m along the flow \
+             axis (ratio {ratio:.3e}); a length in µm given in m? permeability and formation \
+             factor use length_m",
+            info.length_m
+        ));
     }
     let phi = network.porosity();
     if phi < LOW_POROSITY {

@@ -215,6 +215,14 @@ impl SweepStudy {
                     let arr = v.as_array().ok_or_else(|| {
                         err(text, "sweep.initial_water_saturations", "must be a list")
                     })?;
+                    if arr.is_empty() {
+                        return Err(err(
+                            text,
+                            "sweep.initial_water_saturations",
+                            "is empty: list at least one saturation in (0, 1), or leave the key \
+                             out to run every case to the study's own end point",
+                        ));
+                    }
                     for x in arr {
                         let f = x.as_float().or_else(|| x.as_integer().map(|i| i as f64));
                         match f {
@@ -497,6 +505,15 @@ realisations = 3
         let bad = TEXT.replace("[[20.0, 40.0], [50.0, 70.0]]", "[[20.0, 400.0]]");
         let e = SweepStudy::parse(&bad).unwrap_err();
         assert!(e.to_string().contains("advancing_contact_angle_deg"), "{e}");
+    }
+
+    #[test]
+    fn issue_18_empty_initial_water_saturations_is_refused_not_run_as_one_case() {
+        let bad = TEXT.replace("[0.8, 0.4]", "[]");
+        assert_ne!(bad, TEXT);
+        let e = SweepStudy::parse(&bad).unwrap_err();
+        assert_eq!(e.0[0].key, "sweep.initial_water_saturations");
+        assert!(e.0[0].message.contains("is empty"), "{}", e.0[0]);
     }
 
     #[test]

@@ -13,6 +13,7 @@ use std::sync::Mutex;
 use rayon::prelude::*;
 
 use super::{Case, CaseResult, SweepStudy, SweepSummary, summarise_with};
+use crate::io::result_set::{self, FolderState};
 use crate::io::study::{StudyInputError, study_network};
 use crate::io::sweep_store::{self, StoreError};
 use crate::progress::{Progress, Silent};
@@ -41,6 +42,18 @@ pub enum SweepError {
     /// Reading or writing the sweep folder failed.
     #[error(transparent)]
     Store(#[from] StoreError),
+    /// The output folder holds files that are not a sweep of ours.
+    #[error(
+        "{} holds {n_entries} entries but no sweep of ours (neither sweep-cases.json nor a \
+         sweep manifest): nothing was written; choose a new or empty folder",
+        path.display()
+    )]
+    NotOurs {
+        /// The folder.
+        path: PathBuf,
+        /// Entries in it.
+        n_entries: usize,
+    },
     /// Some cases failed; the others finished and were kept.
     #[error("{} case(s) failed; first: {}", failures.len(), failures.first().map_or("", String::as_str))]
     CasesFailed {
@@ -104,6 +117,7 @@ impl SweepRun {
         selected: &[usize],
         out: &Path,
     ) -> Result<SweepRun, SweepError> {
+        check_folder(out)?;
         sweep_store::write_case_list(out, &cases)?;
         let todo = selected
             .iter()
@@ -230,4 +244,23 @@ pub fn collect(out: &Path) -> Result<Collected, SweepError> {
         missing,
         summary,
     })
+}
+
+/// Refuses a folder of other files before anything is written into it: a
+/// sweep folder is new, empty, or holds our case list or a sweep manifest
+/// (a run's result set is not a sweep's).
+fn check_folder(out: &Path) -> Result<(), SweepError> {
+    let not_ours = |n_entries| SweepError::NotOurs {
+        path: out.to_path_buf(),
+        n_entries,
+    };
+    let n_entries = || std::fs::read_dir(out).map_or(0, |d| d.count());
+    match result_set::folder_state(out) {
+        Ok(FolderState::Foreign { n_entries }) if !sweep_store::case_list_path(out).is_file() => {
+            Err(not_ours(n_entries))
+        }
+        Ok(FolderState::Ours(m)) if m.kind != "sweep" => Err(not_ours(n_entries())),
+        // Unreadable folders are reported by the writes that follow.
+        _ => Ok(()),
+    }
 }

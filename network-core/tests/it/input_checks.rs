@@ -128,10 +128,19 @@ fn lengths_in_micrometres_given_in_metres_are_warned() {
     // about 1e-5 of a 100 µm lattice's, far below 1e-3.
     let w = warnings(&lattice(5e-3), &study("", CYCLE));
     assert!(w.iter().any(|w| w.contains("porosity")), "{w:?}");
-    // A network whose length_m is a µm value written in m.
+    // A length_m 300 times the pore extent: warned (beyond 100), loaded.
     let (mut info, pores, throats) = lattice(100e-6).into_parts();
-    info.length_m *= 1e6;
+    info.length_m *= 300.0;
     let net = Network::new(info, pores, throats).unwrap();
     let w = warnings(&net, &study("", CYCLE));
     assert!(w.iter().any(|w| w.contains("length_m")), "{w:?}");
+    // A µm value written in m (a factor 1e6) is refused when the network
+    // is built (issue 18: refused beyond a factor 1000).
+    let (mut info, pores, throats) = lattice(100e-6).into_parts();
+    info.length_m *= 1e6;
+    let err = Network::new(info, pores, throats).unwrap_err().to_string();
+    assert!(
+        err.contains("length_m") || err.contains("unphysical"),
+        "{err}"
+    );
 }

@@ -178,7 +178,8 @@ fn awkward_network() -> Network {
         flow_axis: Axis::Y,
         length_m: 0.1 + 0.2, // 0.30000000000000004
         area_m2: 1e-300,
-        bulk_volume_m3: 1.234_567_890_123_456_7e-7,
+        // Porosity at most 1 (the volumes below sum to about 0.1 m³).
+        bulk_volume_m3: 1.234_567_890_123_456_7e-1,
         extent_m: Some([5e-324, 0.1, 9.876_543_210_987_654e300]),
         description: Some("line one\nline two, with = and # signs".into()),
     };
@@ -190,7 +191,8 @@ fn awkward_network() -> Network {
         pores.z.push(1.0 / 3.0);
         pores
             .radius
-            .push([5e-324, 1e-5, 0.1 + 0.7, 1.000_000_000_000_000_2][k]);
+            // Awkward for text, inside the physical range [1e-10, 1] m.
+            .push([1e-10, 1e-5, 0.1 + 0.7, 0.999_999_999_999_999_9][k]);
         pores
             .shape_factor
             .push([0.04, 1.0 / (4.0 * std::f64::consts::PI), 0.062_5, 1e-300][k]);
@@ -208,7 +210,9 @@ fn awkward_network() -> Network {
     let mut throats = Throats::with_capacity(3);
     for k in 0..3 {
         throats.pores.push([k as u32, k as u32 + 1]);
-        throats.radius.push([1e-300, 0.1, 7.1e-6][k]);
+        throats
+            .radius
+            .push([1.000_000_000_000_000_2e-10, 0.1, 7.1e-6][k]);
         throats
             .shape_factor
             .push([0.01, 0.048_112_522_432_468_82, 0.07][k]);
@@ -298,7 +302,9 @@ fn binary_layout_matches_the_documented_format() {
     };
     let mut pores = Pores::with_capacity(2);
     for (i, b) in [Boundary::Inlet, Boundary::Outlet].into_iter().enumerate() {
-        pores.x.push(i as f64);
+        // 1e-4 m apart, as length_m says (issue 18 refuses a length
+        // inconsistent with the pore positions).
+        pores.x.push(i as f64 * 1e-4);
         pores.y.push(0.5);
         pores.z.push(-1.0);
         pores.radius.push(2e-5);
@@ -330,7 +336,7 @@ fn binary_layout_matches_the_documented_format() {
         }
     };
     for c in [
-        [0.0, 1.0],
+        [0.0, 1e-4],
         [0.5, 0.5],
         [-1.0, -1.0],
         [2e-5, 2e-5],
@@ -1064,9 +1070,13 @@ mod never_panics {
     use proptest::prelude::*;
     use proptest::test_runner::{Config, RngSeed};
 
+    /// 96 cases per property, or `GANGLION_FUZZ_CASES` for long runs.
     fn config() -> Config {
         Config {
-            cases: 96,
+            cases: std::env::var("GANGLION_FUZZ_CASES")
+                .ok()
+                .and_then(|v| v.parse().ok())
+                .unwrap_or(96),
             rng_seed: RngSeed::Fixed(0x6761_6e67),
             failure_persistence: None,
             ..Config::default()
@@ -1263,4 +1273,110 @@ fn a_missing_relative_network_names_the_resolved_path_and_the_study_line() {
         e.contains("relative to the folder of the study file"),
         "{e}"
     );
+}
+
+#[test]
+fn issue_18_radii_of_5e_minus_324_and_1e308_are_refused_as_unphysical_with_line() {
+    check(
+        "radius-subnormal",
+        &Fixture::valid().pores_line(3, "1,1e-4,0,0,5e-324,4e-14,0.05,0,"),
+        &[(Rule::Unphysical, PORES, Some(3), Some("radius_m"))],
+    );
+    check(
+        "radius-huge",
+        &Fixture::valid().throats_line(4, "2,2,3,1e308,0.0625,1e-4,3e-14"),
+        &[(Rule::Unphysical, THROATS, Some(4), Some("radius_m"))],
+    );
+}
+
+#[test]
+fn issue_18_pore_volume_of_1e308_is_refused_as_porosity_not_finite_or_above_one() {
+    // Two volumes of 1e308 m³ sum to infinity: no porosity at all.
+    let f = Fixture::valid()
+        .pores_line(2, "0,0,0,0,2e-5,1e308,0.04,0,inlet")
+        .pores_line(3, "1,1e-4,0,0,2e-5,1e308,0.05,0,");
+    check(
+        "volume-overflow",
+        &f,
+        &[(Rule::Unphysical, PORES, None, Some("volume_m3"))],
+    );
+    // One volume of 1e308 m³ in a 3e-12 m³ sample: porosity far above 1.
+    let f = Fixture::valid().pores_line(3, "1,1e-4,0,0,2e-5,1e308,0.05,0,");
+    let err = f.read("volume-huge").unwrap_err().to_string();
+    assert!(err.contains("porosity") && err.contains("above 1"), "{err}");
+    // Bulk volume 3e-4 m × 1e-8 m² = 3e-12 m³; pore volumes 4 × 4e-14 and
+    // throat volumes 3 × 3e-14 sum to 2.5e-13 m³: porosity 0.083. A bulk
+    // volume of 2e-13 m³ makes it 1.25.
+    check(
+        "porosity-above-one",
+        &Fixture::valid().toml_line(4, "area_m2 = 1e-8\nbulk_volume_m3 = 2e-13"),
+        &[(Rule::Unphysical, PORES, None, Some("volume_m3"))],
+    );
+    assert!(
+        Fixture::valid()
+            .toml_line(4, "area_m2 = 1e-8\nbulk_volume_m3 = 2.6e-13")
+            .read("porosity-below-one")
+            .is_ok()
+    );
+}
+
+#[test]
+fn issue_18_length_m_a_thousand_times_the_pore_extent_is_refused() {
+    // The pore centres span 3e-4 m along x.
+    check(
+        "length-1000-m",
+        &Fixture::valid().toml_line(3, "length_m = 1000"),
+        &[(Rule::Unphysical, TOML, Some(3), Some("length_m"))],
+    );
+    check(
+        "length-in-um-as-m-the-other-way",
+        &Fixture::valid().toml_line(3, "length_m = 3e-8"),
+        &[(Rule::Unphysical, TOML, Some(3), Some("length_m"))],
+    );
+    // A factor 100 is left to the run's warning.
+    assert!(
+        Fixture::valid()
+            .toml_line(3, "length_m = 3e-2")
+            .read("length-warned")
+            .is_ok()
+    );
+}
+
+#[test]
+fn issue_18_one_unterminated_quote_in_pores_csv_is_reported_once_with_its_cascade_in_one_line() {
+    let f = Fixture::valid().pores_line(3, "1,\"1e-4,0,0,2e-5,4e-14,0.05,0,");
+    let err = f.read("quote").unwrap_err();
+    let v = err.violations();
+    let missing: Vec<_> = v.iter().filter(|x| x.rule == Rule::MissingPore).collect();
+    assert_eq!(missing.len(), 1, "{err}");
+    assert!(missing[0].detail.contains("follow from"), "{err}");
+    let malformed = v
+        .iter()
+        .filter(|x| x.file.as_deref().is_some_and(|f| f.ends_with(PORES)))
+        .filter(|x| matches!(x.rule, Rule::MalformedRow | Rule::MalformedValue))
+        .count();
+    assert_eq!(malformed, 1, "{err}");
+    assert!(v.len() <= 4, "{err}");
+}
+
+#[test]
+fn issue_18_many_throats_naming_missing_pores_are_listed_up_to_five_then_summarised() {
+    // Ten throats from pore 3 to pores 10..19 that do not exist.
+    let mut throats = Fixture::valid().throats;
+    for k in 0..10 {
+        throats += &format!("{},3,{},1e-5,0.0625,1e-4,3e-14\n", 3 + k, 10 + k);
+    }
+    let f = Fixture {
+        throats,
+        ..Fixture::valid()
+    };
+    let err = f.read("many-missing").unwrap_err();
+    let missing: Vec<_> = err
+        .violations()
+        .iter()
+        .filter(|x| x.rule == Rule::MissingPore)
+        .collect();
+    assert_eq!(missing.len(), 6, "{err}");
+    assert!(missing[5].detail.starts_with("5 more throat ends"), "{err}");
+    assert_eq!(missing[5].line, Some(10), "{err}");
 }

@@ -9,6 +9,7 @@ mod calibrate;
 mod drainage;
 mod flow;
 mod flow_emt;
+mod fuzz;
 mod generate;
 mod image;
 mod imbibition;

@@ -518,6 +518,7 @@ def run_study(
     table_points: int = 21,
     table_units: str = "bar",
     threads: Optional[int] = None,
+    overwrite: bool = False,
 ) -> RunResult:
     """Runs every process of a study on its network.
 
@@ -528,7 +529,10 @@ def run_study(
     files of ``ganglion run`` (byte for byte the binary's); ``png``,
     ``vtk``, ``vtk_ascii``, ``table_points`` and ``table_units`` are the
     binary's ``--no-png``, ``--no-vtk``, ``--vtk-ascii``, ``--table-points``
-    and ``--table-units``.
+    and ``--table-units``. Like the binary, the files are written as one
+    set (staged beside ``output``, swapped into place, manifest
+    ``ganglion-manifest.json``); a folder of other files is refused, and an
+    earlier result set is replaced only with ``overwrite=True``.
     ``threads`` is the number of worker threads (default: one per core);
     results are the same bits with any number. ``base_dir`` is refused with
     a study file, whose relative network path resolves against its folder.
@@ -552,6 +556,7 @@ def run_study(
         table_points=table_points,
         table_units=table_units,
         threads=threads,
+        overwrite=bool(overwrite),
     )
     result = _run_result(raw, out)
     _emit(result.network_warnings if network is None else [])

@@ -47,6 +47,7 @@ def run_study_raw(
     table_points: int = 21,
     table_units: str = "bar",
     threads: Optional[int] = None,
+    overwrite: bool = False,
 ) -> Dict[str, Any]: ...
 def run_sweep_raw(
     kind: str,

@@ -39,6 +39,14 @@ impl Axis {
     }
 }
 
+/// Lowest and highest decade of an automatic log axis: 10^-307 and 10^308
+/// are the extreme powers of ten that are normal finite doubles.
+const MIN_DECADE: f64 = -307.0;
+const MAX_DECADE: f64 = 308.0;
+/// Most decades a log axis spans: max/min must stay a finite double
+/// (below 1.8 × 10^308) for the tick generation to be bounded.
+pub(super) const MAX_LOG_SPAN: f64 = 300.0;
+
 pub(super) fn plottable(v: f64, scale: Scale) -> bool {
     v.is_finite() && (scale == Scale::Linear || v > 0.0)
 }
@@ -73,6 +81,9 @@ pub(super) fn axis_range(
         if scale == Scale::Log && min <= 0.0 {
             return Err(bad("a log axis needs min > 0"));
         }
+        if scale == Scale::Log && (max / min).log10() > MAX_LOG_SPAN {
+            return Err(bad("a log axis spans at most 300 decades"));
+        }
         return Ok(Axis { scale, min, max });
     }
     let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
@@ -100,10 +111,20 @@ pub(super) fn axis_range(
             if !lo.is_finite() {
                 (1.0, 10.0)
             } else {
-                let a = lo.log10().floor();
-                let mut b = hi.log10().ceil();
+                // Whole decades, kept inside the normal finite doubles
+                // (10^-307 … 10^308): 10^309 is infinite and an infinite
+                // bound made the tick generation run without end.
+                let mut a = lo.log10().floor().clamp(MIN_DECADE, MAX_DECADE - 1.0);
+                let mut b = hi.log10().ceil().clamp(MIN_DECADE + 1.0, MAX_DECADE);
                 if b <= a {
                     b = a + 1.0;
+                }
+                // The tick generator divides max by min: more than
+                // MAX_LOG_SPAN decades would overflow and never end. Keep
+                // the top decades (the smaller values are clipped, with a
+                // note).
+                if b - a > MAX_LOG_SPAN {
+                    a = b - MAX_LOG_SPAN;
                 }
                 (10f64.powf(a), 10f64.powf(b))
             }

@@ -333,3 +333,45 @@ fn subscript_markup_is_drawn_smaller_lower_and_after_its_base() {
     // A PNG of the same spec renders too.
     assert!(render_png(&spec, 400, 300).is_ok());
 }
+
+/// Renders `spec` on a helper thread and fails if it takes longer than
+/// `secs` (a hang must fail the test, not stall the suite).
+fn renders_within(spec: PlotSpec, secs: u64) -> Result<String, PlotError> {
+    let (tx, rx) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        let _ = tx.send(render_svg(&spec));
+    });
+    rx.recv_timeout(std::time::Duration::from_secs(secs))
+        .expect("rendering finished in time")
+}
+
+#[test]
+fn issue_18_log_axis_of_values_near_the_largest_double_renders_in_bounded_time() {
+    // A pore volume of 1e308 m³ made the ganglion-size axis span up to
+    // 10^309, which is not a finite double.
+    for (lo, hi) in [
+        (1e-12, 1e308),
+        (1e300, f64::MAX),
+        (f64::MIN_POSITIVE, 1.0),
+        (5e-324, 1e308),
+    ] {
+        let spec = PlotSpec {
+            title: "extreme".into(),
+            x_label: "x".into(),
+            y_label: "y".into(),
+            x_scale: Scale::Log,
+            y_scale: Scale::Log,
+            series: vec![Series::line("s", vec![lo, hi], vec![lo, hi])],
+            ..PlotSpec::default()
+        };
+        let p = prepare(&spec).unwrap();
+        for a in [p.x, p.y] {
+            assert!(
+                a.min.is_finite() && a.max.is_finite() && 0.0 < a.min && a.min < a.max,
+                "{a:?}"
+            );
+        }
+        let svg = renders_within(spec, 20).unwrap();
+        assert!(svg.trim_end().ends_with("</svg>"));
+    }
+}
