@@ -54,7 +54,7 @@ def main() -> None:
         def run_cli() -> tuple:
             c, t = children_cpu(), time.perf_counter()
             subprocess.run(
-                [a.bin, "--quiet", "run", str(study), "-o", str(out_cli)],
+                [a.bin, "--quiet", "run", str(study), "-o", str(out_cli), "--overwrite"],
                 check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, timeout=3600,
             )
             return time.perf_counter() - t, children_cpu() - c
@@ -63,7 +63,7 @@ def main() -> None:
             c, t = time.process_time(), time.perf_counter()
             with warnings.catch_warnings():
                 warnings.simplefilter("ignore")
-                ganglion.run_study(study, output=output)
+                ganglion.run_study(study, output=output, overwrite=True)
             return time.perf_counter() - t, time.process_time() - c
 
         run_cli(), run_py(out_py)  # warm-up: page cache, thread pool

@@ -490,6 +490,10 @@ fn readme_main_command_runs_on_the_bundled_sample() {
     let refs: Vec<&str> = full.iter().map(String::as_str).collect();
     ok(&refs);
     assert!(d.join("out/summary.json").exists());
+    // The README says the command can be run again (it replaces its own
+    // earlier set).
+    ok(&refs);
+    complete_manifest(&d.join("out"));
 }
 
 #[test]
