@@ -48,6 +48,11 @@ pub use summary::{
     summarise, summarise_with,
 };
 
+/// Most cases a sweep may have. Each case is expanded and validated when
+/// the sweep is read (about 1–2 kB per case); 10⁵ cases of a few seconds
+/// each are already days of computing on one machine.
+pub const MAX_CASES: usize = 100_000;
+
 /// The `[sweep]` table with every key, commented (`ganglion template
 /// sweep`); docs/keys.md documents the same keys.
 pub const TEMPLATE: &str = include_str!("../templates/sweep.toml");
@@ -331,6 +336,44 @@ impl SweepStudy {
                 "needs a drainage followed by an imbibition in the study",
             ));
         }
+        // Count the cases before making any (checked: a product of long
+        // lists must not wrap around).
+        let n_cases = spec
+            .parameters
+            .iter()
+            .map(|(_, v)| v.len())
+            .chain([
+                spec.initial_water_saturations.len().max(1),
+                spec.realisations,
+            ])
+            .try_fold(1usize, usize::checked_mul);
+        match n_cases {
+            Some(n) if n <= MAX_CASES => {}
+            _ => {
+                let factors: Vec<String> = spec
+                    .parameters
+                    .iter()
+                    .map(|(p, v)| format!("{} values of {p}", v.len()))
+                    .chain([
+                        format!(
+                            "{} initial water saturations",
+                            spec.initial_water_saturations.len().max(1)
+                        ),
+                        format!("{} realisations", spec.realisations),
+                    ])
+                    .collect();
+                return Err(err(
+                    text,
+                    "sweep",
+                    format!(
+                        "{} cases ({}) exceed the limit of {MAX_CASES}; split the sweep into \
+                         several studies or use fewer values",
+                        n_cases.map_or_else(|| "more than 2^64".to_owned(), |n| n.to_string()),
+                        factors.join(" × ")
+                    ),
+                ));
+            }
+        }
         let s = SweepStudy { base, spec, study };
         // Validate every case up front, so a bad value fails before any run.
         let cases = s.cases_checked(text)?;
@@ -514,6 +557,32 @@ realisations = 3
         let e = SweepStudy::parse(&bad).unwrap_err();
         assert_eq!(e.0[0].key, "sweep.initial_water_saturations");
         assert!(e.0[0].message.contains("is empty"), "{}", e.0[0]);
+    }
+
+    #[test]
+    fn issue_18_a_sweep_of_ten_million_cases_is_refused_before_any_is_made() {
+        // 10 000 realisations × 2 saturations × 25 × 20 values: 10⁷ cases.
+        let many: Vec<String> = (0..25).map(|i| format!("{}.0", 30 + i)).collect();
+        let seeds: Vec<String> = (0..20).map(|i| i.to_string()).collect();
+        let bad = TEXT
+            .replace("realisations = 3", "realisations = 10000")
+            .replace(
+                r#""wettability.advancing_contact_angle_deg" = [[20.0, 40.0], [50.0, 70.0]]"#,
+                &format!(
+                    "\"fluids.interfacial_tension_n_per_m\" = [{}]\n\"seed\" = [{}]",
+                    many.iter()
+                        .map(|v| format!("0.0{}", &v[..2]))
+                        .collect::<Vec<_>>()
+                        .join(", "),
+                    seeds.join(", ")
+                ),
+            );
+        let e = SweepStudy::parse(&bad).unwrap_err();
+        let msg = e.to_string();
+        assert!(
+            msg.contains("10000000 cases") && msg.contains("limit"),
+            "{msg}"
+        );
     }
 
     #[test]
