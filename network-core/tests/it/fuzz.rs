@@ -1,6 +1,8 @@
 //! Fuzzing the text readers on the stable toolchain: mutated study, sweep
 //! and generator files and random result-folder manifests must give a value
-//! or a typed error, never a panic. A bounded number of cases runs with
+//! or a typed error, never a panic. The network readers (`io.rs`,
+//! `never_panics`) and the image readers (`image.rs`, `never_panics_on_…`)
+//! have properties of their own that take the same variable. A bounded number of cases runs with
 //! `cargo test`; for a long run set `GANGLION_FUZZ_CASES`, e.g.
 //!
 //! ```text

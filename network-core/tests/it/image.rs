@@ -462,13 +462,23 @@ fn malformed_images_give_located_errors() {
     );
 }
 
+/// Cases of the image fuzz properties: `release` in an optimised build (64
+/// in a debug one), or `GANGLION_FUZZ_CASES` for long runs (the command in
+/// `fuzz.rs` runs these too).
+fn fuzz_cases(release: u32) -> u32 {
+    std::env::var("GANGLION_FUZZ_CASES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(if cfg!(debug_assertions) { 64 } else { release })
+}
+
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(if cfg!(debug_assertions) { 64 } else { 256 }))]
+    #![proptest_config(ProptestConfig::with_cases(fuzz_cases(256)))]
 
     /// Any truncation or byte change of a valid file is either read or
     /// refused with an error; the readers never panic (the property).
     #[test]
-    fn damaged_files_never_panic(cut in 0usize..400, pos in 0usize..400, byte in any::<u8>(), which in 0usize..3) {
+    fn never_panics_on_damaged_image_files(cut in 0usize..400, pos in 0usize..400, byte in any::<u8>(), which in 0usize..3) {
         let dir = std::env::temp_dir().join(format!("ganglion-image-prop-{}", std::process::id()));
         std::fs::create_dir_all(&dir).unwrap();
         let vol = sample_volume();
@@ -491,13 +501,13 @@ proptest! {
 }
 
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(if cfg!(debug_assertions) { 64 } else { 512 }))]
+    #![proptest_config(ProptestConfig::with_cases(fuzz_cases(512)))]
 
     /// Any sidecar text or `.npy` header text is parsed or refused; the
     /// parsers never panic (the property). Texts are built from the keys'
     /// own vocabulary so that many reach the value checks.
     #[test]
-    fn header_texts_never_panic(
+    fn never_panics_on_sidecar_and_npy_header_texts(
         words in proptest::collection::vec(prop_oneof![
             Just("dims"), Just("voxel_size_m"), Just("sample_type"), Just("pore_label"),
             Just("oil_label"), Just("header_bytes"), Just("byte_order"), Just("="),
