@@ -5,6 +5,7 @@
 #![allow(clippy::needless_range_loop)]
 
 mod accounting;
+mod angle_fit;
 mod calibrate;
 mod drainage;
 mod flow;
