@@ -193,6 +193,8 @@ pub struct AngleTrial {
 pub struct AngleFit {
     /// Receding range used, degrees.
     pub receding_contact_angle_deg: [f64; 2],
+    /// Fitted centre of the advancing range, degrees.
+    pub advancing_centre_deg: f64,
     /// Fitted advancing range, degrees.
     pub advancing_contact_angle_deg: [f64; 2],
     /// Water saturation reached by the primary drainage.
@@ -453,6 +455,7 @@ pub fn fit_advancing_angles(
     let c = best.advancing_centre_deg;
     Ok(AngleFit {
         receding_contact_angle_deg: data.receding_contact_angle_deg,
+        advancing_centre_deg: c,
         advancing_contact_angle_deg: [c - 0.5 * w, c + 0.5 * w],
         initial_water_saturation: d.swi,
         measured_residual_nonwetting_saturation: data.residual_nonwetting_saturation,
