@@ -208,7 +208,7 @@ impl CoordinationLaw {
 
 /// A standard normal number from two uniforms (Box & Muller 1958, Ann.
 /// Math. Stat. 29:610–611).
-fn box_muller(u1: f64, u2: f64) -> f64 {
+pub(crate) fn box_muller(u1: f64, u2: f64) -> f64 {
     libm::sqrt(-2.0 * libm::log1p(-u1)) * libm::cos(2.0 * std::f64::consts::PI * u2)
 }
 
@@ -624,6 +624,7 @@ pub(super) fn generate_irregular(
             spec.target_coordination
         )),
     };
+    super::clay::spread_clay(spec, &mut pores, &mut throats);
     let network = Network::new(info, pores, throats)?;
     progress.advance(1);
     progress.finish();

@@ -7,6 +7,7 @@
 mod accounting;
 mod angle_fit;
 mod calibrate;
+mod clay;
 mod drainage;
 mod flow;
 mod flow_emt;
