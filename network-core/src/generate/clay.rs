@@ -27,9 +27,8 @@
 use rayon::prelude::*;
 
 use super::LatticeSpec;
-use super::irregular::normal_cdf;
 use crate::network::{Pores, Throats};
-use crate::numeric::unit_hash;
+use crate::numeric::{box_muller, inverse_normal_cdf, normal_cdf, unit_hash};
 
 /// Stream of the clay draws (two per element with a size correlation,
 /// one without).
@@ -37,47 +36,11 @@ const STREAM_CLAY: u64 = 0x636c_6179_0001;
 /// Stream of the tie-breaking draws of the size ranking.
 const STREAM_CLAY_TIE: u64 = 0x636c_6179_0002;
 
-/// Inverse of the standard normal CDF by safeguarded Newton iteration on
-/// [`normal_cdf`] (bracketed, so it always converges; pure-Rust `libm`,
-/// so the same bits on every machine).
-pub fn inverse_normal_cdf(u: f64) -> f64 {
-    if u <= 0.0 {
-        return f64::NEG_INFINITY;
-    }
-    if u >= 1.0 {
-        return f64::INFINITY;
-    }
-    let (mut lo, mut hi) = (-40.0f64, 40.0f64);
-    let mut z = 0.0f64;
-    let inv_sqrt_2pi = 1.0 / (2.0 * std::f64::consts::PI).sqrt();
-    for _ in 0..200 {
-        let f = normal_cdf(z) - u;
-        if f == 0.0 {
-            return z;
-        }
-        if f < 0.0 {
-            lo = z;
-        } else {
-            hi = z;
-        }
-        let pdf = inv_sqrt_2pi * libm::exp(-0.5 * z * z);
-        let mut next = z - f / pdf;
-        if !(next > lo && next < hi) {
-            next = 0.5 * (lo + hi);
-        }
-        if (next - z).abs() <= 1e-15 * (1.0 + z.abs()) {
-            return next;
-        }
-        z = next;
-    }
-    z
-}
-
 /// Replaces the clay volumes of `pores` and `throats` by per-element
 /// fractions (module documentation) when `spec.clay_fraction_spread > 0`;
 /// leaves them untouched otherwise (the uniform fraction of the old
 /// generator, bit for bit).
-pub(crate) fn spread_clay(spec: &LatticeSpec, pores: &mut Pores, throats: &mut Throats) {
+pub fn spread_clay(spec: &LatticeSpec, pores: &mut Pores, throats: &mut Throats) {
     let w = spec.clay_fraction_spread;
     if w <= 0.0 {
         return;
@@ -119,7 +82,7 @@ pub(crate) fn spread_clay(spec: &LatticeSpec, pores: &mut Pores, throats: &mut T
         let u = if rho == 0.0 {
             unit_hash(seed, STREAM_CLAY, e as u64)
         } else {
-            let g = super::irregular::box_muller(
+            let g = box_muller(
                 unit_hash(seed, STREAM_CLAY, 2 * e as u64),
                 unit_hash(seed, STREAM_CLAY, 2 * e as u64 + 1),
             );

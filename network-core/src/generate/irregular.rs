@@ -146,10 +146,7 @@ pub struct CoordinationLaw {
     pub max: u32,
 }
 
-/// Standard normal CDF, `Φ(x) = erfc(−x/√2)/2`.
-pub fn normal_cdf(x: f64) -> f64 {
-    0.5 * libm::erfc(-x * std::f64::consts::FRAC_1_SQRT_2)
-}
+pub use crate::numeric::normal_cdf;
 
 impl CoordinationLaw {
     /// `P(z = k)` for `k = 0 ..= max` (entry 0 is 0).
@@ -206,11 +203,7 @@ impl CoordinationLaw {
     }
 }
 
-/// A standard normal number from two uniforms (Box & Muller 1958, Ann.
-/// Math. Stat. 29:610–611).
-pub(crate) fn box_muller(u1: f64, u2: f64) -> f64 {
-    libm::sqrt(-2.0 * libm::log1p(-u1)) * libm::cos(2.0 * std::f64::consts::PI * u2)
-}
+use crate::numeric::box_muller;
 
 impl IrregularSpec {
     /// Checks the parameters against the lattice part of `spec`.

@@ -185,8 +185,7 @@ fn bad_clay_spread_keys_are_refused_with_their_value() {
 fn inverse_normal_cdf_inverts_the_cdf() {
     // Analytic: Φ⁻¹(Φ(z)) = z; Φ⁻¹(0.975) = 1.959963984540054 (standard
     // tables).
-    use network_core::generate::clay::inverse_normal_cdf;
-    use network_core::generate::irregular::normal_cdf;
+    use network_core::numeric::{inverse_normal_cdf, normal_cdf};
     for z in [-6.0, -2.5, -0.3, 0.0, 0.7, 3.1, 5.5] {
         assert!((inverse_normal_cdf(normal_cdf(z)) - z).abs() < 1e-9, "{z}");
     }
