@@ -55,6 +55,7 @@
 //! with the value and that range; so is a fit that leaves a misfit above
 //! its limit.
 
+use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
 use crate::engine::{Engine, Setup};
@@ -374,9 +375,15 @@ pub fn fit_advancing_angles(
     } else {
         0.0
     };
-    for k in 0..n {
-        trials.push(trial(&d, data, c_lo + step * k as f64));
-    }
+    // The scan's trials are independent (each starts from a copy of the
+    // drained engine), so they run in parallel; `collect` keeps their
+    // order, so the result does not depend on the thread count.
+    trials.extend(
+        (0..n)
+            .into_par_iter()
+            .map(|k| trial(&d, data, c_lo + step * k as f64))
+            .collect::<Vec<_>>(),
+    );
     let range = |f: fn(&AngleTrial) -> f64| {
         trials
             .iter()
