@@ -245,7 +245,7 @@ pub fn angle_chart(fit: &AngleFit) -> PlotSpec {
     let c = fit.advancing_centre_deg;
     let mut series = vec![
         Series::line(
-            "S_nr simulated",
+            "S_{nr} simulated",
             x.clone(),
             trials
                 .iter()
@@ -254,7 +254,7 @@ pub fn angle_chart(fit: &AngleFit) -> PlotSpec {
         )
         .with_colour(PALETTE[0]),
         Series::line(
-            "I_w simulated",
+            "I_{w} simulated",
             x,
             trials.iter().map(|t| t.amott_water_index).collect(),
         )
@@ -262,14 +262,14 @@ pub fn angle_chart(fit: &AngleFit) -> PlotSpec {
     ];
     if let Some(m) = fit.measured_residual_nonwetting_saturation {
         series.push(
-            Series::line("S_nr measured", vec![x0, x1], vec![m, m])
+            Series::line("S_{nr} measured", vec![x0, x1], vec![m, m])
                 .with_style(SeriesStyle::Dashed)
                 .with_colour(PALETTE[0]),
         );
     }
     if let Some(m) = fit.measured_amott_water_index {
         series.push(
-            Series::line("I_w measured", vec![x0, x1], vec![m, m])
+            Series::line("I_{w} measured", vec![x0, x1], vec![m, m])
                 .with_style(SeriesStyle::Dashed)
                 .with_colour(PALETTE[1]),
         );
@@ -286,7 +286,7 @@ pub fn angle_chart(fit: &AngleFit) -> PlotSpec {
     PlotSpec {
         title: "Advancing contact angle fitted to the waterflood data".into(),
         x_label: "Centre of the advancing contact-angle range (degrees, through water)".into(),
-        y_label: "S_{nr} or I_w (fraction)".into(),
+        y_label: "S_{nr} or I_{w} (fraction)".into(),
         y_range: Some((0.0, 1.0)),
         series,
         ..PlotSpec::default()
