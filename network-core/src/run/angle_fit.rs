@@ -11,10 +11,11 @@
 //! elements then take advancing angles drawn uniformly from the range
 //! (`wettability::ContactAngles::alter`, no oil-wet fraction), and water
 //! imbibes from both faces along the flow axis (a plug surrounded by
-//! water, as in the Amott test) to `P_c = −20 σ / r_min`, beyond the
-//! entry pressure of the smallest element of the network (a circular
-//! element fills at `|P_c| ≤ 2σ/r`, Young–Laplace), so every displacement
-//! the model allows has happened: the waterflood to residual.
+//! water, as in the Amott test) to `P_c = −20 σ / r_min`, ten times the
+//! entry pressure `2σ/r_min` of the smallest element were it circular
+//! (Young–Laplace): the waterflood to residual. (Ending at `−200 σ /
+//! r_min` instead gave the same residual saturations, to four digits, on
+//! the 10³ test lattice at advancing centres 100–170°.)
 //!
 //! - The residual non-wetting saturation `S_nr` is the non-aqueous
 //!   saturation left at the end (trapped or still connected in layers),
