@@ -84,6 +84,7 @@ fn main() {
             pressure_pa: pts.iter().map(|p| p.pressure_pa).collect(),
             mercury_saturation: pts.iter().map(|p| p.mercury_saturation).collect(),
         },
+        waterflood: None,
     };
     reset_peak_rss();
     let t = Instant::now();

@@ -93,7 +93,9 @@
 //! # Clay
 //! With a clay volume fraction `f ∈ [0, 1)` each element (pore and throat)
 //! receives `V_clay = f/(1 − f) · V`, so that `V_clay/(V_clay + V) = f` for
-//! every element and for the sample.
+//! every element and for the sample. With `clay_fraction_spread > 0` each
+//! element draws its own fraction around `f`, optionally tied to its size
+//! ([`clay`]); the sample's fraction is then a volume-weighted mean.
 //!
 //! # Determinism
 //! One `ChaCha8Rng` seeded with `seed_from_u64(seed)` supplies independent
@@ -122,8 +124,14 @@ use crate::progress::Progress;
 #[cfg(doc)]
 use crate::geometry::Shape;
 
+pub mod clay;
 pub mod irregular;
 pub use irregular::IrregularSpec;
+
+/// True for 0 (fields left out of a serialised spec at their default).
+fn is_zero(x: &f64) -> bool {
+    *x == 0.0
+}
 
 /// Stream of the bond shuffle.
 const STREAM_BONDS: u64 = 0;
@@ -402,8 +410,20 @@ pub struct LatticeSpec {
     /// Shape mix of the throats. Default [`ShapeMix::default`].
     pub throat_shapes: ShapeMix,
     /// Clay (micro-porosity) volume fraction `f ∈ [0, 1)` of every element:
-    /// `V_clay = f/(1 − f) V`. Default 0.
+    /// `V_clay = f/(1 − f) V`; with a spread, the mean of the per-element
+    /// fractions. Default 0.
     pub clay_fraction: f64,
+    /// Half-width `w` of the per-element clay fractions: each element draws
+    /// its fraction uniformly from `[f − w, f + w]`, which must lie in
+    /// `[0, 1)` ([`clay`]). Default 0 (every element has `f`).
+    #[serde(skip_serializing_if = "is_zero")]
+    pub clay_fraction_spread: f64,
+    /// Rank correlation strength `ρ ∈ [−1, 1]` between an element's clay
+    /// fraction and its smallness (a Gaussian copula on the radius rank,
+    /// [`clay`]); `ρ > 0` puts more clay in smaller elements. Needs
+    /// `clay_fraction_spread > 0`. Default 0 (independent of size).
+    #[serde(skip_serializing_if = "is_zero")]
+    pub clay_size_correlation: f64,
     /// Seed of the random streams; the same seed gives the same network.
     /// Ignored in regular mode. Default 1.
     pub seed: u64,
@@ -444,6 +464,8 @@ impl Default for LatticeSpec {
             pore_shapes: ShapeMix::default(),
             throat_shapes: ShapeMix::default(),
             clay_fraction: 0.0,
+            clay_fraction_spread: 0.0,
+            clay_size_correlation: 0.0,
             seed: 1,
             regular: None,
             irregular: None,
@@ -540,6 +562,28 @@ impl LatticeSpec {
         let f = self.clay_fraction;
         if !(f.is_finite() && (0.0..1.0).contains(&f)) {
             return Err(bad("clay_fraction", f, "a fraction in [0, 1)"));
+        }
+        let w = self.clay_fraction_spread;
+        if !(w.is_finite() && w >= 0.0 && w <= f && f + w < 1.0) {
+            return Err(bad(
+                "clay_fraction_spread",
+                w,
+                &format!(
+                    "a half-width ≥ 0 with [clay_fraction − w, clay_fraction + w] inside [0, 1): at most {f} (clay_fraction) and below {}",
+                    1.0 - f
+                ),
+            ));
+        }
+        let rho = self.clay_size_correlation;
+        if !(rho.is_finite() && (-1.0..=1.0).contains(&rho)) {
+            return Err(bad("clay_size_correlation", rho, "a number in [−1, 1]"));
+        }
+        if rho != 0.0 && w == 0.0 {
+            return Err(bad(
+                "clay_size_correlation",
+                rho,
+                "0 while clay_fraction_spread is 0 (with one clay fraction for every element there is nothing to tie to size)",
+            ));
         }
         let pore_r_max = match &self.regular {
             Some(reg) => {
@@ -692,12 +736,13 @@ pub fn generate(spec: &LatticeSpec, progress: &dyn Progress) -> Result<Network, 
     progress.finish();
 
     progress.start("pores", lattice.n as u64);
-    let pores = build_pores(spec, &lattice, &rng, progress);
+    let mut pores = build_pores(spec, &lattice, &rng, progress);
     progress.finish();
 
     progress.start("throats", ends.len() as u64);
-    let throats = build_throats(spec, &pores.radius, ends, &rng, progress);
+    let mut throats = build_throats(spec, &pores.radius, ends, &rng, progress);
     progress.finish();
+    clay::spread_clay(spec, &mut pores, &mut throats);
 
     progress.start("validation", 1);
     let info = lattice.info(spec);

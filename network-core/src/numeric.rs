@@ -63,6 +63,54 @@ pub fn unit_hash(seed: u64, stream: u64, index: u64) -> f64 {
     (h >> 11) as f64 * (1.0 / (1u64 << 53) as f64)
 }
 
+/// Standard normal CDF, `Φ(x) = erfc(−x/√2)/2` (pure-Rust `libm`, so the
+/// same bits on every machine).
+pub fn normal_cdf(x: f64) -> f64 {
+    0.5 * libm::erfc(-x * std::f64::consts::FRAC_1_SQRT_2)
+}
+
+/// A standard normal number from two uniforms (Box & Muller 1958, Ann.
+/// Math. Stat. 29:610–611).
+pub fn box_muller(u1: f64, u2: f64) -> f64 {
+    libm::sqrt(-2.0 * libm::log1p(-u1)) * libm::cos(2.0 * std::f64::consts::PI * u2)
+}
+
+/// Inverse of the standard normal CDF by safeguarded Newton iteration on
+/// [`normal_cdf`] (bracketed, so it always converges; pure-Rust `libm`,
+/// so the same bits on every machine).
+pub fn inverse_normal_cdf(u: f64) -> f64 {
+    if u <= 0.0 {
+        return f64::NEG_INFINITY;
+    }
+    if u >= 1.0 {
+        return f64::INFINITY;
+    }
+    let (mut lo, mut hi) = (-40.0f64, 40.0f64);
+    let mut z = 0.0f64;
+    let inv_sqrt_2pi = 1.0 / (2.0 * std::f64::consts::PI).sqrt();
+    for _ in 0..200 {
+        let f = normal_cdf(z) - u;
+        if f == 0.0 {
+            return z;
+        }
+        if f < 0.0 {
+            lo = z;
+        } else {
+            hi = z;
+        }
+        let pdf = inv_sqrt_2pi * libm::exp(-0.5 * z * z);
+        let mut next = z - f / pdf;
+        if !(next > lo && next < hi) {
+            next = 0.5 * (lo + hi);
+        }
+        if (next - z).abs() <= 1e-15 * (1.0 + z.abs()) {
+            return next;
+        }
+        z = next;
+    }
+    z
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

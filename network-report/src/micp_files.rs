@@ -8,6 +8,7 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 use network_core::io::atomic::write_atomic;
+use network_core::run::angle_fit::{AngleFit, AngleTrial};
 use network_core::run::micp::{MeasuredMicp, MicpCurve, PA_PER_PSI};
 
 use crate::ReportError;
@@ -136,7 +137,9 @@ pub fn write_micp_files(
 
 /// Writes the files of a calibration into `dir`: `calibration.json` (the
 /// fitted factors, the misfit per data set, the thresholds' verdict and
-/// the refusals), `calibration.svg` (measured against simulated MICP) and,
+/// the refusals), `calibration.svg` (measured against simulated MICP),
+/// with waterflood data `angle-scan.csv` and `angle-fit.svg` (the
+/// contact-angle fit), and,
 /// from the calibrated network's MICP, `micp.csv` and
 /// `pore-throat-sizes.svg`.
 pub fn write_calibration_files(
@@ -150,8 +153,11 @@ pub fn write_calibration_files(
     })?;
     let mut summary = serde_json::to_value(cal).unwrap_or(serde_json::Value::Null);
     if let Some(m) = summary.as_object_mut() {
-        // The curve is in micp.csv.
+        // The curve is in micp.csv, the angles tried in angle-scan.csv.
         m.remove("micp");
+        if let Some(w) = m.get_mut("wettability").and_then(|w| w.as_object_mut()) {
+            w.remove("trials");
+        }
     }
     let json = serde_json::to_string_pretty(&summary).unwrap_or_default() + "\n";
     write(dir, "calibration.json", json.as_bytes())?;
@@ -171,7 +177,120 @@ pub fn write_calibration_files(
         source,
     })?;
     write(dir, "pore-throat-sizes.svg", sizes.as_bytes())?;
+    if let Some(fit) = &cal.wettability {
+        write(dir, "angle-scan.csv", angle_scan_csv(fit).as_bytes())?;
+        let svg = render_svg(&angle_chart(fit)).map_err(|source| ReportError::Plot {
+            file: "angle-fit.svg".into(),
+            source,
+        })?;
+        write(dir, "angle-fit.svg", svg.as_bytes())?;
+    }
     Ok(())
+}
+
+/// The `angle-scan.csv` text of a contact-angle fit: one row per advancing
+/// centre tried, sorted by centre, with the simulated residual non-wetting
+/// saturation (and its trapped part), the Amott water index and the
+/// objective; `fitted` is 1 on the row kept.
+pub fn angle_scan_csv(fit: &AngleFit) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "# advancing range width {} deg, receding range [{}, {}] deg, Swi {}",
+        fit.advancing_contact_angle_deg[1] - fit.advancing_contact_angle_deg[0],
+        fit.receding_contact_angle_deg[0],
+        fit.receding_contact_angle_deg[1],
+        fit.initial_water_saturation
+    );
+    s.push_str(
+        "advancing_centre_deg,advancing_min_deg,advancing_max_deg,residual_nonwetting_saturation,trapped_nonwetting_saturation,amott_water_index,objective,fitted\n",
+    );
+    let half = 0.5 * (fit.advancing_contact_angle_deg[1] - fit.advancing_contact_angle_deg[0]);
+    let centre = fit.advancing_centre_deg;
+    for t in sorted_trials(fit) {
+        let _ = writeln!(
+            s,
+            "{},{},{},{},{},{},{},{}",
+            t.advancing_centre_deg,
+            t.advancing_centre_deg - half,
+            t.advancing_centre_deg + half,
+            t.residual_nonwetting_saturation,
+            t.trapped_nonwetting_saturation,
+            t.amott_water_index,
+            t.objective,
+            u8::from(t.advancing_centre_deg == centre)
+        );
+    }
+    s
+}
+
+fn sorted_trials(fit: &AngleFit) -> Vec<AngleTrial> {
+    let mut v = fit.trials.clone();
+    v.sort_by(|a, b| a.advancing_centre_deg.total_cmp(&b.advancing_centre_deg));
+    v.dedup_by(|a, b| a.advancing_centre_deg == b.advancing_centre_deg);
+    v
+}
+
+/// The contact-angle chart: simulated residual non-wetting saturation and
+/// Amott water index against the centre of the advancing range (every
+/// centre tried), the measured values as dashed horizontal lines and the
+/// fitted centre as markers.
+pub fn angle_chart(fit: &AngleFit) -> PlotSpec {
+    let trials = sorted_trials(fit);
+    let x: Vec<f64> = trials.iter().map(|t| t.advancing_centre_deg).collect();
+    let (x0, x1) = (
+        x.first().copied().unwrap_or(0.0),
+        x.last().copied().unwrap_or(180.0),
+    );
+    let c = fit.advancing_centre_deg;
+    let mut series = vec![
+        Series::line(
+            "S_{nr} simulated",
+            x.clone(),
+            trials
+                .iter()
+                .map(|t| t.residual_nonwetting_saturation)
+                .collect(),
+        )
+        .with_colour(PALETTE[0]),
+        Series::line(
+            "I_{w} simulated",
+            x,
+            trials.iter().map(|t| t.amott_water_index).collect(),
+        )
+        .with_colour(PALETTE[1]),
+    ];
+    if let Some(m) = fit.measured_residual_nonwetting_saturation {
+        series.push(
+            Series::line("S_{nr} measured", vec![x0, x1], vec![m, m])
+                .with_style(SeriesStyle::Dashed)
+                .with_colour(PALETTE[0]),
+        );
+    }
+    if let Some(m) = fit.measured_amott_water_index {
+        series.push(
+            Series::line("I_{w} measured", vec![x0, x1], vec![m, m])
+                .with_style(SeriesStyle::Dashed)
+                .with_colour(PALETTE[1]),
+        );
+    }
+    series.push(
+        Series::line(
+            "fitted",
+            vec![c, c],
+            vec![fit.residual_nonwetting_saturation, fit.amott_water_index],
+        )
+        .with_style(SeriesStyle::Markers)
+        .with_colour(PALETTE[2]),
+    );
+    PlotSpec {
+        title: "Advancing contact angle fitted to the waterflood data".into(),
+        x_label: "Centre of the advancing contact-angle range (degrees, through water)".into(),
+        y_label: "S_{nr} or I_{w} (fraction)".into(),
+        y_range: Some((0.0, 1.0)),
+        series,
+        ..PlotSpec::default()
+    }
 }
 
 /// The `pore-shape-candidates.csv` text of a pore-shape calibration: one

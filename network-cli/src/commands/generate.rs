@@ -54,6 +54,14 @@ pub struct Args {
         "Fraction of each element's volume that is clay (microporosity), in [0, 1).",
         LatticeSpec::default().clay_fraction))]
     pub clay_fraction: Option<f64>,
+    #[arg(long, value_name = "W", allow_hyphen_values = true, help = help_default(
+        "Per-element clay fractions: each element draws its fraction uniformly from [F − W, F + W] (F = --clay-fraction), inside [0, 1); 0 gives every element F.",
+        LatticeSpec::default().clay_fraction_spread))]
+    pub clay_fraction_spread: Option<f64>,
+    #[arg(long, value_name = "RHO", allow_negative_numbers = true, help = help_default(
+        "Tie of the clay fraction to element size, in [−1, 1] (a Gaussian copula on the radius rank): > 0 puts more clay in smaller elements; needs --clay-fraction-spread > 0.",
+        LatticeSpec::default().clay_size_correlation))]
+    pub clay_size_correlation: Option<f64>,
     #[arg(long, allow_hyphen_values = true, value_parser = parse_seed, help = help_default("Seed of the random draws.", LatticeSpec::default().seed))]
     pub seed: Option<u64>,
     /// Name written into network.toml.
@@ -160,6 +168,12 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
     if let Some(f) = args.clay_fraction {
         spec.clay_fraction = f;
     }
+    if let Some(w) = args.clay_fraction_spread {
+        spec.clay_fraction_spread = w;
+    }
+    if let Some(r) = args.clay_size_correlation {
+        spec.clay_size_correlation = r;
+    }
     if let Some(s) = args.seed {
         spec.seed = s;
     }
@@ -213,6 +227,8 @@ pub fn run(args: &Args, progress: &Bars) -> Result<()> {
             Some("spacing_m") => args.spacing_m.is_some(),
             Some("target_coordination") => args.target_coordination.is_some(),
             Some("clay_fraction") => args.clay_fraction.is_some(),
+            Some("clay_fraction_spread") => args.clay_fraction_spread.is_some(),
+            Some("clay_size_correlation") => args.clay_size_correlation.is_some(),
             Some("nx" | "ny" | "nz") => args.size.is_some(),
             _ => false,
         };

@@ -158,6 +158,14 @@ pub fn parse_measured_micp(text: &str, path: &Path) -> Result<MeasuredMicp, LabC
 /// porosity = 0.21            # fraction (helium or summation porosity)
 /// permeability_md = 150.0    # absolute permeability, mD
 /// micp_curve = "plug7.csv"   # measured MICP curve, relative to this file
+///
+/// [waterflood]                            # optional: fit the advancing angles
+/// initial_water_saturation = 0.22         # Swi before the flood
+/// residual_nonwetting_saturation = 0.31   # measured after the flood
+/// amott_water_index = 0.55                # and/or the Amott water index
+/// receding_contact_angle_deg = [0.0, 0.0] # default [0, 0]
+/// advancing_range_width_deg = 20.0        # default 20
+/// advancing_search_deg = [0.0, 180.0]     # default [0, 180]
 /// ```
 ///
 /// Unknown keys are refused with their line.
@@ -167,6 +175,19 @@ struct LabFile {
     porosity: f64,
     permeability_md: f64,
     micp_curve: String,
+    waterflood: Option<WaterfloodFile>,
+}
+
+/// Table `[waterflood]` of a lab-data file.
+#[derive(Debug, serde::Deserialize)]
+#[serde(deny_unknown_fields)]
+struct WaterfloodFile {
+    initial_water_saturation: f64,
+    residual_nonwetting_saturation: Option<f64>,
+    amott_water_index: Option<f64>,
+    receding_contact_angle_deg: Option<[f64; 2]>,
+    advancing_range_width_deg: Option<f64>,
+    advancing_search_deg: Option<[f64; 2]>,
 }
 
 /// Reads a lab-data file and the MICP curve it names.
@@ -216,10 +237,40 @@ pub fn read_lab_data(path: &Path) -> Result<crate::run::calibrate::LabData, LabC
         .unwrap_or_else(|| Path::new("."))
         .join(&file.micp_curve);
     let micp = read_measured_micp(&curve)?;
+    let waterflood = match file.waterflood {
+        None => None,
+        Some(w) => {
+            use crate::run::angle_fit::WaterfloodData as W;
+            let data = W {
+                initial_water_saturation: w.initial_water_saturation,
+                residual_nonwetting_saturation: w.residual_nonwetting_saturation,
+                amott_water_index: w.amott_water_index,
+                receding_contact_angle_deg: w
+                    .receding_contact_angle_deg
+                    .unwrap_or(W::DEFAULT_RECEDING),
+                advancing_range_width_deg: w.advancing_range_width_deg.unwrap_or(W::DEFAULT_WIDTH),
+                advancing_search_deg: w.advancing_search_deg.unwrap_or(W::DEFAULT_SEARCH),
+            };
+            data.validate()
+                .map_err(|(key, message)| LabCurveError::Invalid {
+                    path: path.to_path_buf(),
+                    line: if key == "waterflood" {
+                        text.lines()
+                            .position(|l| l.trim_start().starts_with("[waterflood]"))
+                            .map_or(1, |i| i + 1)
+                    } else {
+                        key_line(key)
+                    },
+                    message: format!("[waterflood] {message}"),
+                })?;
+            Some(data)
+        }
+    };
     Ok(crate::run::calibrate::LabData {
         porosity: file.porosity,
         permeability_md: file.permeability_md,
         micp,
+        waterflood,
     })
 }
 

@@ -39,6 +39,14 @@
 //! parameters) and keeps the best, so the slope of the MICP curve can be
 //! matched too.
 //!
+//! # Optionally: the advancing contact angles
+//!
+//! With waterflood data ([`LabData::waterflood`]: a measured residual
+//! non-wetting saturation and/or Amott water index at a given initial
+//! water saturation), the centre of the advancing contact-angle range is
+//! fitted last, on the calibrated network ([`crate::run::angle_fit`]); its
+//! refusals join the others.
+//!
 //! # Refusal
 //!
 //! The data are refused ([`Calibration::accepted`] false, with the reasons)
@@ -50,6 +58,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::flow::{PermOptions, permeability};
 use crate::network::{InvalidNetwork, Network, NetworkInfo, Pores, Throats};
+use crate::run::angle_fit::{AngleFit, AngleFitError, WaterfloodData, fit_advancing_angles};
 use crate::run::micp::{MeasuredMicp, MicpCurve, MicpError, MicpSpec, simulate_micp};
 
 /// Largest accepted RMS difference of mercury saturation after the fit.
@@ -74,6 +83,10 @@ pub struct LabData {
     pub permeability_md: f64,
     /// Measured mercury-injection curve.
     pub micp: MeasuredMicp,
+    /// Measured residual saturation and/or Amott water index after a
+    /// waterflood, to fit the advancing contact angles to (optional).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub waterflood: Option<WaterfloodData>,
 }
 
 /// Fitted parameters and misfits.
@@ -97,6 +110,10 @@ pub struct Calibration {
     pub micp_points_compared: usize,
     /// The simulated MICP of the calibrated network.
     pub micp: MicpCurve,
+    /// The advancing contact-angle range fitted to the waterflood data
+    /// (when the lab data give them), with its misfits.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub wettability: Option<AngleFit>,
     /// True when every misfit is within its threshold.
     pub accepted: bool,
     /// Why the data were refused (empty when accepted).
@@ -134,6 +151,9 @@ pub enum CalibrationError {
     /// The permeability solve failed.
     #[error("permeability solve failed: {0}")]
     Flow(String),
+    /// The contact-angle fit could not run.
+    #[error(transparent)]
+    AngleFit(#[from] AngleFitError),
     /// A base network could not be generated.
     #[error("cannot generate a base network: {0}")]
     Generate(String),
@@ -247,8 +267,41 @@ fn micp_misfit(lab: &MeasuredMicp, base: &MicpCurve, lambda: f64) -> (f64, usize
 }
 
 /// Calibrates `base` to `lab` (module documentation). `seed` sets the
-/// triangle shapes of the MICP geometry.
+/// triangle shapes of the MICP geometry and of the waterflood, and the
+/// contact-angle draws. When `lab.waterflood` is given, the advancing
+/// contact-angle range is fitted on the calibrated network afterwards
+/// ([`fit_wettability`]).
 pub fn calibrate(
+    base: &Network,
+    lab: &LabData,
+    seed: u64,
+) -> Result<(Calibration, Network), CalibrationError> {
+    let (mut cal, net) = calibrate_scaling(base, lab, seed)?;
+    fit_wettability(&mut cal, &net, lab, seed)?;
+    Ok((cal, net))
+}
+
+/// Fits the advancing contact-angle range of the calibrated network `net`
+/// to `lab.waterflood` ([`crate::run::angle_fit`]) and records it in `cal`;
+/// its refusals join those of `cal`. Does nothing without waterflood data.
+pub fn fit_wettability(
+    cal: &mut Calibration,
+    net: &Network,
+    lab: &LabData,
+    seed: u64,
+) -> Result<(), CalibrationError> {
+    let Some(w) = &lab.waterflood else {
+        return Ok(());
+    };
+    let fit = fit_advancing_angles(net, w, seed)?;
+    cal.refusals.extend(fit.refusals.iter().cloned());
+    cal.accepted = cal.refusals.is_empty();
+    cal.wettability = Some(fit);
+    Ok(())
+}
+
+/// Porosity, MICP and permeability part of [`calibrate`].
+fn calibrate_scaling(
     base: &Network,
     lab: &LabData,
     seed: u64,
@@ -375,6 +428,7 @@ pub fn calibrate(
             micp_rms_misfit: e_s,
             micp_points_compared: n_cmp,
             micp,
+            wettability: None,
             accepted: refusals.is_empty(),
             refusals,
         },
@@ -408,7 +462,8 @@ pub struct ShapeCandidate {
 /// shape of `shapes` (the other generator parameters and the seed kept)
 /// and returns every candidate, the index of the best (accepted first,
 /// then the smallest [`Calibration::objective`]) and its calibrated
-/// network. The shape changes the spread of the pore sizes and so the
+/// network. The contact angles, when the lab data ask for them, are fitted
+/// on the best candidate only. The shape changes the spread of the pore sizes and so the
 /// slope of the MICP curve, which scaling alone cannot change.
 pub fn calibrate_pore_shape(
     spec: &crate::generate::LatticeSpec,
@@ -423,7 +478,7 @@ pub fn calibrate_pore_shape(
         s.pore_radius.shape = shape;
         let base = crate::generate::generate(&s, &crate::progress::Silent)
             .map_err(|e| CalibrationError::Generate(e.to_string()))?;
-        let (cal, net) = calibrate(&base, lab, seed)?;
+        let (cal, net) = calibrate_scaling(&base, lab, seed)?;
         let better = match &best {
             None => true,
             Some((i, _)) => {
@@ -441,7 +496,10 @@ pub fn calibrate_pore_shape(
         }
     }
     match best {
-        Some((i, net)) => Ok((out, i, net)),
+        Some((i, net)) => {
+            fit_wettability(&mut out[i].calibration, &net, lab, seed)?;
+            Ok((out, i, net))
+        }
         None => Err(CalibrationError::Generate(
             "no pore-radius shape to try".into(),
         )),

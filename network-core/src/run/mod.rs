@@ -6,6 +6,7 @@ use std::collections::BTreeSet;
 
 use serde::{Deserialize, Serialize};
 
+pub mod angle_fit;
 pub mod calibrate;
 pub mod end_points;
 pub mod fractional_flow;

@@ -66,6 +66,7 @@ fn lab_from(truth: &Network) -> LabData {
             pressure_pa: pts.iter().map(|p| p.pressure_pa).collect(),
             mercury_saturation: pts.iter().map(|p| p.mercury_saturation).collect(),
         },
+        waterflood: None,
     }
 }
 

@@ -119,10 +119,10 @@ fn coordination_follows_the_requested_law_and_the_network_is_connected() {
     // Sampling error of a histogram of N = 8000 pores: the expected total
     // variation distance of a multinomial sample is about
     // ½ Σ_k sqrt(2 p_k/(π N)) ≈ 0.015 for this law. The thinning adds a
-    // systematic shortfall (pores whose candidates are all full), measured
-    // at 0.029–0.039 on 20³ for these laws; the tolerance is 0.05. The mean
-    // falls short of the target by the same effect (measured 2.1–4.0 %);
-    // the tolerance is 5 %.
+    // systematic shortfall (pores whose candidates are all full); the
+    // total variation distance was measured at 0.021–0.026 on 20³ for these
+    // laws; the tolerance is 0.05. The mean falls short of the target by
+    // the same effect (measured 1.6–1.8 %); the tolerance is 5 %.
     for (mean, spread) in [(4.0, 0.5), (5.0, 0.4), (3.0, 0.6)] {
         let irr = IrregularSpec {
             coordination_spread: spread,
@@ -159,9 +159,13 @@ fn coordination_follows_the_requested_law_and_the_network_is_connected() {
         assert_eq!(ends.len(), net.n_throats());
     }
     // A tail towards coordination_max: with spread 0.7 the law puts
-    // P(z ≥ 12) ≈ 0.033. The tail pores lose the most to the shortfall
-    // (measured: 0.019 realised); the test asks for more than half of the
-    // law's share and at least one pore of coordination 15 or more.
+    // P(z ≥ 12) ≈ 0.0327. The thinning serves the highest targets first,
+    // so the tail loses little to the shortfall (measured: 0.0305
+    // realised, 93 %; with the tail served last it was 0.0203, 62 %). The
+    // binomial sampling error of the share over 8000 pores is
+    // sqrt(0.033 · 0.967 / 8000) ≈ 0.002; the test asks for 85 % of the
+    // law's share (two standard errors below the measured value) and at
+    // least one pore of coordination 15 or more.
     let irr = IrregularSpec {
         coordination_spread: 0.7,
         ..IrregularSpec::default()
@@ -170,7 +174,7 @@ fn coordination_follows_the_requested_law_and_the_network_is_connected() {
     let tail_law: f64 = irr.law(4.0).probabilities()[12..].iter().sum();
     let tail = degrees(&net).iter().filter(|&&d| d >= 12).count() as f64 / 8000.0;
     eprintln!("tail z>=12: {tail:.4} vs law {tail_law:.4}");
-    assert!(tail > 0.5 * tail_law, "tail {tail} vs {tail_law}");
+    assert!(tail > 0.85 * tail_law, "tail {tail} vs {tail_law}");
     assert!(degrees(&net).iter().any(|&d| d >= 15));
 }
 

@@ -5,7 +5,9 @@
 #![allow(clippy::needless_range_loop)]
 
 mod accounting;
+mod angle_fit;
 mod calibrate;
+mod clay;
 mod drainage;
 mod flow;
 mod flow_emt;

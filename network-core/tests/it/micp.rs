@@ -183,6 +183,7 @@ fn micp_and_calibration_give_the_same_bits_on_one_and_two_threads() {
                 pressure_pa: sim.points.iter().map(|p| p.pressure_pa).collect(),
                 mercury_saturation: sim.points.iter().map(|p| p.mercury_saturation).collect(),
             },
+            waterflood: None,
         };
         let (cal, _) = calibrate(&net, &lab, 1).unwrap();
         let bits: Vec<u64> = curve
