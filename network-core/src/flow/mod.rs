@@ -83,9 +83,10 @@ pub use permeability::{
     M2_PER_MILLIDARCY, PRESSURE_DROP_PA, PermOptions, PermeabilityReport, VISCOSITY_PA_S,
     permeability,
 };
+pub(crate) use permeability::{UnitReferences, permeability_with_fields};
 pub use solver::{
-    AmgOptions, FlowSolution, Method, Preconditioner, PressureSystem, Smoother, SolveError,
-    SolveInput, SolveOptions,
+    AmgOptions, FlowSolution, KeptHierarchy, Method, Preconditioner, PressureSystem, Smoother,
+    SolveError, SolveInput, SolveOptions,
 };
 
 /// Why a flow computation failed.

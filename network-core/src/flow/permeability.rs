@@ -115,6 +115,35 @@ pub fn permeability(
     axis: Axis,
     opts: &PermOptions,
 ) -> Result<PermeabilityReport, FlowError> {
+    permeability_with_fields(network, axis, opts).map(|(report, _)| report)
+}
+
+/// The flows and fields of [`permeability`]'s two solves, rescaled to unit
+/// viscosity, unit pressure drop and unit brine conductivity (the
+/// single-phase references of relative permeability and resistivity index,
+/// which then need no solves of their own).
+#[derive(Clone, Debug)]
+pub(crate) struct UnitReferences {
+    /// Flow `D/Δp` at unit viscosity and `Δp = 1`.
+    pub q: f64,
+    /// Current at unit brine conductivity and `ΔV = 1`.
+    pub i: f64,
+    /// Pressure of every pore for inlet 1, outlet 0 (NaN outside the
+    /// flowing set).
+    pub pressure: Vec<f64>,
+    /// Potential of every pore for inlet 1, outlet 0 (NaN outside).
+    pub potential: Vec<f64>,
+}
+
+/// [`permeability`] and its [`UnitReferences`]. The conductances are
+/// linear in `1/μ` and `σ_w` and the fields linear in the imposed drop, so
+/// the rescaled values are those of solves at unit values up to rounding
+/// and the solver tolerance.
+pub(crate) fn permeability_with_fields(
+    network: &Network,
+    axis: Axis,
+    opts: &PermOptions,
+) -> Result<(PermeabilityReport, UnitReferences), FlowError> {
     for (name, value) in [
         ("brine_conductivity", opts.brine_conductivity),
         ("clay_tortuosity", opts.clay_tortuosity),
@@ -203,8 +232,14 @@ pub fn permeability(
     // I from the dissipation at ΔV = 1 V.
     let sigma_eff = current.dissipation(network, &conduit) * length / area;
     let n_flowing = flow.flowing.iter().filter(|&&f| f).count();
+    let unit = UnitReferences {
+        q: q * VISCOSITY_PA_S / PRESSURE_DROP_PA,
+        i: current.dissipation(network, &conduit) / opts.brine_conductivity,
+        pressure: flow.pressure.iter().map(|p| p / PRESSURE_DROP_PA).collect(),
+        potential: current.pressure.clone(),
+    };
 
-    Ok(PermeabilityReport {
+    let report = PermeabilityReport {
         axis,
         permeability_m2: k,
         permeability_md: k / M2_PER_MILLIDARCY,
@@ -226,5 +261,6 @@ pub fn permeability(
         n_pores: network.n_pores(),
         n_flowing_pores: n_flowing,
         n_excluded_pores: flow.n_excluded,
-    })
+    };
+    Ok((report, unit))
 }

@@ -23,12 +23,24 @@
 //! [`PressureSystem`] copies the network adjacency once; each
 //! [`PressureSystem::solve`] only writes values and the mask of unknowns. The
 //! multigrid hierarchy is kept between solves while the set of unknowns stays
-//! the same (only the finest level takes the new values), and rebuilt when it
-//! changes or when a solve shows the kept hierarchy has become poor: during
-//! the solve, when CG needs more than twice the iterations per decade of
-//! residual reduction of the solve that built it (the hierarchy is rebuilt on
-//! the spot and CG restarts from its current iterate), and for the next solve
-//! when a solve needed more than 1.5 times as many.
+//! inside the one it was built for (only the finest level takes the new
+//! values), and rebuilt when new unknowns appear or when a solve shows the
+//! kept hierarchy has become poor: during the solve, when CG needs more than
+//! twice the iterations per decade of residual reduction of the solve that
+//! built it (the hierarchy is rebuilt on the spot and CG restarts from its
+//! current iterate), and for the next solve when a solve needed more than
+//! 1.5 times as many.
+//!
+//! A kept hierarchy is a valid preconditioner of the new matrix `A`: with
+//! the Jacobi smoother `S` taken from the current `A` (a convergent one,
+//! `ω = 4/(3ρ)`), the V-cycle is `M⁻¹ = S̄ + (I − Sᵀ A) P B⁻¹ Pᵀ (I − A S)`
+//! with `S̄ = S + Sᵀ − Sᵀ A S` symmetric positive definite and `B` the
+//! (SPD) cycle of the kept coarse levels, so `M⁻¹` is SPD whatever the
+//! coarse levels were built from. The pressures are numbered on the whole
+//! network (pores outside the unknowns have empty rows), so a hierarchy
+//! built for a larger set of unknowns applies as it is; its output is
+//! restricted to the present unknowns (`Π M⁻¹ Π` with `Π` the mask, SPD on
+//! them), since its prolongators may reach pores that have dropped out.
 
 use rayon::prelude::*;
 use thiserror::Error;
@@ -67,9 +79,10 @@ pub struct SolveOptions {
     /// Preconditioner (default: classical algebraic multigrid with Jacobi
     /// smoothing, the fastest measured; see the solver benchmark).
     pub preconditioner: Preconditioner,
-    /// Keep the multigrid hierarchy between solves with the same set of
-    /// unknowns (default `true`). A kept hierarchy is still a valid SPD
-    /// preconditioner, only a less exact one. It is rebuilt in the middle of
+    /// Keep the multigrid hierarchy between solves whose unknowns lie
+    /// inside those it was built for (default `true`). A kept hierarchy is
+    /// still a valid SPD preconditioner (module documentation), only a less
+    /// exact one. It is rebuilt in the middle of
     /// a solve that runs past twice the iterations per decade of residual
     /// reduction of the solve that built it (CG then continues from its
     /// current iterate), and before the next solve when a solve needed more
@@ -116,6 +129,10 @@ pub struct FlowSolution {
     pub n_excluded: usize,
     /// Whether this solve (re)built the multigrid hierarchy.
     pub preconditioner_built: bool,
+    /// Whether this solve started with a kept multigrid hierarchy (built
+    /// for an earlier matrix; when it proved poor during the solve,
+    /// [`FlowSolution::preconditioner_built`] is set too).
+    pub preconditioner_reused: bool,
     /// Levels of the multigrid hierarchy used (0 for Jacobi).
     pub amg_levels: usize,
     /// Stored entries of all multigrid levels over those of the finest
@@ -243,7 +260,10 @@ pub enum SolveError {
 }
 
 /// Reusable pressure system of one network: the adjacency pattern, the
-/// matrix values, work vectors and the multigrid hierarchy.
+/// matrix values, work vectors and the multigrid hierarchy (kept between
+/// solves as the module documentation describes; several sequences of
+/// solves can each keep their own with [`PressureSystem::take_hierarchy`]
+/// and [`PressureSystem::put_hierarchy`]).
 #[derive(Debug)]
 pub struct PressureSystem {
     n_throats: usize,
@@ -263,6 +283,9 @@ pub struct PressureSystem {
     pending: Option<(AmgOptions, f64)>,
     /// Whether the current solve built a hierarchy.
     built: bool,
+    /// Whether the kept hierarchy in use was built for another set of
+    /// unknowns, so that its output is restricted to the present ones.
+    masked: bool,
 }
 
 #[derive(Debug)]
@@ -275,6 +298,21 @@ struct KeptAmg {
     /// Iterations per decade of residual reduction of the building solve.
     build_rate: f64,
     stale: bool,
+}
+
+/// A multigrid hierarchy taken out of a [`PressureSystem`]
+/// ([`PressureSystem::take_hierarchy`]), to be given back for a later solve
+/// of a similar system ([`PressureSystem::put_hierarchy`]): one system can
+/// then serve several sequences of solves (phases), each with its own kept
+/// hierarchy.
+#[derive(Debug)]
+pub struct KeptHierarchy(KeptAmg);
+
+impl KeptHierarchy {
+    /// Bytes held by the hierarchy.
+    pub fn heap_bytes(&self) -> usize {
+        self.0.amg.heap_bytes() + self.0.unknown.capacity()
+    }
 }
 
 const NO_LABEL: u32 = u32::MAX;
@@ -353,6 +391,7 @@ impl PressureSystem {
             use_amg: false,
             pending: None,
             built: false,
+            masked: false,
         }
     }
 
@@ -369,6 +408,20 @@ impl PressureSystem {
             + o.unknown.capacity()
             + 8 * 8 * self.rhs.capacity()
             + self.amg.as_ref().map_or(0, |k| k.amg.heap_bytes())
+    }
+
+    /// Takes the kept multigrid hierarchy out of the system (the next
+    /// solve builds its own unless one is put back).
+    pub fn take_hierarchy(&mut self) -> Option<KeptHierarchy> {
+        self.pending = None;
+        self.amg.take().map(KeptHierarchy)
+    }
+
+    /// Replaces the kept hierarchy (with `None`: drops it). The next solve
+    /// with [`SolveOptions::reuse_hierarchy`] uses it as described there.
+    pub fn put_hierarchy(&mut self, hierarchy: Option<KeptHierarchy>) {
+        self.pending = None;
+        self.amg = hierarchy.map(|h| h.0);
     }
 
     /// Solves for the pressures of one [`SolveInput`] (see its fields).
@@ -452,7 +505,7 @@ impl PressureSystem {
             Preconditioner::Amg(a_opts) => {
                 opts.reuse_hierarchy
                     && self.amg.as_ref().is_some_and(|k| {
-                        !k.stale && k.opts == *a_opts && k.unknown == self.op.unknown
+                        !k.stale && k.opts == *a_opts && subset(&self.op.unknown, &k.unknown)
                     })
             }
             Preconditioner::Jacobi => false,
@@ -471,6 +524,11 @@ impl PressureSystem {
         // Preconditioner.
         self.built = false;
         self.pending = None;
+        self.masked = keep
+            && self
+                .amg
+                .as_ref()
+                .is_some_and(|k| k.unknown != self.op.unknown);
         let (mut levels, mut complexity) = (0, 0.0);
         self.use_amg = matches!(opts.preconditioner, Preconditioner::Amg(_));
         match &opts.preconditioner {
@@ -610,6 +668,7 @@ impl PressureSystem {
             n_unknowns,
             n_excluded: n - n_flowing,
             preconditioner_built: built,
+            preconditioner_reused: keep,
             amg_levels: levels,
             operator_complexity: complexity,
         })
@@ -828,6 +887,7 @@ impl PressureSystem {
         self.amg = None;
         self.pending = None;
         self.built = true;
+        self.masked = false;
         let amg = Amg::build(&self.op, a_opts);
         self.amg = Some(KeptAmg {
             amg,
@@ -847,6 +907,22 @@ impl PressureSystem {
         match self.amg.as_mut() {
             Some(k) if self.use_amg => {
                 k.amg.apply(&self.op, &self.r, &mut self.z);
+                if self.masked {
+                    // Restriction to the present unknowns (see
+                    // `PressureSystem`): the kept prolongators may reach
+                    // pores that are no longer unknowns.
+                    let u = &self.op.unknown;
+                    self.z
+                        .par_chunks_mut(CHUNK)
+                        .enumerate()
+                        .for_each(|(c, zs)| {
+                            for (k, z) in zs.iter_mut().enumerate() {
+                                if !u[c * CHUNK + k] {
+                                    *z = 0.0;
+                                }
+                            }
+                        });
+                }
             }
             _ => {
                 let d = &self.inv_diag;
@@ -858,6 +934,13 @@ impl PressureSystem {
             }
         }
     }
+}
+
+/// Whether every `true` of `a` is `true` in `b` (fixed chunking).
+fn subset(a: &[bool], b: &[bool]) -> bool {
+    a.par_chunks(CHUNK)
+        .zip(b.par_chunks(CHUNK))
+        .all(|(x, y)| x.iter().zip(y).all(|(&x, &y)| !x || y))
 }
 
 fn check_len(what: &'static str, found: usize, expected: usize) -> Result<(), SolveError> {
@@ -1000,6 +1083,54 @@ mod tests {
         // The face flow carries the error linearly: it is further off.
         let face = (loose.inflow - q).abs();
         assert!(excess / dp < face, "{excess:e} vs {face:e}");
+    }
+
+    #[test]
+    fn hierarchy_kept_from_a_larger_set_of_unknowns_gives_the_cold_answer() {
+        // A kept hierarchy restricted to fewer unknowns is an SPD
+        // preconditioner (module documentation): the second solve, with a
+        // tenth of the pores inactive, must reuse it and end at the answer
+        // of a cold solve to the tolerance (common practice); a third with
+        // all pores active again has new unknowns and must rebuild.
+        let net = lattice(14);
+        let axis = net.info().flow_axis;
+        let (inlet, outlet) = face_masks(&net, axis);
+        let all = vec![true; net.n_pores()];
+        let some: Vec<bool> = (0..net.n_pores())
+            .map(|i| inlet[i] || outlet[i] || unit_hash(9, 0, i as u64) >= 0.1)
+            .collect();
+        let c = conduits(&net);
+        let opts = tolerance(1e-10);
+        let input_all = SolveInput {
+            conduit_g: &c,
+            active: &all,
+            inlet: &inlet,
+            outlet: &outlet,
+            p_in: 1.0,
+            p_out: 0.0,
+            warm_start: None,
+        };
+        let input_some = SolveInput {
+            active: &some,
+            ..input_all
+        };
+        let mut sys = PressureSystem::new(&net);
+        let first = sys.solve(&input_all, &opts).unwrap();
+        assert!(first.preconditioner_built && !first.preconditioner_reused);
+        let second = sys.solve(&input_some, &opts).unwrap();
+        assert!(second.preconditioner_reused && !second.preconditioner_built);
+        assert!(second.n_unknowns < first.n_unknowns);
+        let cold = PressureSystem::new(&net).solve(&input_some, &opts).unwrap();
+        let q = cold.dissipation(&net, &c);
+        assert!((second.dissipation(&net, &c) - q).abs() <= 1e-10 * q);
+        for i in 0..net.n_pores() {
+            assert_eq!(second.flowing[i], cold.flowing[i]);
+            if cold.flowing[i] {
+                assert!((second.pressure[i] - cold.pressure[i]).abs() < 1e-6);
+            }
+        }
+        let third = sys.solve(&input_all, &opts).unwrap();
+        assert!(third.preconditioner_built && !third.preconditioner_reused);
     }
 
     #[test]

@@ -25,7 +25,7 @@ use crate::engine::state::NO_GANGLION;
 /// process outcome).
 pub use crate::engine::EventCounts;
 use crate::flow::solver::SolveOptions;
-use crate::flow::{PermOptions, PermeabilityReport, permeability};
+use crate::flow::{PermOptions, PermeabilityReport, permeability_with_fields};
 use crate::geometry::Geometry;
 use crate::network::{Element, Network};
 use crate::params::{ProcessKind, Study};
@@ -438,7 +438,7 @@ fn flow_references(
         tolerance: study.flow.solver_tolerance,
         ..SolveOptions::default()
     };
-    let single_phase = match permeability(
+    let (single_phase, refs) = match permeability_with_fields(
         network,
         axis,
         &PermOptions {
@@ -447,22 +447,29 @@ fn flow_references(
             clay_tortuosity: study.flow.clay_tortuosity,
         },
     ) {
-        Ok(r) => Some(r),
+        Ok((r, refs)) => (Some(r), Some(refs)),
         Err(e) => {
             warnings.push(format!("single-phase flow: {e}"));
-            None
+            (None, None)
         }
     };
-    let relperm = if study.flow.relative_permeability && single_phase.is_some() {
-        match RelpermSolver::new(network, axis, solve, study.flow.clay_tortuosity) {
+    // The single-phase solves above are the references of relative
+    // permeability and resistivity index (solved once per run).
+    let relperm = match refs.filter(|_| study.flow.relative_permeability) {
+        Some(refs) => match RelpermSolver::with_references(
+            network,
+            axis,
+            solve,
+            study.flow.clay_tortuosity,
+            refs,
+        ) {
             Ok(r) => Some(r),
             Err(e) => {
                 warnings.push(format!("relative permeability skipped: {e}"));
                 None
             }
-        }
-    } else {
-        None
+        },
+        None => None,
     };
     (single_phase, relperm)
 }

@@ -28,7 +28,9 @@ use serde::{Deserialize, Serialize};
 
 use crate::capillary;
 use crate::engine::Engine;
-use crate::flow::solver::{FlowSolution, PressureSystem, SolveError, SolveInput, SolveOptions};
+use crate::flow::solver::{
+    FlowSolution, KeptHierarchy, PressureSystem, SolveError, SolveInput, SolveOptions,
+};
 use crate::flow::{self, FlowError, conduit_conductances, element_clay_areas};
 use crate::geometry::Shape;
 use crate::network::{Axis, Network};
@@ -156,11 +158,28 @@ pub fn phase_conductances(engine: &Engine<'_>, clay_tortuosity: f64) -> PhaseCon
 /// pressure error, so a loose solver tolerance (10⁻⁶) still gives `k_r` and
 /// RI to about 10⁻⁷ relative.
 ///
-/// Each solve builds its own multigrid hierarchy (the conductances of a
-/// phase change at every point, and a hierarchy kept from the previous
-/// point or another phase was measured to cost more iterations than a
-/// rebuild saves), except when the warm start already meets the tolerance;
-/// only one hierarchy is alive at a time, which bounds the memory.
+/// Multigrid hierarchies: each phase has its own sequence of solves, and a
+/// phase may keep its hierarchy from one point to the next
+/// ([`PressureSystem::take_hierarchy`]): the hierarchy built for the
+/// previous point's matrix is then the preconditioner of the next one (any
+/// fixed SPD V-cycle is a valid CG preconditioner; convergence is checked
+/// on the true residual of the new system). It serves while the new set of
+/// unknowns lies inside the one it was built for (see
+/// [`crate::flow::solver`] for why the restricted cycle is valid) and
+/// is rebuilt during a solve that runs past twice, and before the next
+/// solve after one that needed more than 1.5 times, the iterations per
+/// decade of residual reduction of the solve that built it.
+///
+/// Only the electrical solve keeps its hierarchy ([`REUSE_ELECTRIC`]): on
+/// the kr benchmark (97 336 pores, 20 points per process) a kept
+/// hierarchy cost the electrical solve 1–3 iterations more than a fresh
+/// one, far less than a build (about 13 iterations' worth there), but the
+/// water hydraulic solve 8–13 more (bulk water giving way to corner films
+/// changes conductances by orders of magnitude) and the oil solve, whose
+/// set of unknowns mostly grows, more still; see the README's performance
+/// section for the totals. The other solves build their own hierarchy,
+/// except when the warm start already meets the tolerance. At most two
+/// hierarchies are alive at a time.
 pub struct RelpermSolver {
     system: PressureSystem,
     water: Phase,
@@ -180,6 +199,13 @@ pub struct RelpermSolver {
     pub stats: SolveStats,
 }
 
+/// Whether the water hydraulic solve keeps its hierarchy between points.
+pub const REUSE_WATER: bool = false;
+/// Whether the non-aqueous hydraulic solve keeps its hierarchy.
+pub const REUSE_OIL: bool = false;
+/// Whether the electrical solve keeps its hierarchy.
+pub const REUSE_ELECTRIC: bool = true;
+
 /// Counters of the flow solves of a run.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
 pub struct SolveStats {
@@ -187,21 +213,32 @@ pub struct SolveStats {
     pub solves: usize,
     /// Multigrid hierarchies built.
     pub hierarchies_built: usize,
+    /// Solves that started with a hierarchy kept from an earlier solve of
+    /// the same phase (those that found it poor rebuilt it during the
+    /// solve and count in `hierarchies_built` too).
+    #[serde(default)]
+    pub hierarchies_reused: usize,
     /// Conjugate-gradient iterations over all solves.
     pub iterations: usize,
 }
 
-/// One phase's conduit conductances and warm start.
+/// One phase's conduit conductances, warm start and kept multigrid
+/// hierarchy.
 struct Phase {
     conduit: Vec<f64>,
     warm: Option<Vec<f64>>,
+    /// Whether the phase keeps its hierarchy between points.
+    reuse: bool,
+    amg: Option<KeptHierarchy>,
 }
 
 impl Phase {
-    fn new(network: &Network) -> Phase {
+    fn new(network: &Network, reuse: bool) -> Phase {
         Phase {
             conduit: vec![0.0; network.n_throats()],
             warm: None,
+            reuse,
+            amg: None,
         }
     }
 }
@@ -222,25 +259,7 @@ impl RelpermSolver {
         opts: SolveOptions,
         clay_tortuosity: f64,
     ) -> Result<RelpermSolver, FlowError> {
-        let (inlet, outlet) = crate::connectivity::face_masks(network, axis);
-        let mut s = RelpermSolver {
-            system: PressureSystem::new(network),
-            water: Phase::new(network),
-            oil: Phase::new(network),
-            electric: Phase::new(network),
-            inlet,
-            outlet,
-            active: vec![true; network.n_pores()],
-            q_single: 0.0,
-            i_single: 0.0,
-            opts: SolveOptions {
-                reuse_hierarchy: false,
-                ..opts
-            },
-            clay_tortuosity,
-            solve_seconds: 0.0,
-            stats: SolveStats::default(),
-        };
+        let mut s = RelpermSolver::unset(network, axis, opts, clay_tortuosity);
         let g = flow::element_hydraulic_conductances(network, 1.0);
         conduit_conductances(network, &g, &mut s.water.conduit)?;
         drop(g);
@@ -253,6 +272,66 @@ impl RelpermSolver {
         let (i, _) = s
             .solve(network, Which::Electric)
             .map_err(FlowError::Electrical)?;
+        s.finish_references(network, axis, q, i)?;
+        Ok(s)
+    }
+
+    /// [`RelpermSolver::new`] with the single-phase references taken from
+    /// the solves of [`flow::permeability`] (rescaled to unit values) instead
+    /// of solving again; their fields are the warm starts of the first
+    /// water and electrical solves. `clay_tortuosity` must be the one of
+    /// those solves.
+    pub(crate) fn with_references(
+        network: &Network,
+        axis: Axis,
+        opts: SolveOptions,
+        clay_tortuosity: f64,
+        refs: flow::UnitReferences,
+    ) -> Result<RelpermSolver, FlowError> {
+        let mut s = RelpermSolver::unset(network, axis, opts, clay_tortuosity);
+        // The check of `PressureSystem::solve` (every pore is active here).
+        if let Some(pore) = (0..network.n_pores()).find(|&i| s.inlet[i] && s.outlet[i]) {
+            return Err(FlowError::Hydraulic(SolveError::FaceOverlap { pore }));
+        }
+        s.finish_references(network, axis, refs.q, refs.i)?;
+        s.water.warm = Some(refs.pressure);
+        s.electric.warm = Some(refs.potential);
+        Ok(s)
+    }
+
+    fn unset(
+        network: &Network,
+        axis: Axis,
+        opts: SolveOptions,
+        clay_tortuosity: f64,
+    ) -> RelpermSolver {
+        let (inlet, outlet) = crate::connectivity::face_masks(network, axis);
+        RelpermSolver {
+            system: PressureSystem::new(network),
+            water: Phase::new(network, REUSE_WATER),
+            oil: Phase::new(network, REUSE_OIL),
+            electric: Phase::new(network, REUSE_ELECTRIC),
+            inlet,
+            outlet,
+            active: vec![true; network.n_pores()],
+            q_single: 0.0,
+            i_single: 0.0,
+            opts,
+            clay_tortuosity,
+            solve_seconds: 0.0,
+            stats: SolveStats::default(),
+        }
+    }
+
+    /// Keeps the single-phase flow and current (both must be positive).
+    fn finish_references(
+        &mut self,
+        network: &Network,
+        axis: Axis,
+        q: f64,
+        i: f64,
+    ) -> Result<(), FlowError> {
+        let s = self;
         if !(q > 0.0 && i > 0.0) {
             return Err(FlowError::NoSpanningCluster {
                 axis,
@@ -263,7 +342,23 @@ impl RelpermSolver {
         }
         s.q_single = q;
         s.i_single = i;
-        Ok(s)
+        Ok(())
+    }
+
+    /// Which phases keep their multigrid hierarchy between points (default
+    /// [`REUSE_WATER`], [`REUSE_OIL`], [`REUSE_ELECTRIC`]); for comparisons.
+    /// Turning one off drops its kept hierarchy.
+    pub fn set_hierarchy_reuse(&mut self, water: bool, oil: bool, electric: bool) {
+        for (phase, reuse) in [
+            (&mut self.water, water),
+            (&mut self.oil, oil),
+            (&mut self.electric, electric),
+        ] {
+            phase.reuse = reuse;
+            if !reuse {
+                phase.amg = None;
+            }
+        }
     }
 
     /// Relative permeabilities and resistivity index at the engine's state.
@@ -304,7 +399,9 @@ impl RelpermSolver {
             Which::Oil => &mut self.oil,
             Which::Electric => &mut self.electric,
         };
-        match self.system.solve(
+        self.system.put_hierarchy(phase.amg.take());
+        self.opts.reuse_hierarchy = phase.reuse;
+        let result = self.system.solve(
             &SolveInput {
                 conduit_g: &phase.conduit,
                 active: &self.active,
@@ -315,10 +412,13 @@ impl RelpermSolver {
                 warm_start: phase.warm.as_deref(),
             },
             &self.opts,
-        ) {
+        );
+        phase.amg = self.system.take_hierarchy();
+        match result {
             Ok(sol) => {
                 self.stats.solves += 1;
                 self.stats.hierarchies_built += sol.preconditioner_built as usize;
+                self.stats.hierarchies_reused += sol.preconditioner_reused as usize;
                 self.stats.iterations += sol.iterations;
                 // Δp = 1.
                 let q = sol.dissipation(network, &phase.conduit);
