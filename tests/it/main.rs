@@ -1,9 +1,8 @@
-//! Workspace-level integration tests, one binary: relative permeability
-//! against analytic bundles of tubes, the bundled sample networks and demo
-//! studies, sweep determinism, and the layering of the crates' modules.
+//! Workspace-level integration tests, one binary: the bundled sample
+//! networks and demo studies, sweep determinism, documented keys, and the
+//! layering of the crates' modules.
 
 mod keys;
 mod layering;
-mod relperm;
 mod samples;
 mod sweeps;

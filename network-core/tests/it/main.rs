@@ -22,3 +22,4 @@ mod micp;
 mod mixed_wet;
 mod networks;
 mod profiles;
+mod relperm;

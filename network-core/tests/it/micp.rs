@@ -1,52 +1,8 @@
 //! Simulated mercury injection against analytic cases.
 
-use network_core::geometry::G_CIRCLE;
 use network_core::run::micp::{MicpSpec, simulate_micp};
-use network_core::{Axis, Boundary, Network, NetworkInfo, Pores, Throats};
 
-/// N parallel circular tubes of radius `radii[i]` and length `length`
-/// between the x = 0 and x = length faces: face pore i – throat i – face
-/// pore N + i, no cross-links. The face pores are wider than any tube and
-/// hold no volume, so the pore space is the tubes alone.
-fn bundle(radii: &[f64], length: f64) -> Network {
-    let n = radii.len();
-    let info = NetworkInfo {
-        name: "bundle of tubes".into(),
-        flow_axis: Axis::X,
-        length_m: length,
-        area_m2: n as f64 * 1e-8,
-        bulk_volume_m3: n as f64 * 1e-8 * length,
-        extent_m: None,
-        description: None,
-    };
-    let mut p = Pores::with_capacity(2 * n);
-    for i in 0..2 * n {
-        p.x.push(if i < n { 0.0 } else { length });
-        p.y.push((i % n) as f64 * 1e-4);
-        p.z.push(0.0);
-        p.radius.push(1e-4);
-        p.shape_factor.push(G_CIRCLE);
-        p.volume.push(0.0);
-        p.clay_volume.push(0.0);
-        p.boundary.push(if i < n {
-            Boundary::Inlet
-        } else {
-            Boundary::Outlet
-        });
-    }
-    let mut t = Throats::with_capacity(n);
-    for (i, &r) in radii.iter().enumerate() {
-        t.pores.push([i as u32, (n + i) as u32]);
-        t.radius.push(r);
-        t.shape_factor.push(G_CIRCLE);
-        t.volume.push(std::f64::consts::PI * r * r * length);
-        t.clay_volume.push(0.0);
-        t.length.push(length);
-        t.conduit_a.push(0.0);
-        t.conduit_b.push(0.0);
-    }
-    Network::new(info, p, t).expect("valid bundle")
-}
+use crate::networks::bundle;
 
 fn radii() -> Vec<f64> {
     // 30 radii between 1 and 40 µm, in scrambled order.

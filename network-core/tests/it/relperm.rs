@@ -1,57 +1,14 @@
 //! Relative permeability and resistivity index against analytic cases.
 
+use network_core::Network;
 use network_core::generate::{LatticeSpec, generate};
-use network_core::geometry::G_CIRCLE;
 use network_core::progress::Silent;
 use network_core::run::run_study;
 use network_core::study::Study;
-use network_core::{Axis, Boundary, Network, NetworkInfo, Pores, Throats};
+
+use crate::networks::bundle;
 
 const SIGMA: f64 = 0.03;
-
-/// N parallel tubes between the faces: inlet pore i – throat i – outlet
-/// pore i, no cross-links. Pores have no volume and no length in the
-/// conduits, so each tube is just its throat (a circular capillary of
-/// radius r_i and length L).
-fn bundle(radii: &[f64], length: f64) -> Network {
-    let n = radii.len();
-    let info = NetworkInfo {
-        name: "bundle of tubes".into(),
-        flow_axis: Axis::X,
-        length_m: length,
-        area_m2: n as f64 * 1e-8,
-        bulk_volume_m3: n as f64 * 1e-8 * length,
-        extent_m: None,
-        description: None,
-    };
-    let mut p = Pores::with_capacity(2 * n);
-    for i in 0..2 * n {
-        p.x.push(if i < n { 0.0 } else { length });
-        p.y.push((i % n) as f64 * 1e-4);
-        p.z.push(0.0);
-        p.radius.push(1e-4);
-        p.shape_factor.push(G_CIRCLE);
-        p.volume.push(0.0);
-        p.clay_volume.push(0.0);
-        p.boundary.push(if i < n {
-            Boundary::Inlet
-        } else {
-            Boundary::Outlet
-        });
-    }
-    let mut t = Throats::with_capacity(n);
-    for (i, &r) in radii.iter().enumerate() {
-        t.pores.push([i as u32, (n + i) as u32]);
-        t.radius.push(r);
-        t.shape_factor.push(G_CIRCLE);
-        t.volume.push(std::f64::consts::PI * r * r * length);
-        t.clay_volume.push(0.0);
-        t.length.push(length);
-        t.conduit_a.push(0.0);
-        t.conduit_b.push(0.0);
-    }
-    Network::new(info, p, t).expect("valid bundle")
-}
 
 fn drainage_study(extra: &str, stop: &str, kr_points: usize) -> Study {
     Study::parse(&format!(
