@@ -206,19 +206,26 @@ fn create_temp_file(path: &Path) -> io::Result<(PathBuf, File)> {
     }
 }
 
+/// A fresh, empty folder under the system's temporary folder, unique to
+/// this process and call (unit tests of the `io` modules).
+#[cfg(test)]
+pub(crate) fn scratch_dir(prefix: &str, name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!(
+        "ganglion-{prefix}-{name}-{}-{}",
+        std::process::id(),
+        COUNTER.fetch_add(1, Ordering::Relaxed)
+    ));
+    let _ = fs::remove_dir_all(&dir);
+    fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
 
     fn scratch(name: &str) -> PathBuf {
-        let dir = std::env::temp_dir().join(format!(
-            "ganglion-atomic-{name}-{}-{}",
-            std::process::id(),
-            COUNTER.fetch_add(1, Ordering::Relaxed)
-        ));
-        let _ = fs::remove_dir_all(&dir);
-        fs::create_dir_all(&dir).unwrap();
-        dir
+        scratch_dir("atomic", name)
     }
 
     fn entries(dir: &Path) -> Vec<String> {

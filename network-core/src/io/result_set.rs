@@ -627,14 +627,7 @@ mod tests {
     use super::*;
 
     fn scratch(name: &str) -> PathBuf {
-        let dir = std::env::temp_dir().join(format!(
-            "ganglion-set-{name}-{}-{}",
-            std::process::id(),
-            COUNTER.fetch_add(1, Ordering::Relaxed)
-        ));
-        let _ = fs::remove_dir_all(&dir);
-        fs::create_dir_all(&dir).unwrap();
-        dir
+        crate::io::atomic::scratch_dir("set", name)
     }
 
     fn stage(target: &Path, files: &[(&str, &str)], overwrite: bool) -> Result<Manifest, SetError> {

@@ -58,13 +58,13 @@ realisations = 2
 const GENERATOR: &str = "nx = 6\nny = 5\nnz = 4\nspacing_m = 1e-4\n\
                          target_coordination = 4.0\nseed = 3\nclay_fraction = 0.1\n";
 
-/// Applies `edits` (position, action, byte) to `text`, with bytes drawn
-/// from the characters TOML and numbers are made of.
-fn mutate(text: &str, edits: &[(usize, u8, u8)]) -> String {
-    const ALPHABET: &[u8] = b"0123456789.,-+eE\n\"[]=_ aiknfx#";
+/// Applies `edits` (position, action, byte) to `text`: action 0 removes
+/// the byte at the position, 1 inserts a character of `alphabet`, 2 replaces
+/// the byte by one. Shared by every mutation-based property of the crate.
+pub fn mutate_with(text: &str, edits: &[(usize, u8, u8)], alphabet: &[u8]) -> Vec<u8> {
     let mut bytes = text.as_bytes().to_vec();
     for &(pos, action, byte) in edits {
-        let c = ALPHABET[byte as usize % ALPHABET.len()];
+        let c = alphabet[byte as usize % alphabet.len()];
         let at = if bytes.is_empty() {
             0
         } else {
@@ -79,7 +79,13 @@ fn mutate(text: &str, edits: &[(usize, u8, u8)]) -> String {
             _ => bytes.push(c),
         }
     }
-    String::from_utf8_lossy(&bytes).into_owned()
+    bytes
+}
+
+/// [`mutate_with`] with the characters TOML and numbers are made of.
+fn mutate(text: &str, edits: &[(usize, u8, u8)]) -> String {
+    const ALPHABET: &[u8] = b"0123456789.,-+eE\n\"[]=_ aiknfx#";
+    String::from_utf8_lossy(&mutate_with(text, edits, ALPHABET)).into_owned()
 }
 
 proptest! {

@@ -1083,27 +1083,11 @@ mod never_panics {
         }
     }
 
-    /// Applies `edits` (position, action, byte) to `text`.
+    /// [`crate::fuzz::mutate_with`] with the characters CSV rows and
+    /// numbers are made of.
     fn mutate(text: &str, edits: &[(usize, u8, u8)]) -> Vec<u8> {
         const ALPHABET: &[u8] = b"0123456789,.-+eE\n\r\" ainfNx_";
-        let mut bytes = text.as_bytes().to_vec();
-        for &(pos, action, byte) in edits {
-            let c = ALPHABET[byte as usize % ALPHABET.len()];
-            let at = if bytes.is_empty() {
-                0
-            } else {
-                pos % bytes.len()
-            };
-            match action % 3 {
-                0 if !bytes.is_empty() => {
-                    bytes.remove(at);
-                }
-                1 => bytes.insert(at, c),
-                _ if !bytes.is_empty() => bytes[at] = c,
-                _ => bytes.push(c),
-            }
-        }
-        bytes
+        crate::fuzz::mutate_with(text, edits, ALPHABET)
     }
 
     proptest! {
