@@ -28,7 +28,7 @@ use crate::flow::solver::SolveOptions;
 use crate::flow::{PermOptions, PermeabilityReport, permeability_with_fields};
 use crate::geometry::Geometry;
 use crate::network::{Element, Network};
-use crate::params::{ProcessKind, Study};
+use crate::params::{DrainageFaces, ProcessKind, Study};
 use crate::progress::Progress;
 use crate::wettability::ContactAngles;
 use end_points::{ArchieSummary, EndPoints, Fitted, ProcessFits};
@@ -322,7 +322,17 @@ pub fn run_study(network: &Network, study: &Study, progress: &dyn Progress) -> R
                 .as_ref()
                 .and_then(|r| r.water_pressure().map(<[f64]>::to_vec)),
         });
-        profiles.push(recorder.finish(&out.points));
+        let point_profiles = recorder.finish(&out.points);
+        let whole_sw: Vec<f64> = out.points.iter().map(|pt| pt.saturation.sw).collect();
+        let slab_sw: Vec<&[f64]> = point_profiles.iter().map(|pp| &pp.slab_sw[..]).collect();
+        warnings.extend(model_limits::nonuniform_profile(
+            i + 1,
+            p.kind.as_str(),
+            &whole_sw,
+            &slab_sw,
+            engine.drainage_faces() == DrainageFaces::Inlet && p.kind == ProcessKind::Drainage,
+        ));
+        profiles.push(point_profiles);
         outcomes.push(out);
     }
     let end_effects = layout.end_effects(engine.drainage_faces(), &outcomes, &profiles);
