@@ -220,6 +220,18 @@ pub(crate) fn scratch_dir(prefix: &str, name: &str) -> PathBuf {
     dir
 }
 
+/// The names of the entries of `dir`, sorted (unit tests of the `io`
+/// modules).
+#[cfg(test)]
+pub(crate) fn sorted_names(dir: &Path) -> Vec<String> {
+    let mut v: Vec<String> = fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    v.sort();
+    v
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -229,12 +241,7 @@ mod tests {
     }
 
     fn entries(dir: &Path) -> Vec<String> {
-        let mut v: Vec<String> = fs::read_dir(dir)
-            .unwrap()
-            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-            .collect();
-        v.sort();
-        v
+        sorted_names(dir)
     }
 
     #[test]

@@ -639,12 +639,7 @@ mod tests {
     }
 
     fn siblings(dir: &Path) -> Vec<String> {
-        let mut v: Vec<String> = fs::read_dir(dir)
-            .unwrap()
-            .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-            .collect();
-        v.sort();
-        v
+        crate::io::atomic::sorted_names(dir)
     }
 
     #[test]
